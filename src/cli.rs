@@ -1,0 +1,80 @@
+//! Command-line definitions: arguments become options, options go to [`crate::commands`].
+//! No logic lives here.
+
+use clap::{Args, Parser, Subcommand};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+/// Every real rate of return of a deal, certified, typeset into a committee memo.
+#[derive(Debug, Parser)]
+#[command(name = "candor", version, about, long_about = None, propagate_version = true)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Validate deal files and report every problem at once.
+    Check(CheckArgs),
+    /// Find every real IRR and the committee figures, per scenario.
+    Rates(RatesArgs),
+    /// Typeset the committee memo as an archival PDF.
+    Memo(MemoArgs),
+}
+
+/// Options of `candor check`.
+#[derive(Debug, Args)]
+pub struct CheckArgs {
+    /// Deal files to validate.
+    #[arg(required = true, value_name = "DEAL.yaml")]
+    pub files: Vec<PathBuf>,
+    /// Print the diagnostics as JSON on stdout.
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Options of `candor rates`.
+#[derive(Debug, Args)]
+pub struct RatesArgs {
+    /// The deal file to analyse.
+    #[arg(value_name = "DEAL.yaml", required_unless_present = "batch", conflicts_with = "batch")]
+    pub file: Option<PathBuf>,
+    /// Print the analysis as one JSON object on stdout.
+    #[arg(long)]
+    pub json: bool,
+    /// Screen many series: one JSON object a line in, one JSON line out per series.
+    #[arg(long, value_name = "FILE.jsonl")]
+    pub batch: Option<PathBuf>,
+}
+
+/// Options of `candor memo`.
+#[derive(Debug, Args)]
+pub struct MemoArgs {
+    /// The deal file.
+    #[arg(value_name = "DEAL.yaml")]
+    pub file: PathBuf,
+    /// Where to write the PDF (default: the deal's name with `.pdf`, next to the deal file).
+    #[arg(short, long, value_name = "FILE.pdf")]
+    pub output: Option<PathBuf>,
+    /// A folder of templates that replace the built-in house style.
+    #[arg(long, value_name = "DIR")]
+    pub templates: Option<PathBuf>,
+    /// Also write an intermediate form: `--emit typst FILE` writes the generated markup.
+    #[arg(long, num_args = 2, value_names = ["KIND", "FILE"])]
+    pub emit: Option<Vec<String>>,
+}
+
+/// Parses the arguments, runs the command and returns the exit code:
+/// 0 success, 1 invalid input, 2 internal error.
+pub fn run() -> ExitCode {
+    let cli = Cli::parse();
+    let code = match cli.command {
+        Command::Check(args) => crate::commands::check::run(&args),
+        Command::Rates(args) => crate::commands::rates::run(&args),
+        Command::Memo(args) => crate::commands::memo::run(&args),
+    };
+    ExitCode::from(code)
+}

@@ -1,0 +1,14 @@
+//! One module per subcommand. These are the only places that read and write user paths;
+//! each loads bytes, calls the library stages and prints or writes the result.
+
+pub mod check;
+pub mod load;
+pub mod memo;
+pub mod rates;
+
+/// Exit code: everything held.
+pub const EXIT_OK: u8 = 0;
+/// Exit code: the input is invalid (or a verification failed).
+pub const EXIT_INVALID: u8 = 1;
+/// Exit code: candor itself failed (I/O, internal error).
+pub const EXIT_INTERNAL: u8 = 2;

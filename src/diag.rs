@@ -1,0 +1,148 @@
+//! The one diagnostic type every stage uses to report a problem: a stable code, a
+//! message, where it is (file, field path, line and column) and an optional hint.
+//! A result may carry many diagnostics at once.
+
+use serde::Serialize;
+use std::fmt::Write as _;
+
+/// How serious a diagnostic is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Severity {
+    /// The input cannot be used.
+    Error,
+    /// The input can be used, but something deserves a look.
+    Warning,
+}
+
+/// A position in a text file, both counted from 1.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+pub struct Position {
+    /// Line, from 1.
+    pub line: usize,
+    /// Column in characters, from 1.
+    pub column: usize,
+}
+
+/// One problem found by any stage.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Diagnostic {
+    /// Error or warning.
+    pub severity: Severity,
+    /// A stable short code such as `unknown-field`; tests and scripts rely on it.
+    pub code: String,
+    /// What is wrong, in one sentence.
+    pub message: String,
+    /// The file the problem is in, as the user named it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub file: Option<String>,
+    /// The field path inside the deal file, such as `cash_flows.dated[3].date`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub field: Option<String>,
+    /// Where in the file, when known.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub position: Option<Position>,
+    /// A suggestion that helps fix it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub hint: Option<String>,
+}
+
+impl Diagnostic {
+    /// A new error with a code and a message.
+    pub fn error(code: &str, message: impl Into<String>) -> Self {
+        Self {
+            severity: Severity::Error,
+            code: code.to_string(),
+            message: message.into(),
+            file: None,
+            field: None,
+            position: None,
+            hint: None,
+        }
+    }
+
+    /// A new warning with a code and a message.
+    pub fn warning(code: &str, message: impl Into<String>) -> Self {
+        Self {
+            severity: Severity::Warning,
+            ..Self::error(code, message)
+        }
+    }
+
+    /// Names the file.
+    pub fn in_file(mut self, file: impl Into<String>) -> Self {
+        self.file = Some(file.into());
+        self
+    }
+
+    /// Names the field path.
+    pub fn at_field(mut self, field: impl Into<String>) -> Self {
+        self.field = Some(field.into());
+        self
+    }
+
+    /// Sets the position.
+    pub fn at(mut self, line: usize, column: usize) -> Self {
+        self.position = Some(Position { line, column });
+        self
+    }
+
+    /// Adds a hint.
+    pub fn with_hint(mut self, hint: impl Into<String>) -> Self {
+        self.hint = Some(hint.into());
+        self
+    }
+
+    /// Renders the diagnostic for a person: `file:line:column`, the message, the source
+    /// line with a caret under the column, and the hint.
+    pub fn render(&self, source: Option<&str>) -> String {
+        let mut out = String::new();
+        let label = match self.severity {
+            Severity::Error => "error",
+            Severity::Warning => "warning",
+        };
+        let _ = write!(out, "{label}[{}]: {}", self.code, self.message);
+        let mut location = self.file.clone().unwrap_or_default();
+        if let Some(p) = self.position {
+            let _ = write!(location, ":{}:{}", p.line, p.column);
+        }
+        if !location.is_empty() || self.field.is_some() {
+            out.push_str("\n  --> ");
+            out.push_str(&location);
+            if let Some(field) = &self.field {
+                if !location.is_empty() {
+                    out.push_str("  ");
+                }
+                let _ = write!(out, "(field `{field}`)");
+            }
+        }
+        if let (Some(p), Some(src)) = (self.position, source) {
+            if let Some(text) = src.lines().nth(p.line.saturating_sub(1)) {
+                let gutter = p.line.to_string();
+                let pad = " ".repeat(gutter.len());
+                let shown: String = text.chars().map(|c| if c == '\t' { ' ' } else { c }).collect();
+                let _ = write!(out, "\n {pad} |\n {gutter} | {shown}\n {pad} | ");
+                out.push_str(&" ".repeat(p.column.saturating_sub(1)));
+                out.push('^');
+            }
+        }
+        if let Some(hint) = &self.hint {
+            let _ = write!(out, "\n  = hint: {hint}");
+        }
+        out
+    }
+}
+
+impl std::fmt::Display for Diagnostic {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.render(None))
+    }
+}
+
+/// Several diagnostics, in the order they were found.
+pub type Diagnostics = Vec<Diagnostic>;
+
+/// True when any diagnostic in the list is an error.
+pub fn has_errors(diags: &[Diagnostic]) -> bool {
+    diags.iter().any(|d| d.severity == Severity::Error)
+}

@@ -1,0 +1,237 @@
+//! The engine's output: plain data, serialised as the JSON contract of DESIGN.md
+//! (`candor rates --json`) and handed to the chart and report stages.
+//!
+//! Rates are fractions (0.09 = 9%). Money is an exact decimal, serialised as a string.
+
+use rust_decimal::Decimal;
+use serde::Serialize;
+
+/// The analysis of one deal: the base case and every scenario.
+#[derive(Debug, Clone, Serialize)]
+pub struct Analysis {
+    /// Deal name.
+    pub deal: String,
+    /// ISO 4217 currency code.
+    pub currency: String,
+    /// Base case first, then scenarios in file order.
+    pub scenarios: Vec<ScenarioAnalysis>,
+}
+
+/// Every figure for one scenario.
+#[derive(Debug, Clone, Serialize)]
+pub struct ScenarioAnalysis {
+    /// `base` or the scenario's name.
+    pub name: String,
+    /// Annual effective hurdle rate.
+    pub hurdle_rate: f64,
+    /// Annual effective finance rate (MIRR, return on invested capital).
+    pub finance_rate: f64,
+    /// Annual effective reinvestment rate (MIRR).
+    pub reinvestment_rate: f64,
+    /// Periods a year for periodic flows, `None` for dated flows.
+    pub periods_per_year: Option<u32>,
+    /// The netted flows the figures were computed from.
+    pub flows: Vec<FlowRow>,
+    /// Totals of the flows.
+    pub totals: Totals,
+    /// Every real IRR with its certification.
+    pub irr: IrrReport,
+    /// NPV at the hurdle rate, discounted to the series' start, rounded to the cent.
+    pub npv_at_hurdle: Decimal,
+    /// The decision the NPV at the hurdle gives.
+    pub decision: Decision,
+    /// MIRR (annual), when defined (needs at least one inflow and one outflow).
+    pub mirr: Option<f64>,
+    /// Return on invested capital (annual), financing positive balances at the finance rate.
+    pub return_on_invested_capital: Option<f64>,
+    /// Inflows over outflows (undiscounted), when there are outflows.
+    pub money_multiple: Option<Decimal>,
+    /// Present value of inflows over present value of outflows at the hurdle.
+    pub profitability_index: Option<f64>,
+    /// Simple and discounted payback.
+    pub payback: Payback,
+    /// NPV over a range of annual rates, for the profile chart.
+    pub npv_profile: Vec<ProfilePoint>,
+    /// Plain-language cautions generated from the numbers.
+    pub cautions: Vec<Caution>,
+}
+
+/// One netted cash flow.
+#[derive(Debug, Clone, Serialize)]
+pub struct FlowRow {
+    /// Period number (periodic flows).
+    pub period: Option<u32>,
+    /// Date (dated flows, or periodic flows with a start date), ISO 8601.
+    pub date: Option<String>,
+    /// Years since the series' start.
+    pub years: f64,
+    /// Exact amount.
+    pub amount: Decimal,
+    /// Note from the deal file.
+    pub note: Option<String>,
+}
+
+/// Sums of the flows.
+#[derive(Debug, Clone, Serialize)]
+pub struct Totals {
+    /// Sum of positive flows.
+    pub inflows: Decimal,
+    /// Sum of negative flows (a negative number).
+    pub outflows: Decimal,
+    /// Sum of all flows.
+    pub net: Decimal,
+    /// Years from the series' start to the last flow.
+    pub horizon_years: f64,
+}
+
+/// The real IRRs of one series and the certificate of their count.
+#[derive(Debug, Clone, Serialize)]
+pub struct IrrReport {
+    /// Real roots in (-100%, +inf), counted with multiplicity.
+    pub count: u32,
+    /// The sign-change bound (Descartes; Laguerre for real exponents) the count was
+    /// checked against: `count <= upper_bound` and they differ by an even number.
+    pub upper_bound: u32,
+    /// True when the count is proven complete; false means the engine could not decide
+    /// some interval and says so in `unresolved`.
+    pub certified: bool,
+    /// The individual sign-change bounds.
+    pub bounds: SignBounds,
+    /// How the count was certified, in a sentence.
+    pub method: String,
+    /// The roots, from the lowest rate to the highest.
+    pub roots: Vec<Root>,
+    /// Annual-rate intervals that could not be decided (empty when certified).
+    pub unresolved: Vec<[f64; 2]>,
+    /// For a series with no real IRR: the rate-based reading from a complex root.
+    pub complex_reading: Option<ComplexReading>,
+}
+
+/// Sign-change bounds on the number of IRRs.
+#[derive(Debug, Clone, Serialize)]
+pub struct SignBounds {
+    /// Sign changes of the flows: bounds all IRRs in (-100%, +inf).
+    pub descartes: u32,
+    /// Sign changes of the forward cumulative sums (Norstrom): bounds IRRs above 0%,
+    /// `None` when the flows sum to zero (0% is then a root and the criterion is silent).
+    pub above_zero: Option<u32>,
+    /// Sign changes of the backward cumulative sums: bounds IRRs in (-100%, 0%).
+    pub below_zero: Option<u32>,
+}
+
+/// One real IRR.
+#[derive(Debug, Clone, Serialize)]
+pub struct Root {
+    /// Annual effective rate; `None` only when it is too large for a binary float
+    /// (see `log10_annual_growth`).
+    pub annual_rate: Option<f64>,
+    /// Rate per period for periodic flows.
+    pub periodic_rate: Option<f64>,
+    /// log10(1 + annual rate): finite for every root, however extreme.
+    pub log10_annual_growth: f64,
+    /// 1 for a simple root, 2 for a double root, ...
+    pub multiplicity: u32,
+    /// Certified to contain the root (annual rate).
+    pub interval: [f64; 2],
+    /// Balance-path classification at this rate.
+    pub balance_kind: BalanceKind,
+    /// Net investment or net borrowing at the hurdle (Hazen).
+    pub stance: Stance,
+    /// Accept or reject by this root and its stance; agrees with the NPV at the hurdle.
+    pub decision: Decision,
+    /// True when the root describes no economic reality (near -100% or astronomically large).
+    pub extreme: bool,
+    /// The balance path at this rate, one row per flow.
+    pub balance_path: Vec<BalanceRow>,
+}
+
+/// One step of a balance path.
+#[derive(Debug, Clone, Serialize)]
+pub struct BalanceRow {
+    /// Years since the series' start.
+    pub years: f64,
+    /// The flow at this time.
+    pub flow: Decimal,
+    /// Balance after the flow, rounded to the cent (negative: the project owes the investor).
+    pub balance: Decimal,
+}
+
+/// Balance-path classification (Teichroew, Robichek and Montalbano).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum BalanceKind {
+    /// The project never owes the investor: a return on capital tied up.
+    PureInvestment,
+    /// The balance changes sign.
+    Mixed,
+    /// The investor is the borrower throughout.
+    PureBorrowing,
+}
+
+/// Net investment or net borrowing at the hurdle rate for a given IRR (Hazen).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Stance {
+    /// The capital stream has positive present value: accept when IRR > hurdle.
+    Investment,
+    /// Negative present value: the investor borrows; accept when IRR < hurdle.
+    Borrowing,
+    /// The stream's present value is zero (the IRR equals the hurdle).
+    Neutral,
+}
+
+/// Accept or reject.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Decision {
+    /// Adds value at the hurdle.
+    Accept,
+    /// Destroys value at the hurdle.
+    Reject,
+    /// Exactly break-even at the hurdle.
+    Indifferent,
+}
+
+/// The reading from a complex IRR when there is no real one (Hazen).
+#[derive(Debug, Clone, Serialize)]
+pub struct ComplexReading {
+    /// Real part of the complex rate per year.
+    pub real_rate: f64,
+    /// Imaginary part.
+    pub imaginary_rate: f64,
+    /// Stance from the real part of the capital stream's present value.
+    pub stance: Stance,
+    /// Accept when (investment and real part > hurdle) or (borrowing and real part < hurdle).
+    pub decision: Decision,
+}
+
+/// Payback figures, in years since the series' start.
+#[derive(Debug, Clone, Serialize)]
+pub struct Payback {
+    /// First time the cumulative undiscounted flows reach zero or more, interpolated.
+    pub simple_years: Option<f64>,
+    /// The same with flows discounted at the hurdle.
+    pub discounted_years: Option<f64>,
+    /// True when the cumulative position turns negative again after the simple payback.
+    pub turns_negative_again: bool,
+}
+
+/// One point of the NPV profile.
+#[derive(Debug, Clone, Serialize)]
+pub struct ProfilePoint {
+    /// Annual rate.
+    pub rate: f64,
+    /// NPV at that rate (currency units, binary float; for drawing only).
+    pub npv: f64,
+}
+
+/// A plain-language caution.
+#[derive(Debug, Clone, Serialize)]
+pub struct Caution {
+    /// Stable code, such as `multiple-irr`.
+    pub code: String,
+    /// A short title for the caution box.
+    pub title: String,
+    /// The paragraph a committee member reads, with the deal's own numbers.
+    pub text: String,
+}

@@ -1,0 +1,69 @@
+//! The engine's input: one series of exact cash flows on an integer clock.
+
+use chrono::NaiveDate;
+use rust_decimal::Decimal;
+use serde::Serialize;
+
+/// One cash flow. Its time is `offset / Flows::units_per_year` years after the
+/// series' start (offset 0: period 0, or the earliest dated flow).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct FlowPoint {
+    /// Time since the first flow in clock units (periods, days, or day-count units).
+    pub offset: i64,
+    /// Exact amount in currency units; negative is money paid by the investor.
+    pub amount: Decimal,
+    /// Calendar date, when the flow has one (dated flows, or periodic with `start`).
+    pub date: Option<NaiveDate>,
+    /// Period number for periodic flows (0 for the first amount).
+    pub period: Option<u32>,
+    /// Free text from the deal file, if any.
+    pub note: Option<String>,
+}
+
+/// A series of cash flows on an integer clock: times are exact rationals
+/// `offset / units_per_year` years, so the NPV is a sparse polynomial in
+/// `(1 + r)^(-1 / units_per_year)` and sign-change bounds apply exactly.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct Flows {
+    /// Flows in time order; flows at the same offset are netted and zero flows dropped
+    /// by [`Flows::normalised`].
+    pub points: Vec<FlowPoint>,
+    /// Clock units per year: periods a year for periodic flows (1, 2, 4, 12, 52, 365),
+    /// or the day-count denominator for dated flows (365, 360, 133590 for act/act-isda).
+    pub units_per_year: u64,
+    /// Periods a year when the flows are periodic; `None` for dated flows.
+    pub periods_per_year: Option<u32>,
+}
+
+impl Flows {
+    /// The same flows sorted by offset, with flows at one offset netted (notes joined
+    /// with "; ") and zero flows dropped, as the sign-change counts require.
+    pub fn normalised(&self) -> Flows {
+        let mut pts = self.points.clone();
+        pts.sort_by_key(|p| p.offset);
+        let mut out: Vec<FlowPoint> = Vec::with_capacity(pts.len());
+        for p in pts {
+            match out.last_mut() {
+                Some(last) if last.offset == p.offset => {
+                    last.amount += p.amount;
+                    last.note = match (last.note.take(), p.note) {
+                        (Some(a), Some(b)) => Some(format!("{a}; {b}")),
+                        (a, b) => a.or(b),
+                    };
+                }
+                _ => out.push(p),
+            }
+        }
+        out.retain(|p| !p.amount.is_zero());
+        Flows {
+            points: out,
+            units_per_year: self.units_per_year,
+            periods_per_year: self.periods_per_year,
+        }
+    }
+
+    /// Years from offset 0 (the series' start, to which NPVs are discounted) to point `i`.
+    pub fn years(&self, i: usize) -> f64 {
+        self.points[i].offset as f64 / self.units_per_year as f64
+    }
+}

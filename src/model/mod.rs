@@ -1,0 +1,155 @@
+//! The validated deal. A [`Deal`] can only be built by [`validate`], so an invalid deal
+//! cannot exist: money is exact, rates are checked, flows are resolved per scenario.
+
+use crate::engine::Flows;
+use chrono::NaiveDate;
+use rust_decimal::Decimal;
+use serde::Serialize;
+
+pub mod daycount;
+
+pub use daycount::DayCount;
+
+/// A validated deal.
+#[derive(Debug, Clone, Serialize)]
+pub struct Deal {
+    /// Deal name.
+    pub name: String,
+    /// ISO 4217 code.
+    pub currency: String,
+    /// As-of date.
+    pub as_of: NaiveDate,
+    /// Annual effective rates.
+    pub rates: Rates,
+    /// How the flows are timed.
+    pub clock: Clock,
+    /// The base case first (named `base`), then each scenario in file order.
+    pub scenarios: Vec<Scenario>,
+    /// Narrative for the memo.
+    pub memo: Memo,
+    /// Sign-off block.
+    pub signoff: Option<Signoff>,
+}
+
+/// Annual effective rates, exact.
+#[derive(Debug, Clone, Copy, Serialize)]
+pub struct Rates {
+    /// Hurdle rate.
+    pub hurdle: Decimal,
+    /// Finance rate (defaults to the hurdle).
+    pub finance: Decimal,
+    /// Reinvestment rate (defaults to the hurdle).
+    pub reinvestment: Decimal,
+}
+
+/// How the flows are timed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case", tag = "kind")]
+pub enum Clock {
+    /// Equal periods.
+    Periodic {
+        /// Period length.
+        every: Frequency,
+        /// Date of period 0, if given.
+        start: Option<NaiveDate>,
+    },
+    /// Dated flows with a day count.
+    Dated {
+        /// Day-count convention.
+        day_count: DayCount,
+    },
+}
+
+/// Period length for periodic flows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Frequency {
+    /// 1 a year.
+    Year,
+    /// 2 a year.
+    HalfYear,
+    /// 4 a year.
+    Quarter,
+    /// 12 a year.
+    Month,
+    /// 52 a year (common practice).
+    Week,
+    /// 365 a year (common practice).
+    Day,
+}
+
+impl Frequency {
+    /// Periods a year.
+    pub fn per_year(self) -> u32 {
+        match self {
+            Frequency::Year => 1,
+            Frequency::HalfYear => 2,
+            Frequency::Quarter => 4,
+            Frequency::Month => 12,
+            Frequency::Week => 52,
+            Frequency::Day => 365,
+        }
+    }
+
+    /// The word used in deal files.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Frequency::Year => "year",
+            Frequency::HalfYear => "half-year",
+            Frequency::Quarter => "quarter",
+            Frequency::Month => "month",
+            Frequency::Week => "week",
+            Frequency::Day => "day",
+        }
+    }
+}
+
+/// One scenario: a name and its resolved flows.
+#[derive(Debug, Clone, Serialize)]
+pub struct Scenario {
+    /// `base`, or the scenario's key in the deal file.
+    pub name: String,
+    /// What was changed, in words (empty for the base case).
+    pub description: String,
+    /// The flows, netted by date, on the deal's clock.
+    pub flows: Flows,
+}
+
+/// Narrative passed through to the memo.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct Memo {
+    /// Recommendation.
+    pub recommendation: Option<String>,
+    /// Summary.
+    pub summary: Option<String>,
+    /// Risks, one per item.
+    pub risks: Vec<String>,
+}
+
+/// Sign-off block.
+#[derive(Debug, Clone, Serialize)]
+pub struct Signoff {
+    /// Who prepared the memo.
+    pub prepared_by: Option<String>,
+    /// Who reviewed it.
+    pub reviewed_by: Option<String>,
+    /// The committee's decision.
+    pub decision: SignoffDecision,
+}
+
+/// The committee's decision.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum SignoffDecision {
+    /// Not decided yet.
+    Pending,
+    /// Approved.
+    Approved,
+    /// Declined.
+    Declined,
+    /// Deferred.
+    Deferred,
+}
+
+/// Validates a raw deal.
+pub fn validate() {}

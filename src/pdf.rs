@@ -1,0 +1,4 @@
+//! Typst markup to an archival PDF.
+
+/// Typesets the markup.
+pub fn typeset() {}
