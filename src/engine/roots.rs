@@ -1,0 +1,991 @@
+//! Every real root of the NPV, with a certified count.
+//!
+//! With flows `C_k` at integer clock offsets, the offsets shifted to start at zero and
+//! divided by their greatest common divisor give integer exponents `n_k`, and
+//! `f(y) = sum C_k exp(-y n_k)` with `y = ln(1 + rate per step)` has exactly the IRRs
+//! as roots, over the whole real line (rates in (-100%, +inf)). The search works in `y`,
+//! so rates near -100% and astronomically large rates are ordinary finite numbers.
+//!
+//! Certification. Every sign that decides a root is taken from an evaluation that
+//! carries a rigorous floating-point error bound (terms are accumulated as separate
+//! positive and negative sums, each term's relative error bounded by the number of
+//! roundings that produced it). On an interval, each derivative of `f` is enclosed by
+//! its decreasing positive and negative parts. An interval is settled when:
+//! the enclosure of `f` excludes zero (no root); or that of `f'` does (monotone: one
+//! root exactly when the end signs differ); or that of `f''` does (convex or concave:
+//! the extremum decides 0, 1 double or 2 roots); or a multiple root is proven exactly
+//! at a short decimal rate with big-integer arithmetic and the next derivative's
+//! enclosure excludes zero (Rolle). Norstrom's cumulative-sum counts settle the half
+//! lines above and below 0% outright when they are 0 or 1. The total is finally checked
+//! against the Descartes/Laguerre bound and its parity. Anything left undecided is
+//! reported as such and the count is then not certified.
+
+use num_bigint::BigInt;
+use num_traits::{One, Zero};
+use rust_decimal::prelude::*;
+
+/// Derivative orders carried by every point evaluation (0 ..= 4).
+const ORDERS: usize = 5;
+/// Unit roundoff of f64.
+const EPS: f64 = f64::EPSILON * 0.5;
+/// Point evaluations allowed per series before giving up (keeps the search finite).
+const EVAL_BUDGET: usize = 40_000;
+/// Largest exponent for exact big-integer checks of multiple roots.
+const EXACT_DEGREE_LIMIT: u64 = 4_000;
+
+/// One real root of `f`, in `y = ln(1 + rate per step)`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FoundRoot {
+    /// Lower end of an interval certified to contain the root.
+    pub lo: f64,
+    /// Upper end.
+    pub hi: f64,
+    /// Best estimate.
+    pub y: f64,
+    /// Multiplicity (1 simple, 2 double, ...).
+    pub multiplicity: u32,
+    /// The exact rate per step when the root was proven exactly (multiple roots, 0%).
+    pub exact_rate: Option<Decimal>,
+}
+
+/// The outcome of the search for one series.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RootSet {
+    /// Roots from the lowest to the highest.
+    pub roots: Vec<FoundRoot>,
+    /// True when the count is proven complete.
+    pub certified: bool,
+    /// Intervals in `y` that could not be decided.
+    pub unresolved: Vec<(f64, f64)>,
+    /// Sign changes of the flows (Descartes/Laguerre bound).
+    pub descartes: u32,
+    /// Sign changes of forward cumulative sums (bound above 0%), when the sum is not zero.
+    pub above_zero: Option<u32>,
+    /// Sign changes of backward cumulative sums (bound below 0%), when the sum is not zero.
+    pub below_zero: Option<u32>,
+    /// Years in one step of `y` (the gcd of the offsets over units a year).
+    pub step_years: f64,
+    /// Clock units in one step (the gcd of the offsets).
+    pub step_units: u64,
+    /// Point evaluations used.
+    pub evaluations: usize,
+}
+
+impl RootSet {
+    /// Number of roots counted with multiplicity.
+    pub fn count(&self) -> u32 {
+        self.roots.iter().map(|r| r.multiplicity).sum()
+    }
+}
+
+/// The series prepared for evaluation.
+struct Series {
+    /// Coefficients as f64 (rounded once from the exact decimals).
+    c: Vec<f64>,
+    /// Exponents `n_k` as f64 (exact: integers below 2^53).
+    n: Vec<f64>,
+    /// Exponents as integers.
+    n_int: Vec<u64>,
+    /// Exact coefficients as integers at a common decimal scale.
+    exact: Vec<BigInt>,
+    /// Index into `gap_vals` of the gap before term k (k >= 1).
+    gap_idx: Vec<usize>,
+    /// The distinct gaps between consecutive exponents.
+    gap_vals: Vec<f64>,
+    /// Precomputed n_k^d for d in 0..ORDERS.
+    npow: Vec<[f64; ORDERS]>,
+    /// Sum of |c_k|.
+    abs_sum: f64,
+}
+
+/// One point evaluation: the positive and negative parts of `f^(d)` scaled by a
+/// positive factor that depends only on `y` and the side (so signs are exact), with
+/// error bounds.
+#[derive(Debug, Clone, Copy)]
+struct Point {
+    y: f64,
+    /// Sum over positive coefficients of c_k n_k^d w_k.
+    a: [f64; ORDERS],
+    /// Sum over negative coefficients of |c_k| n_k^d w_k.
+    b: [f64; ORDERS],
+    /// Error bounds of a and b together.
+    err: [f64; ORDERS],
+}
+
+impl Point {
+    /// Positive and negative parts of the d-th derivative (sign (-1)^d folded in).
+    fn parts(&self, d: usize) -> (f64, f64) {
+        if d % 2 == 0 {
+            (self.a[d], self.b[d])
+        } else {
+            (self.b[d], self.a[d])
+        }
+    }
+
+    /// Certified sign of f^(d) at this point: Some(+1/-1), or None when within error.
+    fn sign(&self, d: usize) -> Option<i8> {
+        let (p, m) = self.parts(d);
+        let v = p - m;
+        if v.abs() > self.err[d] + 2.0 * EPS * (p + m) {
+            Some(if v > 0.0 { 1 } else { -1 })
+        } else {
+            None
+        }
+    }
+
+    /// Value of the scaled f^(d) (for Newton steps only).
+    fn value(&self, d: usize) -> f64 {
+        let (p, m) = self.parts(d);
+        p - m
+    }
+}
+
+/// Which side of 0 an interval lies on; it fixes the scaling of evaluations.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Side {
+    /// y >= 0: terms scaled by 1 (all factors exp(-y n) <= 1).
+    Upper,
+    /// y <= 0: terms scaled by exp(y n_K) (all factors <= 1).
+    Lower,
+}
+
+struct Solver<'a> {
+    s: &'a Series,
+    evals: usize,
+    cache: Vec<(u64, Side, Point)>,
+}
+
+impl Series {
+    fn new(amounts: &[Decimal], exps: &[u64]) -> Series {
+        let c: Vec<f64> = amounts.iter().map(|a| a.to_f64().unwrap_or(0.0)).collect();
+        let n: Vec<f64> = exps.iter().map(|&e| e as f64).collect();
+        let scale = amounts.iter().map(|a| a.scale()).max().unwrap_or(0);
+        let exact = amounts
+            .iter()
+            .map(|a| {
+                let mut m = BigInt::from(a.mantissa());
+                for _ in a.scale()..scale {
+                    m *= 10;
+                }
+                m
+            })
+            .collect();
+        let mut gap_vals: Vec<f64> = Vec::new();
+        let mut gap_idx = vec![0usize; exps.len()];
+        for k in 1..exps.len() {
+            let g = (exps[k] - exps[k - 1]) as f64;
+            let idx = match gap_vals.iter().position(|&v| v == g) {
+                Some(i) => i,
+                None => {
+                    gap_vals.push(g);
+                    gap_vals.len() - 1
+                }
+            };
+            gap_idx[k] = idx;
+        }
+        let npow = n
+            .iter()
+            .map(|&x| {
+                let mut p = [1.0; ORDERS];
+                for d in 1..ORDERS {
+                    p[d] = p[d - 1] * x;
+                }
+                p
+            })
+            .collect();
+        let abs_sum = c.iter().map(|x| x.abs()).sum();
+        Series {
+            c,
+            n,
+            n_int: exps.to_vec(),
+            exact,
+            gap_idx,
+            gap_vals,
+            npow,
+            abs_sum,
+        }
+    }
+
+    fn last_n(&self) -> f64 {
+        *self.n.last().unwrap_or(&0.0)
+    }
+
+    /// Evaluates every derivative order at `y` with the scaling of `side`.
+    fn eval(&self, y: f64, side: Side) -> Point {
+        let k_len = self.c.len();
+        let mut a = [0.0; ORDERS];
+        let mut b = [0.0; ORDERS];
+        let mut ea = [0.0; ORDERS];
+        // Factors exp(-y * gap) (Upper) or exp(y * gap) (Lower), each <= 1.
+        let mut z = [0.0f64; 64];
+        let zs: Vec<f64>;
+        let factors: &[f64] = if self.gap_vals.len() <= 64 {
+            for (i, g) in self.gap_vals.iter().enumerate() {
+                z[i] = match side {
+                    Side::Upper => (-y * g).exp(),
+                    Side::Lower => (y * g).exp(),
+                };
+            }
+            &z[..self.gap_vals.len()]
+        } else {
+            zs = self
+                .gap_vals
+                .iter()
+                .map(|g| match side {
+                    Side::Upper => (-y * g).exp(),
+                    Side::Lower => (y * g).exp(),
+                })
+                .collect();
+            &zs
+        };
+        let base = match side {
+            Side::Upper => 0.0,
+            Side::Lower => self.last_n(),
+        };
+        let ay = y.abs();
+        let mut w = 1.0f64;
+        let mut accumulate = |k: usize, w: f64, steps: usize| {
+            let t = self.c[k] * w;
+            // Relative error of this term: one rounding per multiplication and per exp,
+            // plus the rounding of the exponent y*gap carried through (2x safety).
+            let rel = EPS * (2.0 * (2 * steps + ORDERS + 4) as f64 + 2.0 * ay * (self.n[k] - base).abs());
+            let np = &self.npow[k];
+            if t >= 0.0 {
+                for d in 0..ORDERS {
+                    let v = t * np[d];
+                    a[d] += v;
+                    ea[d] += v * rel;
+                }
+            } else {
+                for d in 0..ORDERS {
+                    let v = -t * np[d];
+                    b[d] += v;
+                    ea[d] += v * rel;
+                }
+            }
+        };
+        match side {
+            Side::Upper => {
+                for k in 0..k_len {
+                    if k > 0 {
+                        w *= factors[self.gap_idx[k]];
+                    }
+                    accumulate(k, w, k);
+                }
+            }
+            Side::Lower => {
+                for k in (0..k_len).rev() {
+                    if k + 1 < k_len {
+                        w *= factors[self.gap_idx[k + 1]];
+                    }
+                    accumulate(k, w, k_len - 1 - k);
+                }
+            }
+        }
+        let mut err = [0.0; ORDERS];
+        for d in 0..ORDERS {
+            // Summation error of two sums of non-negative terms, plus a floor for
+            // underflowed terms and for the one rounding of each coefficient.
+            err[d] = ea[d]
+                + (k_len as f64 + 2.0) * 2.0 * EPS * (a[d] + b[d])
+                + 1e-290 * self.abs_sum * self.npow.last().map_or(1.0, |p| p[d]);
+        }
+        Point { y, a, b, err }
+    }
+}
+
+impl<'a> Solver<'a> {
+    fn point(&mut self, y: f64, side: Side) -> Point {
+        let key = y.to_bits();
+        if let Some((_, _, p)) = self.cache.iter().rev().take(64).find(|(k, s, _)| *k == key && *s == side) {
+            return *p;
+        }
+        self.evals += 1;
+        let p = self.s.eval(y, side);
+        self.cache.push((key, side, p));
+        if self.cache.len() > 256 {
+            self.cache.drain(..128);
+        }
+        p
+    }
+
+    fn exhausted(&self) -> bool {
+        self.evals > EVAL_BUDGET
+    }
+
+    /// Encloses f^(d) over [a, b] (same side); returns (lo, hi) in the scale of `a`.
+    fn enclose(&mut self, a: f64, b: f64, side: Side, d: usize) -> (f64, f64) {
+        let pa = self.point(a, side);
+        let pb = self.point(b, side);
+        let (pos_a, neg_a) = pa.parts(d);
+        let (pos_b, neg_b) = pb.parts(d);
+        let (factor, ferr) = match side {
+            Side::Upper => (1.0, 0.0),
+            Side::Lower => {
+                let arg = (a - b) * self.s.last_n();
+                (arg.exp(), 4.0 * EPS * (1.0 + arg.abs()))
+            }
+        };
+        let e = pa.err[d] + pb.err[d] * factor * (1.0 + ferr) + (pos_b + neg_b) * factor * ferr;
+        let lo = pos_b * factor - neg_a;
+        let hi = pos_a - neg_b * factor;
+        let slack = 4.0 * EPS * (pos_a + neg_a + (pos_b + neg_b) * factor);
+        (lo - e - slack, hi + e + slack)
+    }
+
+    /// Factor turning values in the scale of `from` into the scale of `to` (Lower side
+    /// values carry exp(y n_K)).
+    fn rescale(&self, from: f64, to: f64, side: Side) -> f64 {
+        match side {
+            Side::Upper => 1.0,
+            Side::Lower => ((to - from) * self.s.last_n()).exp(),
+        }
+    }
+
+    /// Encloses f^(d) over [a, b] by a Taylor form around the midpoint: the value and
+    /// slope there (with their error bounds) and an enclosure of f^(d+2) (or the mean
+    /// value form with f^(d+1)). Far tighter than [`Solver::enclose`] when the positive
+    /// and negative parts nearly cancel. Returns bounds in the scale of the midpoint.
+    fn enclose_taylor(&mut self, a: f64, b: f64, side: Side, d: usize) -> Option<(f64, f64)> {
+        if d + 1 >= ORDERS {
+            return None;
+        }
+        let m = 0.5 * (a + b);
+        let h = 0.5 * (b - a);
+        let pm = self.point(m, side);
+        let conv = self.rescale(a, m, side) * (1.0 + 8.0 * EPS * (1.0 + ((m - a) * self.s.last_n()).abs()));
+        let v = pm.value(d);
+        let ev = pm.err[d] + 4.0 * EPS * (pm.a[d] + pm.b[d]);
+        let (lo, hi) = if d + 2 < ORDERS {
+            let sl = pm.value(d + 1);
+            let es = pm.err[d + 1] + 4.0 * EPS * (pm.a[d + 1] + pm.b[d + 1]);
+            let (clo, chi) = self.enclose(a, b, side, d + 2);
+            let reach = (sl.abs() + es) * h;
+            let lo = v - ev - reach + (clo * conv).min(0.0) * h * h * 0.5;
+            let hi = v + ev + reach + (chi * conv).max(0.0) * h * h * 0.5;
+            (lo, hi)
+        } else {
+            let (dlo, dhi) = self.enclose(a, b, side, d + 1);
+            let reach = dlo.abs().max(dhi.abs()) * conv * h;
+            (v - ev - reach, v + ev + reach)
+        };
+        let slack = 4.0 * EPS * (lo.abs() + hi.abs());
+        Some((lo - slack, hi + slack))
+    }
+
+    /// The sign f^(d) keeps over all of [a, b], when one of the enclosures proves it.
+    fn sign_over(&mut self, a: f64, b: f64, side: Side, d: usize) -> Option<i8> {
+        let decide = |lo: f64, hi: f64| {
+            if lo > 0.0 {
+                Some(1)
+            } else if hi < 0.0 {
+                Some(-1)
+            } else {
+                None
+            }
+        };
+        let (lo, hi) = self.enclose(a, b, side, d);
+        decide(lo, hi).or_else(|| self.enclose_taylor(a, b, side, d).and_then(|(lo, hi)| decide(lo, hi)))
+    }
+
+    fn excludes_zero(&mut self, a: f64, b: f64, side: Side, d: usize) -> bool {
+        self.sign_over(a, b, side, d).is_some()
+    }
+
+    /// Narrows a bracket [lo, hi] of f^(d) with certified opposite end signs to a tight
+    /// certified interval around its single root (safeguarded Newton plus bisection).
+    fn refine(&mut self, d: usize, mut lo: f64, mut hi: f64, side: Side, sign_lo: i8) -> (f64, f64, f64) {
+        let mut guess = 0.5 * (lo + hi);
+        for _ in 0..200 {
+            if self.exhausted() {
+                break;
+            }
+            let width = hi - lo;
+            if width <= 4.0 * f64::EPSILON * lo.abs().max(hi.abs()).max(1e-300) {
+                break;
+            }
+            let mid = if guess > lo && guess < hi { guess } else { 0.5 * (lo + hi) };
+            let p = self.point(mid, side);
+            match p.sign(d) {
+                Some(s) if s == sign_lo => lo = mid,
+                Some(_) => hi = mid,
+                None => {
+                    // Inside the error band: tighten from both sides around it, and go
+                    // on bisecting if that left the root on one side of the band.
+                    let (l2, h2) = self.tighten(d, lo, hi, mid, side, sign_lo);
+                    let stuck = l2 <= mid && h2 >= mid;
+                    lo = l2;
+                    hi = h2;
+                    if stuck {
+                        return (lo, hi, 0.5 * (lo + hi));
+                    }
+                    guess = 0.5 * (lo + hi);
+                    continue;
+                }
+            }
+            let slope = p.value(d + 1);
+            let newton = if slope != 0.0 { mid - p.value(d) / slope } else { f64::NAN };
+            // Fall back to bisection when Newton leaves the bracket or stalls.
+            guess = if newton.is_finite() && newton > lo && newton < hi && (newton - mid).abs() < 0.5 * width {
+                newton
+            } else {
+                0.5 * (lo + hi)
+            };
+        }
+        (lo, hi, 0.5 * (lo + hi))
+    }
+
+    /// The sign at `mid` is uncertain: walk outwards from it to the nearest points on
+    /// either side whose signs are certain, keeping inside [lo, hi].
+    fn tighten(&mut self, d: usize, lo: f64, hi: f64, mid: f64, side: Side, sign_lo: i8) -> (f64, f64) {
+        let mut new_lo = lo;
+        let mut new_hi = hi;
+        let mut step = 8.0 * f64::EPSILON * mid.abs().max(1e-300);
+        while mid - step > lo {
+            match self.point(mid - step, side).sign(d) {
+                Some(s) if s == sign_lo => {
+                    new_lo = mid - step;
+                    break;
+                }
+                Some(_) => {
+                    new_hi = new_hi.min(mid - step);
+                    break;
+                }
+                None => step *= 4.0,
+            }
+        }
+        let mut step = 8.0 * f64::EPSILON * mid.abs().max(1e-300);
+        while mid + step < new_hi {
+            match self.point(mid + step, side).sign(d) {
+                Some(s) if s != sign_lo => {
+                    new_hi = mid + step;
+                    break;
+                }
+                Some(_) => {
+                    new_lo = new_lo.max(mid + step);
+                    break;
+                }
+                None => step *= 4.0,
+            }
+        }
+        (new_lo, new_hi)
+    }
+}
+
+/// Sign changes in a sequence, ignoring zeros.
+fn sign_changes(values: impl Iterator<Item = Decimal>) -> u32 {
+    let mut last = 0i8;
+    let mut changes = 0;
+    for v in values {
+        let s = if v.is_sign_positive() && !v.is_zero() {
+            1
+        } else if v.is_zero() {
+            0
+        } else {
+            -1
+        };
+        if s != 0 {
+            if last != 0 && s != last {
+                changes += 1;
+            }
+            last = s;
+        }
+    }
+    changes
+}
+
+fn gcd(a: u64, b: u64) -> u64 {
+    if b == 0 {
+        a
+    } else {
+        gcd(b, a % b)
+    }
+}
+
+/// Sign-change bounds of a netted series: (Descartes, above 0%, below 0%).
+pub fn sign_bounds(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
+    let v = sign_changes(amounts.iter().copied());
+    let mut fwd = Vec::with_capacity(amounts.len());
+    let mut acc = Decimal::ZERO;
+    let mut overflow = false;
+    for a in amounts {
+        match acc.checked_add(*a) {
+            Some(x) => acc = x,
+            None => overflow = true,
+        }
+        fwd.push(acc);
+    }
+    if overflow || acc.is_zero() {
+        return (v, None, None);
+    }
+    let mut bwd = Vec::with_capacity(amounts.len());
+    let mut acc2 = Decimal::ZERO;
+    for a in amounts.iter().rev() {
+        acc2 += *a;
+        bwd.push(acc2);
+    }
+    (v, Some(sign_changes(fwd.into_iter())), Some(sign_changes(bwd.into_iter())))
+}
+
+/// Finds every real root of `sum amounts[k] * x^(-offsets[k] / units)` in `y = ln x`
+/// per step (the gcd of the offsets). `offsets` must be strictly increasing and the
+/// amounts non-zero (see [`crate::engine::Flows::normalised`]).
+pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> RootSet {
+    let (descartes, above_zero, below_zero) = sign_bounds(amounts);
+    let first = offsets.first().copied().unwrap_or(0);
+    let rel: Vec<u64> = offsets.iter().map(|&o| (o - first).max(0) as u64).collect();
+    let g = rel.iter().fold(0u64, |acc, &x| gcd(acc, x)).max(1);
+    let exps: Vec<u64> = rel.iter().map(|&x| x / g).collect();
+    let mut out = RootSet {
+        roots: Vec::new(),
+        certified: true,
+        unresolved: Vec::new(),
+        descartes,
+        above_zero,
+        below_zero,
+        step_years: g as f64 / units_per_year.max(1) as f64,
+        step_units: g,
+        evaluations: 0,
+    };
+    if descartes == 0 || amounts.len() < 2 {
+        return out;
+    }
+    let series = Series::new(amounts, &exps);
+    let mut solver = Solver {
+        s: &series,
+        evals: 0,
+        cache: Vec::new(),
+    };
+
+    // Bracket: beyond these the first (resp. last) term dominates all others.
+    let c0 = series.c[0].abs();
+    let ck = series.c[series.c.len() - 1].abs();
+    let rest_hi: f64 = series.abs_sum - c0;
+    let rest_lo: f64 = series.abs_sum - ck;
+    let n1 = series.n[1];
+    let gap_last = series.last_n() - series.n[series.n.len() - 2];
+    let y_hi = ((rest_hi / c0).ln().max(0.0) / n1 + 1.0) * 1.01 + 1.0 / n1;
+    let y_lo = -(((rest_lo / ck).ln().max(0.0) / gap_last + 1.0) * 1.01 + 1.0 / gap_last);
+
+    let total: Decimal = amounts.iter().sum();
+    let zero_is_root = total.is_zero();
+    let mut zero_root: Option<FoundRoot> = None;
+    // Half-lines to search: (lo, hi, side, known count if a Norstrom bound settles it).
+    let mut halves: Vec<(f64, f64, Side, Option<u32>)> = Vec::new();
+    if zero_is_root {
+        let m = exact_multiplicity(&series, &BigInt::one(), &BigInt::one()).unwrap_or(1);
+        zero_root = Some(FoundRoot {
+            lo: 0.0,
+            hi: 0.0,
+            y: 0.0,
+            multiplicity: m,
+            exact_rate: Some(Decimal::ZERO),
+        });
+        // Keep away from the multiple root at 0 by a neighbourhood where f^(m) has a
+        // fixed sign (Rolle: no other root there).
+        let mut delta = 1e-3 / series.last_n().max(1.0);
+        let mut found = false;
+        for _ in 0..60 {
+            if m as usize >= ORDERS {
+                break;
+            }
+            let upper_ok = solver.excludes_zero(0.0, delta, Side::Upper, m as usize)
+                && solver.point(delta, Side::Upper).sign(0).is_some();
+            let lower_ok = solver.excludes_zero(-delta, 0.0, Side::Lower, m as usize)
+                && solver.point(-delta, Side::Lower).sign(0).is_some();
+            if upper_ok && lower_ok {
+                found = true;
+                break;
+            }
+            delta *= 0.5;
+        }
+        if !found {
+            out.certified = false;
+            out.unresolved.push((-delta, delta));
+        }
+        halves.push((y_lo, -delta, Side::Lower, None));
+        halves.push((delta, y_hi, Side::Upper, None));
+    } else {
+        let count_above = above_zero.filter(|&n| n <= 1);
+        let count_below = below_zero.filter(|&n| n <= 1);
+        halves.push((y_lo, 0.0, Side::Lower, count_below));
+        halves.push((0.0, y_hi, Side::Upper, count_above));
+    }
+
+    let mut roots: Vec<FoundRoot> = Vec::new();
+    for (lo, hi, side, known) in halves {
+        if lo >= hi {
+            continue;
+        }
+        let sl = solver.point(lo, side).sign(0);
+        let sh = solver.point(hi, side).sign(0);
+        match (known, sl, sh) {
+            (Some(0), _, _) => {}
+            (Some(1), Some(a), Some(b)) if a != b => {
+                let (l, h, y) = solver.refine(0, lo, hi, side, a);
+                roots.push(FoundRoot {
+                    lo: l,
+                    hi: h,
+                    y,
+                    multiplicity: 1,
+                    exact_rate: None,
+                });
+            }
+            _ => search(&mut solver, lo, hi, side, &mut roots, &mut out),
+        }
+    }
+    if let Some(z) = zero_root {
+        roots.push(z);
+    }
+    roots.sort_by(|a, b| a.y.total_cmp(&b.y));
+    out.roots = roots;
+    out.evaluations = solver.evals;
+    let count = out.count();
+    if solver.exhausted() || count > descartes || (descartes - count) % 2 != 0 {
+        out.certified = false;
+    }
+    if !zero_is_root {
+        let above = out.roots.iter().filter(|r| r.y > 0.0).map(|r| r.multiplicity).sum::<u32>();
+        let below = count - above;
+        if above_zero.is_some_and(|b| above > b || (b - above) % 2 != 0)
+            || below_zero.is_some_and(|b| below > b || (b - below) % 2 != 0)
+        {
+            out.certified = false;
+        }
+    }
+    out
+}
+
+/// Subdivision search over [lo, hi] on one side of 0.
+fn search(solver: &mut Solver<'_>, lo: f64, hi: f64, side: Side, roots: &mut Vec<FoundRoot>, out: &mut RootSet) {
+    let mut stack: Vec<(f64, f64)> = vec![(lo, hi)];
+    while let Some((a, b)) = stack.pop() {
+        if solver.exhausted() {
+            out.certified = false;
+            out.unresolved.push((a, b));
+            continue;
+        }
+        if solver.excludes_zero(a, b, side, 0) {
+            continue;
+        }
+        let sa = solver.point(a, side).sign(0);
+        let sb = solver.point(b, side).sign(0);
+        let (Some(sa), Some(sb)) = (sa, sb) else {
+            // Interval ends always carry certain signs (chosen so); be safe anyway.
+            out.certified = false;
+            out.unresolved.push((a, b));
+            continue;
+        };
+        if solver.excludes_zero(a, b, side, 1) {
+            if sa != sb {
+                let (l, h, y) = solver.refine(0, a, b, side, sa);
+                roots.push(FoundRoot {
+                    lo: l,
+                    hi: h,
+                    y,
+                    multiplicity: 1,
+                    exact_rate: None,
+                });
+            }
+            continue;
+        }
+        if solver.excludes_zero(a, b, side, 2) {
+            if convex_case(solver, a, b, side, sa, sb, roots, out) {
+                continue;
+            }
+        }
+        let width = b - a;
+        let tiny = width <= 1e-12 * a.abs().max(b.abs()).max(1e-3);
+        if tiny {
+            settle_cluster(solver, a, b, side, roots, out);
+            continue;
+        }
+        match split_point(solver, a, b, side) {
+            Some(m) => {
+                stack.push((m, b));
+                stack.push((a, m));
+            }
+            None => settle_cluster(solver, a, b, side, roots, out),
+        }
+    }
+}
+
+/// A point inside (a, b) where the sign of f is certain, near the middle.
+fn split_point(solver: &mut Solver<'_>, a: f64, b: f64, side: Side) -> Option<f64> {
+    let w = b - a;
+    for frac in [0.5, 0.375, 0.625, 0.25, 0.75, 0.125, 0.875, 0.0625, 0.9375] {
+        let m = a + w * frac;
+        if m > a && m < b && solver.point(m, side).sign(0).is_some() {
+            return Some(m);
+        }
+    }
+    None
+}
+
+/// f'' has one sign on [a, b]: f' is monotone, so f has a single extremum. Returns
+/// false when the interval must be subdivided further.
+#[allow(clippy::too_many_arguments)]
+fn convex_case(
+    solver: &mut Solver<'_>,
+    a: f64,
+    b: f64,
+    side: Side,
+    sa: i8,
+    sb: i8,
+    roots: &mut Vec<FoundRoot>,
+    out: &mut RootSet,
+) -> bool {
+    let da = solver.point(a, side).sign(1);
+    let db = solver.point(b, side).sign(1);
+    let (Some(da), Some(db)) = (da, db) else {
+        return false;
+    };
+    if da == db {
+        // f' keeps its sign at both ends and is monotone: f is monotone.
+        if sa != sb {
+            let (l, h, y) = solver.refine(0, a, b, side, sa);
+            roots.push(FoundRoot {
+                lo: l,
+                hi: h,
+                y,
+                multiplicity: 1,
+                exact_rate: None,
+            });
+        }
+        return true;
+    }
+    let (p, q, ystar) = solver.refine(1, a, b, side, da);
+    // f on [p, q] contains the extremum.
+    if let Some(s_ext) = solver.sign_over(p, q, side, 0) {
+        for (x0, x1, s0) in [(a, p, sa), (q, b, s_ext)] {
+            let s1 = if x1 == b { sb } else { s_ext };
+            if s0 != s1 && x0 < x1 {
+                let (l, h, y) = solver.refine(0, x0, x1, side, s0);
+                roots.push(FoundRoot {
+                    lo: l,
+                    hi: h,
+                    y,
+                    multiplicity: 1,
+                    exact_rate: None,
+                });
+            }
+        }
+        return true;
+    }
+    // The extremum value is within rounding of zero: a double root, or two roots (or
+    // none) closer than binary floats can tell apart. Try to prove a double root exactly.
+    if let Some((rate, m, y0)) = exact_root_near(solver.s, ystar, p.min(a), q.max(b)) {
+        if m == 2 && y0 >= a && y0 <= b {
+            let (lo, hi) = around(y0);
+            roots.push(FoundRoot {
+                lo,
+                hi,
+                y: y0,
+                multiplicity: 2,
+                exact_rate: Some(rate),
+            });
+            return true;
+        }
+    }
+    out.certified = false;
+    out.unresolved.push((p, q));
+    // The parts of [a, b] outside [p, q] are monotone: settle them.
+    for (x0, x1, s0, s1) in [(a, p, Some(sa), solver.point(p, side).sign(0)), (q, b, solver.point(q, side).sign(0), Some(sb))] {
+        if let (Some(s0), Some(s1)) = (s0, s1) {
+            if s0 != s1 && x0 < x1 {
+                let (l, h, y) = solver.refine(0, x0, x1, side, s0);
+                roots.push(FoundRoot {
+                    lo: l,
+                    hi: h,
+                    y,
+                    multiplicity: 1,
+                    exact_rate: None,
+                });
+            }
+        }
+    }
+    true
+}
+
+/// A tiny interval that subdivision cannot settle: prove a multiple root exactly, or
+/// report the interval as undecided.
+fn settle_cluster(solver: &mut Solver<'_>, a: f64, b: f64, side: Side, roots: &mut Vec<FoundRoot>, out: &mut RootSet) {
+    let mid = 0.5 * (a + b);
+    if let Some((rate, m, y0)) = exact_root_near(solver.s, mid, a, b) {
+        // Rolle: if f^(m) keeps one sign on [a, b], f has at most m roots there, and
+        // the proven root already accounts for all m.
+        if (m as usize) < ORDERS && solver.excludes_zero(a, b, side, m as usize) {
+            let (lo, hi) = around(y0);
+            roots.push(FoundRoot {
+                lo,
+                hi,
+                y: y0,
+                multiplicity: m,
+                exact_rate: Some(rate),
+            });
+            return;
+        }
+    }
+    out.certified = false;
+    out.unresolved.push((a, b));
+}
+
+/// A float interval surely containing ln(1 + rate) when `y0` is its rounded value
+/// (the logarithm is within an ulp or two; a few more for safety).
+fn around(y0: f64) -> (f64, f64) {
+    let d = 8.0 * f64::EPSILON * y0.abs().max(f64::MIN_POSITIVE);
+    (y0 - d, y0 + d)
+}
+
+/// Looks for a short decimal rate per step near `y` (within [lo, hi]) at which f and
+/// its first derivatives vanish exactly. Returns (rate, multiplicity, y of the rate).
+fn exact_root_near(s: &Series, y: f64, lo: f64, hi: f64) -> Option<(Decimal, u32, f64)> {
+    if s.n_int.last().copied().unwrap_or(0) > EXACT_DEGREE_LIMIT {
+        return None;
+    }
+    let rate = y.exp_m1();
+    if !rate.is_finite() || rate <= -1.0 || rate.abs() > 1e12 {
+        return None;
+    }
+    let base = Decimal::from_f64(rate)?;
+    let mut tried: Vec<Decimal> = Vec::new();
+    for digits in 0..=12u32 {
+        let cand = base.round_dp_with_strategy(digits, RoundingStrategy::MidpointAwayFromZero);
+        if tried.contains(&cand) || cand <= Decimal::NEGATIVE_ONE {
+            continue;
+        }
+        tried.push(cand);
+        let yc = (1.0 + cand.to_f64()?).ln();
+        let margin = 1e-9 * (hi - lo).abs().max(1e-12) + 4.0 * f64::EPSILON * yc.abs();
+        if yc < lo - margin || yc > hi + margin {
+            continue;
+        }
+        let growth = Decimal::ONE + cand;
+        let p = BigInt::from(growth.mantissa());
+        let q = num_traits::pow(BigInt::from(10), growth.scale() as usize);
+        if let Some(m) = exact_multiplicity(s, &p, &q) {
+            return Some((cand, m, yc));
+        }
+    }
+    None
+}
+
+/// If x = p/q (as 1 + rate per step) is a root of f, its multiplicity (1..=ORDERS-1),
+/// proven with exact integer arithmetic; None when it is not a root.
+fn exact_multiplicity(s: &Series, p: &BigInt, q: &BigInt) -> Option<u32> {
+    let big_n = *s.n_int.last()?;
+    if big_n > EXACT_DEGREE_LIMIT {
+        return None;
+    }
+    // f^(j)(ln x) * p^N = sum c_k (-n_k)^j q^(n_k) p^(N - n_k).
+    let mut sums: Vec<BigInt> = vec![BigInt::zero(); ORDERS];
+    for (k, ck) in s.exact.iter().enumerate() {
+        let nk = s.n_int[k];
+        let term = ck * num_traits::pow(q.clone(), nk as usize) * num_traits::pow(p.clone(), (big_n - nk) as usize);
+        let mut mult = BigInt::one();
+        for (j, sum) in sums.iter_mut().enumerate() {
+            if j > 0 {
+                mult *= -(nk as i64);
+            }
+            *sum += &term * &mult;
+        }
+    }
+    if !sums[0].is_zero() {
+        return None;
+    }
+    // ORDERS itself stands for "at least ORDERS": too high to settle here.
+    let m = sums.iter().position(|v| !v.is_zero()).unwrap_or(ORDERS);
+    Some(m as u32)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rust_decimal_macros::dec;
+
+    fn yearly(amounts: &[Decimal]) -> RootSet {
+        let offsets: Vec<i64> = (0..amounts.len() as i64).collect();
+        find_roots(amounts, &offsets, 1)
+    }
+
+    fn rates(rs: &RootSet) -> Vec<f64> {
+        rs.roots.iter().map(|r| r.y.exp_m1()).collect()
+    }
+
+    #[test]
+    fn lorie_savage_two_roots() {
+        // Lorie & Savage, Journal of Business 28 (1955) [flows from memory; values per FIELD.md]
+        let rs = yearly(&[dec!(-1600), dec!(10000), dec!(-10000)]);
+        assert!(rs.certified);
+        assert_eq!(rs.count(), 2);
+        let r = rates(&rs);
+        assert!((r[0] - 0.25).abs() < 1e-12 && (r[1] - 4.0).abs() < 1e-11, "{r:?}");
+        for root in &rs.roots {
+            assert!(root.lo <= root.y && root.y <= root.hi);
+        }
+    }
+
+    #[test]
+    fn mine_two_roots() {
+        // Corporate-finance textbook mine example [memory]; roots per FIELD.md [computed]
+        let mut a = vec![dec!(-30)];
+        a.extend(std::iter::repeat(dec!(10)).take(9));
+        a.push(dec!(-65));
+        let rs = yearly(&a);
+        assert!(rs.certified);
+        let r = rates(&rs);
+        assert_eq!(r.len(), 2);
+        assert!((r[0] - 0.03503024).abs() < 1e-8, "{r:?}");
+        assert!((r[1] - 0.19542150).abs() < 1e-8, "{r:?}");
+    }
+
+    #[test]
+    fn no_real_root() {
+        // FIELD.md: 1000, -3000, 2500 has complex roots 50% +- 50i% only [computed]
+        let rs = yearly(&[dec!(1000), dec!(-3000), dec!(2500)]);
+        assert!(rs.certified);
+        assert_eq!(rs.count(), 0);
+        assert_eq!(rs.descartes, 2);
+    }
+
+    #[test]
+    fn double_root_found() {
+        // FIELD.md: -100, 220, -121 = -(10 - 11v)^2: one IRR 10% of multiplicity 2 [computed]
+        let rs = yearly(&[dec!(-100), dec!(220), dec!(-121)]);
+        assert!(rs.certified, "{rs:?}");
+        assert_eq!(rs.roots.len(), 1);
+        assert_eq!(rs.roots[0].multiplicity, 2);
+        assert_eq!(rs.roots[0].exact_rate, Some(dec!(0.1)));
+    }
+
+    #[test]
+    fn one_sign_change_is_one_root() {
+        // Descartes' rule: one sign change, exactly one IRR (common practice)
+        let rs = yearly(&[dec!(-100), dec!(60), dec!(60)]);
+        assert!(rs.certified);
+        assert_eq!(rs.count(), 1);
+        // -100 + 60v + 60v^2 = 0 -> v = (-60 + sqrt(3600 + 24000)) / 120
+        let v = (-60.0 + (3600.0f64 + 24000.0).sqrt()) / 120.0;
+        assert!((rates(&rs)[0] - (1.0 / v - 1.0)).abs() < 1e-13);
+    }
+
+    #[test]
+    fn root_at_zero_and_double_root_at_zero() {
+        // Flows summing to zero have 0% as a root (common practice).
+        let rs = yearly(&[dec!(-100), dec!(50), dec!(50)]);
+        assert!(rs.certified, "{rs:?}");
+        assert_eq!(rs.count(), 1);
+        assert_eq!(rs.roots[0].exact_rate, Some(Decimal::ZERO));
+        // (1 - v)^2 = 1 - 2v + v^2: a double root at 0% [computed]
+        let rs = yearly(&[dec!(1), dec!(-2), dec!(1)]);
+        assert!(rs.certified, "{rs:?}");
+        assert_eq!(rs.roots[0].multiplicity, 2);
+    }
+
+    #[test]
+    fn all_one_sign() {
+        let rs = yearly(&[dec!(100), dec!(100)]);
+        assert_eq!(rs.count(), 0);
+        assert!(rs.certified);
+    }
+}
