@@ -1,8 +1,106 @@
-//! `candor check`.
+//! `candor check`: validates deal files and reports every problem at once.
+//!
+//! Exit codes: 0 when every file is valid, 1 when any file is invalid or cannot be
+//! read (a problem with the input), 2 when candor cannot write its report.
 
+use super::load::{load_deal, LoadFailure};
+use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::CheckArgs;
+use crate::diag::Diagnostic;
+use serde::Serialize;
+use std::io::Write;
 
-/// Runs the command.
-pub fn run(_args: &CheckArgs) -> u8 {
-    todo!()
+/// One file's result, as printed by `--json`.
+#[derive(Debug, Serialize)]
+struct FileReport {
+    file: String,
+    ok: bool,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    deal: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    flows: Option<usize>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    scenarios: Option<Vec<String>>,
+    diagnostics: Vec<Diagnostic>,
+}
+
+/// Renders every diagnostic of a failed load for a person, one block each, separated
+/// by blank lines. Source lines come from the file each diagnostic names.
+pub fn render_failure(failure: &LoadFailure, deal_file: &str) -> String {
+    let mut blocks = Vec::with_capacity(failure.diagnostics.len());
+    for d in &failure.diagnostics {
+        let other;
+        let source = match d.file.as_deref() {
+            Some(f) if f != deal_file => {
+                // A CSV file's lines, read again only to show them.
+                other = std::fs::read_to_string(f).ok();
+                other.as_deref()
+            }
+            _ => failure.source.as_deref(),
+        };
+        blocks.push(d.render(source));
+    }
+    blocks.join("\n\n")
+}
+
+/// Runs the command and returns its exit code.
+pub fn run(args: &CheckArgs) -> u8 {
+    let mut reports = Vec::with_capacity(args.files.len());
+    let mut human_out = String::new();
+    let mut human_err = String::new();
+    for path in &args.files {
+        let shown = path.display().to_string();
+        match load_deal(path) {
+            Ok(loaded) => {
+                let deal = &loaded.deal;
+                let flows = deal.scenarios.first().map_or(0, |s| s.flows.points.len());
+                let others = deal.scenarios.len().saturating_sub(1);
+                let plural = if others == 1 { "" } else { "s" };
+                human_out.push_str(&format!(
+                    "ok  {shown}  {}: {flows} flows, base case + {others} scenario{plural}\n",
+                    deal.name
+                ));
+                reports.push(FileReport {
+                    file: shown,
+                    ok: true,
+                    deal: Some(deal.name.clone()),
+                    flows: Some(flows),
+                    scenarios: Some(deal.scenarios.iter().map(|s| s.name.clone()).collect()),
+                    diagnostics: Vec::new(),
+                });
+            }
+            Err(failure) => {
+                let n = failure.diagnostics.len();
+                human_err.push_str(&render_failure(&failure, &shown));
+                let plural = if n == 1 { "" } else { "s" };
+                human_err.push_str(&format!("\n\n{n} problem{plural} in {shown}\n\n"));
+                reports.push(FileReport {
+                    file: shown,
+                    ok: false,
+                    deal: None,
+                    flows: None,
+                    scenarios: None,
+                    diagnostics: failure.diagnostics,
+                });
+            }
+        }
+    }
+    let all_ok = reports.iter().all(|r| r.ok);
+    let written = if args.json {
+        match serde_json::to_string_pretty(&reports) {
+            Ok(json) => writeln!(std::io::stdout(), "{json}"),
+            Err(e) => Err(std::io::Error::other(e)),
+        }
+    } else {
+        write!(std::io::stdout(), "{human_out}")
+            .and_then(|()| write!(std::io::stderr(), "{human_err}"))
+    };
+    match written {
+        Err(e) => {
+            let _ = writeln!(std::io::stderr(), "error: cannot write the report: {e}");
+            EXIT_INTERNAL
+        }
+        Ok(()) if all_ok => EXIT_OK,
+        Ok(()) => EXIT_INVALID,
+    }
 }

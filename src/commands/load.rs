@@ -3,7 +3,12 @@
 
 use crate::diag::Diagnostic;
 use crate::model::Deal;
+use std::io::Read;
 use std::path::{Path, PathBuf};
+
+/// Largest deal file (and CSV file) read, in bytes: checked before reading, so a
+/// stray multi-gigabyte file is refused at once.
+pub const MAX_FILE_BYTES: u64 = 10 * 1024 * 1024;
 
 /// A deal read from disk together with the exact bytes it came from.
 #[derive(Debug, Clone)]
@@ -27,7 +32,116 @@ pub struct LoadFailure {
     pub source: Option<String>,
 }
 
+/// Reads a file of at most [`MAX_FILE_BYTES`], checking the size before reading.
+fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
+    let meta = std::fs::metadata(path).map_err(|e| (io_words(&e), "file-unreadable"))?;
+    if !meta.is_file() {
+        return Err(("it is not a file".to_string(), "file-unreadable"));
+    }
+    if meta.len() > MAX_FILE_BYTES {
+        return Err((
+            format!(
+                "it is {} bytes, more than the {MAX_FILE_BYTES} accepted",
+                meta.len()
+            ),
+            "file-too-large",
+        ));
+    }
+    let file = std::fs::File::open(path).map_err(|e| (io_words(&e), "file-unreadable"))?;
+    let mut bytes = Vec::new();
+    // The file may grow between the size check and the read; never take more.
+    file.take(MAX_FILE_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .map_err(|e| (io_words(&e), "file-unreadable"))?;
+    if bytes.len() as u64 > MAX_FILE_BYTES {
+        return Err((
+            format!("it is more than the {MAX_FILE_BYTES} bytes accepted"),
+            "file-too-large",
+        ));
+    }
+    Ok(bytes)
+}
+
+fn io_words(e: &std::io::Error) -> String {
+    match e.kind() {
+        std::io::ErrorKind::NotFound => "no such file".to_string(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
+        _ => e.to_string(),
+    }
+}
+
+/// Decodes UTF-8, pointing at the first byte that is not.
+fn utf8(bytes: &[u8]) -> Result<String, Diagnostic> {
+    match std::str::from_utf8(bytes) {
+        Ok(s) => Ok(s.to_string()),
+        Err(e) => {
+            let good = &bytes[..e.valid_up_to()];
+            let line = good.iter().filter(|b| **b == b'\n').count() + 1;
+            let line_start = good.iter().rposition(|b| *b == b'\n').map_or(0, |i| i + 1);
+            let column = String::from_utf8_lossy(&good[line_start..]).chars().count() + 1;
+            Err(Diagnostic::error("not-utf8", "the file is not UTF-8 text")
+                .at(line, column)
+                .with_hint("save the file as UTF-8"))
+        }
+    }
+}
+
 /// Reads, parses and validates a deal file.
-pub fn load_deal(_path: &Path) -> Result<LoadedDeal, LoadFailure> {
-    todo!()
+pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
+    let shown = path.display().to_string();
+    let fail = |d: Diagnostic, source: Option<String>| LoadFailure {
+        diagnostics: vec![d.in_file(shown.clone())],
+        source,
+    };
+    let source = match read_limited(path) {
+        Ok(b) => b,
+        Err((why, code)) => {
+            let d = Diagnostic::error(code, format!("cannot read the deal file: {why}"));
+            return Err(fail(d, None));
+        }
+    };
+    let text = utf8(&source).map_err(|d| fail(d, None))?;
+    let with_file = |diags: Vec<Diagnostic>| -> Vec<Diagnostic> {
+        diags
+            .into_iter()
+            .map(|d| d.in_file(shown.clone()))
+            .collect()
+    };
+    let raw = crate::input::parse(&text).map_err(|diags| LoadFailure {
+        diagnostics: with_file(diags),
+        source: Some(text.clone()),
+    })?;
+
+    let folder = path.parent().map(Path::to_path_buf).unwrap_or_default();
+    let mut companions: Vec<(String, Vec<u8>)> = Vec::new();
+    let mut read = |name: &str| -> Result<String, String> {
+        let full = folder.join(name);
+        let bytes = read_limited(&full).map_err(|(why, _)| why)?;
+        let text = std::str::from_utf8(&bytes)
+            .map_err(|_| "it is not UTF-8 text".to_string())?
+            .to_string();
+        if !companions.iter().any(|(n, _)| n == name) {
+            companions.push((name.to_string(), bytes));
+        }
+        Ok(text)
+    };
+    match crate::model::validate(&raw, &mut read) {
+        Ok(deal) => Ok(LoadedDeal {
+            deal,
+            path: path.to_path_buf(),
+            source,
+            companions,
+        }),
+        Err(diags) => Err(LoadFailure {
+            diagnostics: diags
+                .into_iter()
+                .map(|d| match d.file.clone() {
+                    // A diagnostic about a CSV file names it relative to the deal file.
+                    Some(f) => d.in_file(folder.join(f).display().to_string()),
+                    None => d.in_file(shown.clone()),
+                })
+                .collect(),
+            source: Some(text),
+        }),
+    }
 }

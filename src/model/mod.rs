@@ -7,8 +7,11 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 pub mod daycount;
+mod validate;
+pub mod values;
 
 pub use daycount::DayCount;
+pub use validate::{validate, ReadCompanion, MAX_DIAGNOSTICS, MAX_FLOWS};
 
 /// A validated deal.
 #[derive(Debug, Clone, Serialize)]
@@ -124,6 +127,17 @@ pub struct Memo {
     pub summary: Option<String>,
     /// Risks, one per item.
     pub risks: Vec<String>,
+    /// Further narrative sections, in file order.
+    pub sections: Vec<MemoSection>,
+}
+
+/// One narrative section of the memo.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct MemoSection {
+    /// Heading.
+    pub title: String,
+    /// Body text.
+    pub text: String,
 }
 
 /// Sign-off block.
@@ -133,8 +147,10 @@ pub struct Signoff {
     pub prepared_by: Option<String>,
     /// Who reviewed it.
     pub reviewed_by: Option<String>,
-    /// The committee's decision.
+    /// The committee's decision (`pending` when not given).
     pub decision: SignoffDecision,
+    /// The date of the decision, if given.
+    pub date: Option<NaiveDate>,
 }
 
 /// The committee's decision.
@@ -151,5 +167,5 @@ pub enum SignoffDecision {
     Deferred,
 }
 
-/// Validates a raw deal.
-pub fn validate() {}
+#[cfg(test)]
+mod tests;

@@ -1,0 +1,1350 @@
+//! Turns the positioned YAML tree into a [`Deal`], collecting every problem on the
+//! way rather than stopping at the first, each with its field path, position, a
+//! stable code and a hint where one helps.
+
+use super::values::{self, ValueError};
+use super::{
+    Clock, DayCount, Deal, Frequency, Memo, MemoSection, Rates, Scenario, Signoff, SignoffDecision,
+};
+use crate::diag::{Diagnostic, Position};
+use crate::engine::{FlowPoint, Flows};
+use crate::input::{csv, Node, RawDeal, Value};
+use chrono::{Days, Months, NaiveDate};
+use rust_decimal::Decimal;
+
+/// Most flows accepted in one series.
+pub const MAX_FLOWS: usize = 100_000;
+/// Most diagnostics reported for one file; past this the list ends with a note.
+pub const MAX_DIAGNOSTICS: usize = 100;
+/// Largest shift accepted, in periods or days.
+const MAX_SHIFT: i64 = 100_000;
+
+const TOP: &[&str] = &[
+    "candor",
+    "deal",
+    "hurdle_rate",
+    "finance_rate",
+    "reinvestment_rate",
+    "cash_flows",
+    "scenarios",
+    "memo",
+    "signoff",
+];
+const DEAL: &[&str] = &["name", "currency", "as_of"];
+const CASH_FLOWS: &[&str] = &["every", "start", "amounts", "day_count", "dated", "csv"];
+const DATED: &[&str] = &["date", "amount", "note"];
+const SCENARIO: &[&str] = &[
+    "description",
+    "inflows_factor",
+    "outflows_factor",
+    "shift_inflows",
+    "cash_flows",
+];
+const MEMO: &[&str] = &["recommendation", "summary", "risks", "sections"];
+const SECTION: &[&str] = &["title", "text"];
+const SIGNOFF: &[&str] = &["prepared_by", "reviewed_by", "decision", "date"];
+const FREQUENCIES: &[&str] = &["year", "half-year", "quarter", "month", "week", "day"];
+const DECISIONS: &[&str] = &["pending", "approved", "declined", "deferred"];
+
+/// One flow before it is placed on the clock: a period number or a date.
+#[derive(Debug, Clone)]
+struct RawFlow<T> {
+    at: T,
+    amount: Decimal,
+    note: Option<String>,
+}
+
+/// Flows as a deal file states them, before scenarios change them.
+#[derive(Debug, Clone)]
+enum Series {
+    Periodic {
+        every: Frequency,
+        start: Option<NaiveDate>,
+        flows: Vec<RawFlow<i64>>,
+    },
+    Dated {
+        day_count: DayCount,
+        flows: Vec<RawFlow<NaiveDate>>,
+    },
+}
+
+impl Series {
+    fn clock(&self) -> Clock {
+        match self {
+            Series::Periodic { every, start, .. } => Clock::Periodic {
+                every: *every,
+                start: *start,
+            },
+            Series::Dated { day_count, .. } => Clock::Dated {
+                day_count: *day_count,
+            },
+        }
+    }
+}
+
+/// Reads the text of a file named in the deal (a CSV of flows), relative to the deal
+/// file; returns the text or a message saying why it cannot be read.
+pub type ReadCompanion<'a> = dyn FnMut(&str) -> Result<String, String> + 'a;
+
+/// A mapping's fields after the unknown and duplicate keys have been reported.
+struct Fields<'a> {
+    entries: Vec<(&'a str, &'a Node, &'a Node)>,
+    position: Position,
+}
+
+impl<'a> Fields<'a> {
+    /// The value of a key, treating an empty value as absent.
+    fn get(&self, key: &str) -> Option<&'a Node> {
+        self.entries
+            .iter()
+            .find(|(k, _, v)| *k == key && !v.is_null())
+            .map(|(_, _, v)| *v)
+    }
+
+    /// The key node itself, for pointing at a key that conflicts with another.
+    fn key(&self, key: &str) -> Option<&'a Node> {
+        self.entries
+            .iter()
+            .find(|(k, _, v)| *k == key && !v.is_null())
+            .map(|(_, k, _)| *k)
+    }
+
+    fn has(&self, key: &str) -> bool {
+        self.get(key).is_some()
+    }
+}
+
+fn join(path: &str, key: &str) -> String {
+    if path.is_empty() {
+        key.to_string()
+    } else {
+        format!("{path}.{key}")
+    }
+}
+
+fn nearest<'k>(word: &str, candidates: &[&'k str]) -> Option<&'k str> {
+    let lower = word.to_ascii_lowercase();
+    candidates
+        .iter()
+        .map(|c| (strsim::jaro_winkler(&lower, c), *c))
+        .filter(|(score, c)| *score >= 0.8 || strsim::levenshtein(&lower, c) <= 2)
+        .max_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, c)| c)
+}
+
+fn choices(candidates: &[&str]) -> String {
+    candidates
+        .iter()
+        .map(|c| format!("`{c}`"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+struct Ctx<'r, 'a> {
+    diags: Vec<Diagnostic>,
+    read: &'r mut ReadCompanion<'a>,
+}
+
+impl Ctx<'_, '_> {
+    fn report(
+        &mut self,
+        code: &str,
+        message: impl Into<String>,
+        path: &str,
+        at: Position,
+    ) -> &mut Diagnostic {
+        let mut d = Diagnostic::error(code, message).at(at.line, at.column);
+        if !path.is_empty() {
+            d = d.at_field(path);
+        }
+        self.diags.push(d);
+        let last = self.diags.len() - 1;
+        &mut self.diags[last]
+    }
+
+    fn hint(
+        &mut self,
+        code: &str,
+        message: impl Into<String>,
+        path: &str,
+        at: Position,
+        hint: impl Into<String>,
+    ) {
+        let d = self.report(code, message, path, at);
+        d.hint = Some(hint.into());
+    }
+
+    fn value_error(&mut self, code: &str, e: ValueError, path: &str, at: Position) {
+        let d = self.report(code, e.message, path, at);
+        d.hint = e.hint;
+    }
+
+    fn wrong_type(&mut self, node: &Node, path: &str, expected: &str) {
+        let found = node.kind();
+        self.report(
+            "wrong-type",
+            format!("`{path}` should be {expected}, but it is {found}"),
+            path,
+            node.position,
+        );
+    }
+
+    /// Checks that `node` is a mapping whose keys are all known and unique.
+    fn fields<'n>(&mut self, node: &'n Node, path: &str, known: &[&str]) -> Option<Fields<'n>> {
+        let Value::Mapping(entries) = &node.value else {
+            self.wrong_type(node, path, "a mapping of fields");
+            return None;
+        };
+        let mut out: Vec<(&str, &Node, &Node)> = Vec::new();
+        for (k, v) in entries {
+            let Some(name) = k.scalar() else {
+                self.report(
+                    "wrong-type",
+                    format!(
+                        "a key in `{}` is {}, not a name",
+                        display_path(path),
+                        k.kind()
+                    ),
+                    path,
+                    k.position,
+                );
+                continue;
+            };
+            let field = join(path, name);
+            if out.iter().any(|(n, _, _)| *n == name) {
+                self.hint(
+                    "duplicate-key",
+                    format!("`{field}` is given more than once"),
+                    &field,
+                    k.position,
+                    "keep one of them; YAML does not say which would win",
+                );
+                continue;
+            }
+            if !known.contains(&name) {
+                let hint = match nearest(name, known) {
+                    Some(n) => format!("did you mean `{n}`?"),
+                    None => format!("the fields here are {}", choices(known)),
+                };
+                self.hint(
+                    "unknown-field",
+                    format!("unknown field `{name}` in `{}`", display_path(path)),
+                    &field,
+                    k.position,
+                    hint,
+                );
+                continue;
+            }
+            out.push((name, k, v));
+        }
+        Some(Fields {
+            entries: out,
+            position: node.position,
+        })
+    }
+
+    fn required<'n>(
+        &mut self,
+        f: &Fields<'n>,
+        path: &str,
+        key: &str,
+        example: &str,
+    ) -> Option<&'n Node> {
+        let node = f.get(key);
+        if node.is_none() {
+            let field = join(path, key);
+            self.hint(
+                "missing-field",
+                format!("`{field}` is required"),
+                &field,
+                f.position,
+                format!("add it, for example `{key}: {example}`"),
+            );
+        }
+        node
+    }
+
+    fn text(&mut self, node: &Node, path: &str) -> Option<String> {
+        match node.scalar() {
+            Some(t) => Some(t.to_string()),
+            None => {
+                self.wrong_type(node, path, "text");
+                None
+            }
+        }
+    }
+
+    fn scalar<'n>(&mut self, node: &'n Node, path: &str, expected: &str) -> Option<&'n str> {
+        let s = node.scalar();
+        if s.is_none() {
+            self.wrong_type(node, path, expected);
+        }
+        s
+    }
+
+    fn date(&mut self, node: &Node, path: &str) -> Option<NaiveDate> {
+        let text = self.scalar(node, path, "a date (YYYY-MM-DD)")?;
+        values::parse_date(text)
+            .map_err(|e| self.value_error("bad-date", e, path, node.position))
+            .ok()
+    }
+
+    fn rate(&mut self, node: &Node, path: &str) -> Option<Decimal> {
+        let text = self.scalar(node, path, "a rate such as 8% or 0.08")?;
+        let rate = values::parse_rate(text)
+            .map_err(|e| self.value_error("bad-number", e, path, node.position))
+            .ok()?;
+        values::check_rate(rate)
+            .map_err(|e| self.value_error("rate-range", e, path, node.position))
+            .ok()?;
+        Some(rate)
+    }
+
+    fn decimal(&mut self, node: &Node, path: &str) -> Option<Decimal> {
+        let text = self.scalar(node, path, "a number")?;
+        match values::parse_decimal(text) {
+            Ok(v) => Some(v),
+            Err(e) => {
+                let code =
+                    if e.message.contains("out of range") || e.message.contains("decimal places") {
+                        "number-range"
+                    } else {
+                        "bad-number"
+                    };
+                self.value_error(code, e, path, node.position);
+                None
+            }
+        }
+    }
+
+    fn integer(&mut self, node: &Node, path: &str) -> Option<i64> {
+        let text = self.scalar(node, path, "a whole number")?;
+        match text.trim().parse::<i64>() {
+            Ok(n) if n.abs() <= MAX_SHIFT => Some(n),
+            Ok(_) => {
+                self.report(
+                    "number-range",
+                    format!("`{}` is beyond {MAX_SHIFT} in size", text.trim()),
+                    path,
+                    node.position,
+                );
+                None
+            }
+            Err(_) => {
+                self.hint(
+                    "bad-number",
+                    format!("`{}` is not a whole number", text.trim()),
+                    path,
+                    node.position,
+                    "write a whole number of periods (or days for dated flows), such as 1 or -2",
+                );
+                None
+            }
+        }
+    }
+
+    fn choice<'c>(&mut self, node: &Node, path: &str, accepted: &[&'c str]) -> Option<&'c str> {
+        let text = self.scalar(node, path, "one word")?;
+        let lower = text.trim().to_ascii_lowercase();
+        if let Some(c) = accepted.iter().find(|c| **c == lower) {
+            return Some(c);
+        }
+        let hint = match nearest(&lower, accepted) {
+            Some(n) => format!("did you mean `{n}`? accepted values: {}", choices(accepted)),
+            None => format!("accepted values: {}", choices(accepted)),
+        };
+        self.hint(
+            "unknown-value",
+            format!("`{}` is not an accepted value of `{path}`", text.trim()),
+            path,
+            node.position,
+            hint,
+        );
+        None
+    }
+
+    fn text_list(&mut self, node: &Node, path: &str) -> Vec<String> {
+        let Value::Sequence(items) = &node.value else {
+            self.wrong_type(node, path, "a list of text items");
+            return Vec::new();
+        };
+        items
+            .iter()
+            .enumerate()
+            .filter_map(|(i, n)| self.text(n, &format!("{path}[{i}]")))
+            .collect()
+    }
+
+    fn sequence<'n>(&mut self, node: &'n Node, path: &str, expected: &str) -> Option<&'n [Node]> {
+        match &node.value {
+            Value::Sequence(items) => {
+                if items.len() > MAX_FLOWS {
+                    self.hint(
+                        "too-many-flows",
+                        format!(
+                            "`{path}` holds {} flows; at most {MAX_FLOWS} are accepted",
+                            items.len()
+                        ),
+                        path,
+                        node.position,
+                        "aggregate the flows to a coarser period",
+                    );
+                    return None;
+                }
+                Some(items)
+            }
+            _ => {
+                self.wrong_type(node, path, expected);
+                None
+            }
+        }
+    }
+
+    /// Reads a `cash_flows` block in any of its three forms.
+    fn cash_flows(&mut self, node: &Node, path: &str) -> Option<Series> {
+        let f = self.fields(node, path, CASH_FLOWS)?;
+        let periodic_key = ["amounts", "every", "start"].into_iter().find(|k| f.has(k));
+        let dated_key = ["dated", "day_count"].into_iter().find(|k| f.has(k));
+        if f.has("csv") {
+            for key in ["amounts", "dated"] {
+                if let Some(k) = f.key(key) {
+                    self.hint(
+                        "flows-conflict",
+                        format!("`{path}` names a CSV file and also lists `{key}`"),
+                        &join(path, key),
+                        k.position,
+                        "give the flows once: either in the CSV file or in the deal file",
+                    );
+                    return None;
+                }
+            }
+            return self.csv_flows(&f, path);
+        }
+        match (periodic_key, dated_key) {
+            (Some(p), Some(d)) => {
+                let at = f.key(d).map_or(f.position, |k| k.position);
+                self.hint(
+                    "flows-conflict",
+                    format!("`{path}` mixes periodic (`{p}`) and dated (`{d}`) flows"),
+                    &join(path, d),
+                    at,
+                    "use either `every` + `amounts` (periodic) or `day_count` + `dated` (dated), not both",
+                );
+                None
+            }
+            (Some(_), None) => {
+                let every = self.required(&f, path, "every", "year");
+                let amounts = self.required(&f, path, "amounts", "[-1000, 600, 600]");
+                let start = f
+                    .get("start")
+                    .and_then(|n| self.date(n, &join(path, "start")));
+                let every = every.and_then(|n| self.frequency(n, &join(path, "every")));
+                let list_path = join(path, "amounts");
+                let items = self.sequence(amounts?, &list_path, "a list of amounts")?;
+                let mut flows = Vec::with_capacity(items.len());
+                let mut ok = true;
+                for (i, n) in items.iter().enumerate() {
+                    match self.decimal(n, &format!("{list_path}[{i}]")) {
+                        Some(amount) => flows.push(RawFlow {
+                            at: i as i64,
+                            amount,
+                            note: None,
+                        }),
+                        None => ok = false,
+                    }
+                }
+                let every = every?;
+                if !ok || !self.nonempty(flows.iter().map(|f| f.amount), amounts?, &list_path) {
+                    return None;
+                }
+                Some(Series::Periodic {
+                    every,
+                    start,
+                    flows,
+                })
+            }
+            (None, Some(_)) => {
+                let day_count = self.required(&f, path, "day_count", "act/365f");
+                let dated =
+                    self.required(&f, path, "dated", "[{ date: 2027-01-15, amount: -1000 }]");
+                let day_count = day_count.and_then(|n| self.day_count(n, &join(path, "day_count")));
+                let list_path = join(path, "dated");
+                let items = self.sequence(dated?, &list_path, "a list of dated flows")?;
+                let mut flows = Vec::with_capacity(items.len());
+                let mut ok = true;
+                for (i, n) in items.iter().enumerate() {
+                    match self.dated_flow(n, &format!("{list_path}[{i}]")) {
+                        Some(flow) => flows.push(flow),
+                        None => ok = false,
+                    }
+                }
+                let day_count = day_count?;
+                if !ok || !self.nonempty(flows.iter().map(|f| f.amount), dated?, &list_path) {
+                    return None;
+                }
+                Some(Series::Dated { day_count, flows })
+            }
+            (None, None) => {
+                self.hint(
+                    "missing-field",
+                    format!("`{path}` gives no flows"),
+                    path,
+                    f.position,
+                    "give `every` + `amounts` (periodic), `day_count` + `dated` (dated), or `csv` with `every` or `day_count`",
+                );
+                None
+            }
+        }
+    }
+
+    /// Reports an empty or all-zero list; true when the amounts are usable.
+    fn nonempty(
+        &mut self,
+        mut amounts: impl Iterator<Item = Decimal>,
+        node: &Node,
+        path: &str,
+    ) -> bool {
+        let mut any = false;
+        let mut nonzero = false;
+        for a in amounts.by_ref() {
+            any = true;
+            nonzero |= !a.is_zero();
+        }
+        if !any {
+            self.hint(
+                "empty-flows",
+                format!("`{path}` holds no flows"),
+                path,
+                node.position,
+                "a deal needs at least one outflow and one inflow",
+            );
+        } else if !nonzero {
+            self.hint(
+                "all-zero-flows",
+                format!("every flow in `{path}` is zero"),
+                path,
+                node.position,
+                "a deal needs at least one flow that is not zero",
+            );
+        }
+        nonzero
+    }
+
+    fn frequency(&mut self, node: &Node, path: &str) -> Option<Frequency> {
+        Some(match self.choice(node, path, FREQUENCIES)? {
+            "year" => Frequency::Year,
+            "half-year" => Frequency::HalfYear,
+            "quarter" => Frequency::Quarter,
+            "month" => Frequency::Month,
+            "week" => Frequency::Week,
+            _ => Frequency::Day,
+        })
+    }
+
+    fn day_count(&mut self, node: &Node, path: &str) -> Option<DayCount> {
+        let names: Vec<&str> = DayCount::ALL.iter().map(|d| d.as_str()).collect();
+        let name = self.choice(node, path, &names)?;
+        DayCount::parse(name)
+    }
+
+    fn dated_flow(&mut self, node: &Node, path: &str) -> Option<RawFlow<NaiveDate>> {
+        let f = self.fields(node, path, DATED)?;
+        let date = self.required(&f, path, "date", "2027-01-15");
+        let amount = self.required(&f, path, "amount", "-1000");
+        let date = date.and_then(|n| self.date(n, &join(path, "date")));
+        let amount = amount.and_then(|n| self.decimal(n, &join(path, "amount")));
+        let note = f
+            .get("note")
+            .and_then(|n| self.text(n, &join(path, "note")));
+        Some(RawFlow {
+            at: date?,
+            amount: amount?,
+            note,
+        })
+    }
+
+    /// Reads flows from a CSV file named by `cash_flows.csv`.
+    fn csv_flows(&mut self, f: &Fields<'_>, path: &str) -> Option<Series> {
+        let csv_node = f.get("csv")?;
+        let csv_path = join(path, "csv");
+        let name = self.text(csv_node, &csv_path)?;
+        let every_node = f.get("every");
+        let day_count_node = f.get("day_count");
+        let start = f
+            .get("start")
+            .and_then(|n| self.date(n, &join(path, "start")));
+        let clock = match (every_node, day_count_node) {
+            (Some(_), Some(d)) => {
+                self.hint(
+                    "flows-conflict",
+                    format!("`{path}` gives both `every` and `day_count`"),
+                    &join(path, "day_count"),
+                    d.position,
+                    "use `every` for a CSV with a `period` column, `day_count` for one with a `date` column",
+                );
+                return None;
+            }
+            (Some(e), None) => Err(self.frequency(e, &join(path, "every"))?),
+            (None, Some(d)) => Ok(self.day_count(d, &join(path, "day_count"))?),
+            (None, None) => {
+                self.hint(
+                    "missing-field",
+                    format!("`{path}` names a CSV file but not how its flows are timed"),
+                    path,
+                    f.position,
+                    "add `every: year` (CSV columns period,amount) or `day_count: act/365f` (CSV columns date,amount)",
+                );
+                return None;
+            }
+        };
+        let text = match (self.read)(&name) {
+            Ok(t) => t,
+            Err(why) => {
+                self.hint(
+                    "csv-missing",
+                    format!("cannot read the CSV file `{name}`: {why}"),
+                    &csv_path,
+                    csv_node.position,
+                    "the path is relative to the deal file's folder",
+                );
+                return None;
+            }
+        };
+        let first_column = if clock.is_err() { "period" } else { "date" };
+        let before = self.diags.len();
+        let rows = self.csv_rows(&name, &text, first_column)?;
+        if rows.len() > MAX_FLOWS {
+            self.report(
+                "too-many-flows",
+                format!(
+                    "`{name}` holds {} flows; at most {MAX_FLOWS} are accepted",
+                    rows.len()
+                ),
+                &csv_path,
+                csv_node.position,
+            );
+            return None;
+        }
+        let mut ok = self.diags.len() == before;
+        let mut amounts = Vec::with_capacity(rows.len());
+        let mut periodic = Vec::new();
+        let mut dated = Vec::new();
+        for (first, amount, note) in rows {
+            let cell_err = |ctx: &mut Self, code: &str, e: ValueError, at: Position| {
+                let mut d = Diagnostic::error(code, e.message)
+                    .in_file(name.clone())
+                    .at(at.line, at.column);
+                d.hint = e.hint;
+                ctx.diags.push(d);
+            };
+            let value = match values::parse_decimal(&amount.text) {
+                Ok(v) => Some(v),
+                Err(e) => {
+                    cell_err(self, "csv-format", e, amount.position);
+                    None
+                }
+            };
+            match clock {
+                Err(_) => match first.text.trim().parse::<u32>() {
+                    Ok(p) if (p as usize) <= MAX_FLOWS => {
+                        if let Some(v) = value {
+                            periodic.push(RawFlow {
+                                at: i64::from(p),
+                                amount: v,
+                                note,
+                            });
+                        }
+                    }
+                    _ => {
+                        let e = ValueError {
+                            message: format!("`{}` is not a period number", first.text.trim()),
+                            hint: Some(format!("periods are whole numbers from 0 to {MAX_FLOWS}")),
+                        };
+                        cell_err(self, "csv-format", e, first.position);
+                        ok = false;
+                    }
+                },
+                Ok(_) => match values::parse_date(&first.text) {
+                    Ok(d) => {
+                        if let Some(v) = value {
+                            dated.push(RawFlow {
+                                at: d,
+                                amount: v,
+                                note,
+                            });
+                        }
+                    }
+                    Err(e) => {
+                        cell_err(self, "csv-format", e, first.position);
+                        ok = false;
+                    }
+                },
+            }
+            ok &= value.is_some();
+            amounts.extend(value);
+        }
+        if !ok || !self.nonempty(amounts.into_iter(), csv_node, &csv_path) {
+            return None;
+        }
+        Some(match clock {
+            Err(every) => Series::Periodic {
+                every,
+                start,
+                flows: periodic,
+            },
+            Ok(day_count) => Series::Dated {
+                day_count,
+                flows: dated,
+            },
+        })
+    }
+
+    /// Splits a CSV file into (first column, amount, note) rows, checking the header.
+    fn csv_rows(
+        &mut self,
+        name: &str,
+        text: &str,
+        first_column: &str,
+    ) -> Option<Vec<(csv::Cell, csv::Cell, Option<String>)>> {
+        let in_csv = |code: &str, message: String, at: Position, hint: Option<String>| {
+            let mut d = Diagnostic::error(code, message)
+                .in_file(name)
+                .at(at.line, at.column);
+            d.hint = hint;
+            d
+        };
+        let rows = match csv::read(text) {
+            Ok(r) => r,
+            Err(e) => {
+                self.diags
+                    .push(in_csv("csv-format", e.message, e.position, None));
+                return None;
+            }
+        };
+        let start = Position { line: 1, column: 1 };
+        let expected = format!("{first_column},amount[,note]");
+        let Some((header, body)) = rows.split_first() else {
+            self.diags.push(in_csv(
+                "csv-format",
+                format!("`{name}` is empty"),
+                start,
+                Some(format!("the first row names the columns: {expected}")),
+            ));
+            return None;
+        };
+        let names: Vec<String> = header
+            .iter()
+            .map(|c| c.text.trim().to_ascii_lowercase())
+            .collect();
+        let known = [first_column, "amount", "note"];
+        let mut bad = false;
+        for (i, n) in names.iter().enumerate() {
+            if !known.contains(&n.as_str()) || names[..i].contains(n) {
+                bad = true;
+                let hint = nearest(n, &known).map_or_else(
+                    || format!("the header row names the columns: {expected}"),
+                    |k| format!("did you mean `{k}`? the columns are {expected}"),
+                );
+                self.diags.push(in_csv(
+                    "csv-format",
+                    format!(
+                        "unexpected column `{}` in the header row",
+                        header[i].text.trim()
+                    ),
+                    header[i].position,
+                    Some(hint),
+                ));
+            }
+        }
+        let index = |col: &str| names.iter().position(|n| n == col);
+        let (Some(fi), Some(ai)) = (index(first_column), index("amount")) else {
+            let missing = if index(first_column).is_none() {
+                first_column
+            } else {
+                "amount"
+            };
+            self.diags.push(in_csv(
+                "csv-format",
+                format!("`{name}` has no `{missing}` column"),
+                start,
+                Some(format!("the first row names the columns: {expected}")),
+            ));
+            return None;
+        };
+        if bad {
+            return None;
+        }
+        let ni = index("note");
+        let mut out = Vec::with_capacity(body.len());
+        for row in body {
+            if row.len() != header.len() {
+                let at = row.first().map_or(start, |c| c.position);
+                self.diags.push(in_csv(
+                    "csv-format",
+                    format!(
+                        "this row has {} cells, the header names {}",
+                        row.len(),
+                        header.len()
+                    ),
+                    at,
+                    None,
+                ));
+                continue;
+            }
+            let note = ni
+                .map(|i| row[i].text.trim().to_string())
+                .filter(|n| !n.is_empty());
+            out.push((row[fi].clone(), row[ai].clone(), note));
+        }
+        Some(out)
+    }
+
+    fn scenario(
+        &mut self,
+        name: &str,
+        node: &Node,
+        base: Option<&Series>,
+    ) -> Option<(Series, String)> {
+        let path = format!("scenarios.{name}");
+        let f = self.fields(node, &path, SCENARIO)?;
+        let description = f
+            .get("description")
+            .and_then(|n| self.text(n, &join(&path, "description")));
+        let inflows = f
+            .get("inflows_factor")
+            .and_then(|n| self.factor(n, &join(&path, "inflows_factor")));
+        let outflows = f
+            .get("outflows_factor")
+            .and_then(|n| self.factor(n, &join(&path, "outflows_factor")));
+        let shift_node = f.get("shift_inflows");
+        let shift = shift_node.and_then(|n| self.integer(n, &join(&path, "shift_inflows")));
+        let replaced = match f.get("cash_flows") {
+            Some(n) => Some(self.cash_flows(n, &join(&path, "cash_flows"))?),
+            None => None,
+        };
+        let fails = ["inflows_factor", "outflows_factor", "shift_inflows"]
+            .iter()
+            .zip([inflows.is_some(), outflows.is_some(), shift.is_some()])
+            .any(|(k, ok)| f.has(k) && !ok);
+        if fails {
+            return None;
+        }
+        let base = base?;
+        if let Some(r) = &replaced {
+            if r.clock() != base.clock() && !same_kind(r, base) {
+                let at = f.get("cash_flows").map_or(f.position, |n| n.position);
+                self.hint(
+                    "clock-mismatch",
+                    format!("`{path}.cash_flows` times its flows differently from the base case"),
+                    &join(&path, "cash_flows"),
+                    at,
+                    "a scenario's flows use the same `every` or `day_count` as the base case",
+                );
+                return None;
+            }
+        }
+        let mut series = replaced.clone().unwrap_or_else(|| base.clone());
+        let mut words = Vec::new();
+        if replaced.is_some() {
+            words.push("cash flows replaced".to_string());
+        }
+        let one = Decimal::ONE;
+        let (inflows, outflows) = (inflows.unwrap_or(one), outflows.unwrap_or(one));
+        if inflows != one {
+            words.push(format!("inflows x {inflows}"));
+        }
+        if outflows != one {
+            words.push(format!("outflows x {outflows}"));
+        }
+        let scale = |a: Decimal| {
+            if a > Decimal::ZERO {
+                a * inflows
+            } else {
+                a * outflows
+            }
+        };
+        let shift = shift.unwrap_or(0);
+        let shift_at = shift_node.map_or(f.position, |n| n.position);
+        match &mut series {
+            Series::Periodic { flows, .. } => {
+                for fl in flows.iter_mut() {
+                    if fl.amount > Decimal::ZERO {
+                        fl.at += shift;
+                    }
+                    fl.amount = scale(fl.amount);
+                }
+                if flows.iter().any(|fl| fl.at < 0) {
+                    self.hint(
+                        "shift-range",
+                        format!("`{path}.shift_inflows` moves inflows before period 0"),
+                        &join(&path, "shift_inflows"),
+                        shift_at,
+                        "shift inflows later (a positive number), or replace the flows with `cash_flows`",
+                    );
+                    return None;
+                }
+                if shift != 0 {
+                    words.push(shift_words(shift, "period"));
+                }
+            }
+            Series::Dated { flows, .. } => {
+                for fl in flows.iter_mut() {
+                    if fl.amount > Decimal::ZERO {
+                        let moved = if shift >= 0 {
+                            fl.at.checked_add_days(Days::new(shift.unsigned_abs()))
+                        } else {
+                            fl.at.checked_sub_days(Days::new(shift.unsigned_abs()))
+                        };
+                        let Some(moved) = moved else {
+                            self.report(
+                                "shift-range",
+                                format!("`{path}.shift_inflows` moves a flow off the calendar"),
+                                &join(&path, "shift_inflows"),
+                                shift_at,
+                            );
+                            return None;
+                        };
+                        fl.at = moved;
+                    }
+                    fl.amount = scale(fl.amount);
+                }
+                if shift != 0 {
+                    words.push(shift_words(shift, "day"));
+                }
+            }
+        }
+        let description = description.unwrap_or_else(|| {
+            if words.is_empty() {
+                "same flows as the base case".to_string()
+            } else {
+                words.join("; ")
+            }
+        });
+        Some((series, description))
+    }
+
+    fn factor(&mut self, node: &Node, path: &str) -> Option<Decimal> {
+        let v = self.decimal(node, path)?;
+        if v.is_sign_negative() {
+            self.hint(
+                "number-range",
+                format!("`{path}` is negative"),
+                path,
+                node.position,
+                "a factor multiplies flows: 0.85 means 15% less; it cannot be below 0",
+            );
+            return None;
+        }
+        Some(v)
+    }
+
+    /// Places a series on its clock: sorted, netted by period or date, offsets set.
+    fn resolve(&mut self, series: &Series, path: &str, at: Position) -> Option<Flows> {
+        match series {
+            Series::Periodic {
+                every,
+                start,
+                flows,
+            } => {
+                let mut sorted = flows.clone();
+                sorted.sort_by_key(|f| f.at);
+                let merged = net(sorted);
+                let mut points = Vec::with_capacity(merged.len());
+                for f in merged {
+                    let period = u32::try_from(f.at).ok()?;
+                    let date = match start {
+                        Some(s) => {
+                            let d = period_date(*s, *every, period);
+                            if d.is_none() {
+                                self.report(
+                                    "bad-date",
+                                    format!("period {period} falls beyond the calendar"),
+                                    &join(path, "start"),
+                                    at,
+                                );
+                                return None;
+                            }
+                            d
+                        }
+                        None => None,
+                    };
+                    points.push(FlowPoint {
+                        offset: f.at,
+                        amount: f.amount,
+                        date,
+                        period: Some(period),
+                        note: f.note,
+                    });
+                }
+                Some(Flows {
+                    points,
+                    units_per_year: u64::from(every.per_year()),
+                    periods_per_year: Some(every.per_year()),
+                })
+            }
+            Series::Dated { day_count, flows } => {
+                let mut sorted = flows.clone();
+                sorted.sort_by_key(|f| f.at);
+                let merged = net(sorted);
+                let first = merged.first()?.at;
+                let last = merged.last()?.at;
+                let points = merged
+                    .into_iter()
+                    .map(|f| FlowPoint {
+                        offset: day_count.units_in_series(first, f.at, Some(last)),
+                        amount: f.amount,
+                        date: Some(f.at),
+                        period: None,
+                        note: f.note,
+                    })
+                    .collect();
+                Some(Flows {
+                    points,
+                    units_per_year: day_count.units_per_year(),
+                    periods_per_year: None,
+                })
+            }
+        }
+    }
+}
+
+fn same_kind(a: &Series, b: &Series) -> bool {
+    match (a, b) {
+        (Series::Periodic { every: x, .. }, Series::Periodic { every: y, .. }) => x == y,
+        (Series::Dated { day_count: x, .. }, Series::Dated { day_count: y, .. }) => x == y,
+        _ => false,
+    }
+}
+
+fn shift_words(shift: i64, unit: &str) -> String {
+    let n = shift.unsigned_abs();
+    let plural = if n == 1 { "" } else { "s" };
+    let way = if shift > 0 { "later" } else { "earlier" };
+    format!("inflows {n} {unit}{plural} {way}")
+}
+
+/// Nets flows that fall at the same time (input sorted), joining their notes.
+fn net<T: PartialEq + Copy>(sorted: Vec<RawFlow<T>>) -> Vec<RawFlow<T>> {
+    let mut out: Vec<RawFlow<T>> = Vec::with_capacity(sorted.len());
+    for f in sorted {
+        match out.last_mut() {
+            Some(last) if last.at == f.at => {
+                last.amount += f.amount;
+                last.note = match (last.note.take(), f.note) {
+                    (Some(a), Some(b)) => Some(format!("{a}; {b}")),
+                    (a, b) => a.or(b),
+                };
+            }
+            _ => out.push(f),
+        }
+    }
+    out
+}
+
+/// The date of period `n` after `start`: whole months keep the day of the month,
+/// clamped to the month's end (common practice).
+fn period_date(start: NaiveDate, every: Frequency, n: u32) -> Option<NaiveDate> {
+    let months = |k: u32| start.checked_add_months(Months::new(n.checked_mul(k)?));
+    match every {
+        Frequency::Year => months(12),
+        Frequency::HalfYear => months(6),
+        Frequency::Quarter => months(3),
+        Frequency::Month => months(1),
+        Frequency::Week => start.checked_add_days(Days::new(u64::from(n) * 7)),
+        Frequency::Day => start.checked_add_days(Days::new(u64::from(n))),
+    }
+}
+
+fn display_path(path: &str) -> &str {
+    if path.is_empty() {
+        "the top level"
+    } else {
+        path
+    }
+}
+
+/// Validates a raw deal into a [`Deal`], or returns every problem found. `read`
+/// supplies the text of any CSV file the deal names. Diagnostics about the deal file
+/// carry no file name (the caller adds it); those about a CSV file name it as written.
+pub fn validate(raw: &RawDeal, read: &mut ReadCompanion<'_>) -> Result<Deal, Vec<Diagnostic>> {
+    let mut ctx = Ctx {
+        diags: Vec::new(),
+        read,
+    };
+    let deal = build(&mut ctx, raw);
+    let mut diags = ctx.diags;
+    match deal {
+        Some(d) if diags.is_empty() => Ok(d),
+        _ => {
+            if diags.is_empty() {
+                // Defensive: a refusal without a reason must still say something.
+                diags.push(Diagnostic::error(
+                    "invalid",
+                    "the deal file could not be read",
+                ));
+            }
+            if diags.len() > MAX_DIAGNOSTICS {
+                let more = diags.len() - MAX_DIAGNOSTICS;
+                diags.truncate(MAX_DIAGNOSTICS);
+                diags.push(Diagnostic::error(
+                    "too-many-problems",
+                    format!("{more} more problems are not shown"),
+                ));
+            }
+            Err(diags)
+        }
+    }
+}
+
+fn build(ctx: &mut Ctx<'_, '_>, raw: &RawDeal) -> Option<Deal> {
+    let origin = Position { line: 1, column: 1 };
+    let Some(root) = &raw.root else {
+        ctx.hint(
+            "empty-file",
+            "the deal file is empty",
+            "",
+            origin,
+            "start with `candor: 1`; see example-deals/ for complete files",
+        );
+        return None;
+    };
+    // The version comes first: under another version the other fields may mean
+    // something else, so nothing more is said.
+    if let Value::Mapping(entries) = &root.value {
+        let version = entries
+            .iter()
+            .find(|(k, v)| k.scalar() == Some("candor") && !v.is_null());
+        if let Some((_, v)) = version {
+            if v.scalar().map(str::trim) != Some("1") {
+                let shown = v.scalar().map_or("a structure", str::trim);
+                ctx.hint(
+                    "unknown-version",
+                    format!("this candor reads deal files of version 1, not `{shown}`"),
+                    "candor",
+                    v.position,
+                    "write `candor: 1` and follow the version 1 format",
+                );
+                return None;
+            }
+        }
+    }
+    let top = ctx.fields(root, "", TOP)?;
+    ctx.required(&top, "", "candor", "1");
+
+    let mut header = None;
+    if let Some(d) = ctx.required(
+        &top,
+        "",
+        "deal",
+        "{ name: ..., currency: EUR, as_of: 2027-01-01 }",
+    ) {
+        if let Some(f) = ctx.fields(d, "deal", DEAL) {
+            let name = ctx.required(&f, "deal", "name", "Ridgeline quarry extension");
+            let currency = ctx.required(&f, "deal", "currency", "EUR");
+            let as_of = ctx.required(&f, "deal", "as_of", "2027-01-01");
+            let name = name.and_then(|n| ctx.text(n, "deal.name"));
+            let name = match name {
+                Some(n) if n.trim().is_empty() => {
+                    let at = f.get("name").map_or(f.position, |n| n.position);
+                    ctx.report("missing-field", "`deal.name` is empty", "deal.name", at);
+                    None
+                }
+                other => other.map(|n| n.trim().to_string()),
+            };
+            let currency = currency.and_then(|n| {
+                let text = ctx.scalar(n, "deal.currency", "a currency code such as EUR")?;
+                values::check_currency(text)
+                    .map_err(|e| ctx.value_error("bad-currency", e, "deal.currency", n.position))
+                    .ok()
+            });
+            let as_of = as_of.and_then(|n| ctx.date(n, "deal.as_of"));
+            if let (Some(n), Some(c), Some(a)) = (name, currency, as_of) {
+                header = Some((n, c, a));
+            }
+        }
+    }
+
+    let hurdle = ctx
+        .required(&top, "", "hurdle_rate", "9%")
+        .and_then(|n| ctx.rate(n, "hurdle_rate"));
+    let finance = top.get("finance_rate").map(|n| ctx.rate(n, "finance_rate"));
+    let reinvest = top
+        .get("reinvestment_rate")
+        .map(|n| ctx.rate(n, "reinvestment_rate"));
+
+    let flows_node = ctx.required(
+        &top,
+        "",
+        "cash_flows",
+        "{ every: year, amounts: [-1000, 600, 600] }",
+    );
+    let base = flows_node.and_then(|n| ctx.cash_flows(n, "cash_flows"));
+
+    let mut scenarios = Vec::new();
+    if let Some(base) = &base {
+        let at = flows_node.map_or(origin, |n| n.position);
+        if let Some(flows) = ctx.resolve(base, "cash_flows", at) {
+            scenarios.push(Scenario {
+                name: "base".to_string(),
+                description: String::new(),
+                flows,
+            });
+        }
+    }
+    if let Some(s) = top.get("scenarios") {
+        match &s.value {
+            Value::Mapping(entries) => {
+                let mut seen: Vec<&str> = Vec::new();
+                for (k, v) in entries {
+                    let Some(name) = k.scalar() else {
+                        ctx.wrong_type(k, "scenarios", "a scenario name");
+                        continue;
+                    };
+                    let path = format!("scenarios.{name}");
+                    if name == "base" || name.trim().is_empty() {
+                        ctx.hint(
+                            "reserved-name",
+                            format!("a scenario cannot be called `{name}`"),
+                            &path,
+                            k.position,
+                            "`base` is the deal's own flows; choose another name",
+                        );
+                        continue;
+                    }
+                    if seen.contains(&name) {
+                        ctx.hint(
+                            "duplicate-key",
+                            format!("scenario `{name}` is given more than once"),
+                            &path,
+                            k.position,
+                            "give each scenario a name of its own",
+                        );
+                        continue;
+                    }
+                    seen.push(name);
+                    if v.is_null() {
+                        ctx.hint(
+                            "wrong-type",
+                            format!("scenario `{name}` changes nothing"),
+                            &path,
+                            v.position,
+                            "give at least one of `inflows_factor`, `outflows_factor`, `shift_inflows`, `cash_flows`",
+                        );
+                        continue;
+                    }
+                    if let Some((series, description)) = ctx.scenario(name, v, base.as_ref()) {
+                        if let Some(flows) = ctx.resolve(&series, &path, v.position) {
+                            if flows.points.iter().all(|p| p.amount.is_zero()) {
+                                ctx.report(
+                                    "all-zero-flows",
+                                    format!("every flow of scenario `{name}` is zero"),
+                                    &path,
+                                    v.position,
+                                );
+                                continue;
+                            }
+                            scenarios.push(Scenario {
+                                name: name.to_string(),
+                                description,
+                                flows,
+                            });
+                        }
+                    }
+                }
+            }
+            _ => ctx.wrong_type(s, "scenarios", "a mapping from scenario names to changes"),
+        }
+    }
+
+    let memo = match top.get("memo") {
+        Some(n) => memo(ctx, n),
+        None => Some(Memo::default()),
+    };
+    let signoff = match top.get("signoff") {
+        Some(n) => Some(signoff(ctx, n)?),
+        None => None,
+    };
+
+    let (name, currency, as_of) = header?;
+    let hurdle = hurdle?;
+    let rates = Rates {
+        hurdle,
+        finance: finance.unwrap_or(Some(hurdle))?,
+        reinvestment: reinvest.unwrap_or(Some(hurdle))?,
+    };
+    let clock = base?.clock();
+    Some(Deal {
+        name,
+        currency,
+        as_of,
+        rates,
+        clock,
+        scenarios,
+        memo: memo?,
+        signoff,
+    })
+}
+
+fn memo(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Memo> {
+    let f = ctx.fields(node, "memo", MEMO)?;
+    let recommendation = f
+        .get("recommendation")
+        .and_then(|n| ctx.text(n, "memo.recommendation"));
+    let summary = f.get("summary").and_then(|n| ctx.text(n, "memo.summary"));
+    let risks = f
+        .get("risks")
+        .map_or_else(Vec::new, |n| ctx.text_list(n, "memo.risks"));
+    let mut sections = Vec::new();
+    if let Some(n) = f.get("sections") {
+        match &n.value {
+            Value::Sequence(items) => {
+                for (i, item) in items.iter().enumerate() {
+                    let path = format!("memo.sections[{i}]");
+                    let Some(sf) = ctx.fields(item, &path, SECTION) else {
+                        continue;
+                    };
+                    let title = ctx.required(&sf, &path, "title", "Market");
+                    let text = ctx.required(&sf, &path, "text", "...");
+                    let title = title.and_then(|n| ctx.text(n, &join(&path, "title")));
+                    let text = text.and_then(|n| ctx.text(n, &join(&path, "text")));
+                    if let (Some(title), Some(text)) = (title, text) {
+                        sections.push(MemoSection { title, text });
+                    }
+                }
+            }
+            _ => ctx.wrong_type(n, "memo.sections", "a list of { title, text } sections"),
+        }
+    }
+    Some(Memo {
+        recommendation,
+        summary,
+        risks,
+        sections,
+    })
+}
+
+fn signoff(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Signoff> {
+    let f = ctx.fields(node, "signoff", SIGNOFF)?;
+    let prepared_by = f
+        .get("prepared_by")
+        .and_then(|n| ctx.text(n, "signoff.prepared_by"));
+    let reviewed_by = f
+        .get("reviewed_by")
+        .and_then(|n| ctx.text(n, "signoff.reviewed_by"));
+    let date = f.get("date").map(|n| ctx.date(n, "signoff.date"));
+    let decision = match f.get("decision") {
+        Some(n) => match ctx.choice(n, "signoff.decision", DECISIONS)? {
+            "approved" => SignoffDecision::Approved,
+            "declined" => SignoffDecision::Declined,
+            "deferred" => SignoffDecision::Deferred,
+            _ => SignoffDecision::Pending,
+        },
+        None => SignoffDecision::Pending,
+    };
+    Some(Signoff {
+        prepared_by,
+        reviewed_by,
+        decision,
+        date: date.flatten(),
+    })
+}
