@@ -1,8 +1,219 @@
-//! `candor rates`.
+//! `candor rates`: every real IRR and the committee figures, per scenario, as a
+//! terminal report, as JSON, or as batch screening of many series.
 
+use super::load::load_deal;
+use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::RatesArgs;
+use crate::engine::{self, Analysis, BalanceKind, Decision, ScenarioAnalysis, Stance};
+use crate::format::{decimals_to_separate, money_in, percent};
+use std::fmt::Write as _;
+use std::io::Write as _;
 
 /// Runs the command.
-pub fn run(_args: &RatesArgs) -> u8 {
-    todo!()
+pub fn run(args: &RatesArgs) -> u8 {
+    if let Some(batch) = &args.batch {
+        return run_batch(batch);
+    }
+    let Some(path) = &args.file else {
+        eprintln!("error: name a deal file or --batch FILE.jsonl");
+        return EXIT_INVALID;
+    };
+    let loaded = match load_deal(path) {
+        Ok(l) => l,
+        Err(failure) => {
+            for d in &failure.diagnostics {
+                eprintln!("{}\n", d.render(failure.source.as_deref()));
+            }
+            return EXIT_INVALID;
+        }
+    };
+    let analysis = engine::analyse(&loaded.deal);
+    let text = if args.json {
+        match serde_json::to_string_pretty(&analysis) {
+            Ok(t) => t + "\n",
+            Err(e) => {
+                eprintln!("error[internal]: could not write the analysis as JSON: {e}");
+                return EXIT_INTERNAL;
+            }
+        }
+    } else {
+        terminal_report(&analysis)
+    };
+    let mut out = std::io::stdout().lock();
+    if out.write_all(text.as_bytes()).is_err() {
+        return EXIT_INTERNAL;
+    }
+    EXIT_OK
+}
+
+fn run_batch(path: &std::path::Path) -> u8 {
+    let text = match std::fs::read_to_string(path) {
+        Ok(t) => t,
+        Err(e) => {
+            eprintln!("error[read-failed]: cannot read {}: {e}", path.display());
+            return EXIT_INVALID;
+        }
+    };
+    let lines = crate::screen::screen_all(&text);
+    let mut out = std::io::BufWriter::new(std::io::stdout().lock());
+    for l in lines {
+        if writeln!(out, "{l}").is_err() {
+            return EXIT_INTERNAL;
+        }
+    }
+    if out.flush().is_err() {
+        return EXIT_INTERNAL;
+    }
+    EXIT_OK
+}
+
+fn kind_words(k: BalanceKind) -> &'static str {
+    match k {
+        BalanceKind::PureInvestment => "pure investment",
+        BalanceKind::Mixed => "mixed balance",
+        BalanceKind::PureBorrowing => "pure borrowing",
+    }
+}
+
+fn stance_words(s: Stance) -> &'static str {
+    match s {
+        Stance::Investment => "net investment at the hurdle",
+        Stance::Borrowing => "net borrowing at the hurdle",
+        Stance::Neutral => "neutral at the hurdle",
+    }
+}
+
+fn decision_words(d: Decision) -> &'static str {
+    match d {
+        Decision::Accept => "accept",
+        Decision::Reject => "reject",
+        Decision::Indifferent => "indifferent",
+    }
+}
+
+/// The terminal report: one block per scenario.
+pub fn terminal_report(a: &Analysis) -> String {
+    let mut o = String::new();
+    let _ = writeln!(o, "{} ({})", a.deal, a.currency);
+    for s in &a.scenarios {
+        scenario_block(&mut o, s, &a.currency);
+    }
+    o
+}
+
+fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
+    let _ = writeln!(o);
+    let title = format!("scenario: {}", s.name);
+    let _ = writeln!(o, "{title}\n{}", "-".repeat(title.chars().count()));
+    let _ = writeln!(
+        o,
+        "  rates       hurdle {}, finance {}, reinvestment {}",
+        percent(s.hurdle_rate, 2),
+        percent(s.finance_rate, 2),
+        percent(s.reinvestment_rate, 2)
+    );
+    let irr = &s.irr;
+    let certified = if irr.certified { "certified" } else { "NOT certified" };
+    let _ = writeln!(
+        o,
+        "  IRRs        {} real, counted with multiplicity ({certified}; sign-change bound {})",
+        irr.count, irr.upper_bound
+    );
+    let annual: Vec<f64> = irr.roots.iter().filter_map(|r| r.annual_rate).collect();
+    let places = decimals_to_separate(&annual).max(4);
+    for r in &irr.roots {
+        let rate = match r.annual_rate {
+            Some(x) => percent(x, places),
+            None => format!("1e{:.1}", r.log10_annual_growth),
+        };
+        let mult = if r.multiplicity > 1 {
+            format!(" (multiplicity {})", r.multiplicity)
+        } else {
+            String::new()
+        };
+        let periodic = r
+            .periodic_rate
+            .map(|p| format!(", {} a period", percent(p, places)))
+            .unwrap_or_default();
+        let _ = writeln!(
+            o,
+            "    {rate:>12}{mult}{periodic}: {}, {} -> {}",
+            kind_words(r.balance_kind),
+            stance_words(r.stance),
+            decision_words(r.decision)
+        );
+    }
+    for u in &irr.unresolved {
+        let _ = writeln!(o, "    undecided between {} and {}", percent(u[0], places), percent(u[1], places));
+    }
+    if let Some(c) = &irr.complex_reading {
+        let _ = writeln!(
+            o,
+            "    no real IRR; complex rate {} {} {}i: {} -> {}",
+            percent(c.real_rate, 2),
+            if c.imaginary_rate < 0.0 { "-" } else { "+" },
+            percent(c.imaginary_rate.abs(), 2),
+            stance_words(c.stance),
+            decision_words(c.decision)
+        );
+    }
+    let _ = writeln!(
+        o,
+        "  NPV         {} at the hurdle -> {}",
+        money_in(s.npv_at_hurdle, currency),
+        decision_words(s.decision)
+    );
+    let opt = |x: Option<f64>| x.map_or("not defined".to_string(), |v| percent(v, 2));
+    let _ = writeln!(o, "  MIRR        {}", opt(s.mirr));
+    let _ = writeln!(o, "  RIC         {} (return on invested capital)", opt(s.return_on_invested_capital));
+    let _ = writeln!(
+        o,
+        "  multiple    {}",
+        s.money_multiple.map_or("not defined".to_string(), |m| format!("{m}x"))
+    );
+    let _ = writeln!(
+        o,
+        "  PI          {}",
+        s.profitability_index.map_or("not defined".to_string(), |p| format!("{p:.3}"))
+    );
+    let years = |y: Option<f64>| y.map_or("never".to_string(), |v| format!("{v:.2} years"));
+    let _ = writeln!(
+        o,
+        "  payback     {} (discounted: {}){}",
+        years(s.payback.simple_years),
+        years(s.payback.discounted_years),
+        if s.payback.turns_negative_again {
+            "; the cumulative position turns negative again later"
+        } else {
+            ""
+        }
+    );
+    if !s.cautions.is_empty() {
+        let _ = writeln!(o, "  cautions");
+        for c in &s.cautions {
+            let _ = writeln!(o, "    [{}] {}", c.code, c.title);
+            for line in wrap(&c.text, 72) {
+                let _ = writeln!(o, "      {line}");
+            }
+        }
+    }
+}
+
+/// Greedy word wrap.
+fn wrap(text: &str, width: usize) -> Vec<String> {
+    let mut lines = Vec::new();
+    let mut cur = String::new();
+    for word in text.split_whitespace() {
+        if !cur.is_empty() && cur.chars().count() + 1 + word.chars().count() > width {
+            lines.push(std::mem::take(&mut cur));
+        }
+        if !cur.is_empty() {
+            cur.push(' ');
+        }
+        cur.push_str(word);
+    }
+    if !cur.is_empty() {
+        lines.push(cur);
+    }
+    lines
 }

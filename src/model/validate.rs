@@ -181,9 +181,14 @@ impl Ctx<'_, '_> {
 
     fn wrong_type(&mut self, node: &Node, path: &str, expected: &str) {
         let found = node.kind();
+        let what = if path.is_empty() {
+            "the file".to_string()
+        } else {
+            format!("`{path}`")
+        };
         self.report(
             "wrong-type",
-            format!("`{path}` should be {expected}, but it is {found}"),
+            format!("{what} should be {expected}, but it is {found}"),
             path,
             node.position,
         );
@@ -228,7 +233,7 @@ impl Ctx<'_, '_> {
                 };
                 self.hint(
                     "unknown-field",
-                    format!("unknown field `{name}` in `{}`", display_path(path)),
+                    format!("unknown field `{name}` {}", display_path(path)),
                     &field,
                     k.position,
                     hint,
@@ -1055,11 +1060,12 @@ fn period_date(start: NaiveDate, every: Frequency, n: u32) -> Option<NaiveDate> 
     }
 }
 
-fn display_path(path: &str) -> &str {
+/// Where a key sits, in words: "at the top level" or "in `deal`".
+fn display_path(path: &str) -> String {
     if path.is_empty() {
-        "the top level"
+        "at the top level".to_string()
     } else {
-        path
+        format!("in `{path}`")
     }
 }
 

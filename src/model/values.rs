@@ -56,7 +56,10 @@ pub fn parse_decimal(text: &str) -> Result<Decimal, ValueError> {
     if !well_formed {
         let hint = if t.contains(['e', 'E']) && t.bytes().any(|b| b.is_ascii_digit()) {
             "write the number out in full, without an exponent"
-        } else if t.contains([',', '_', ' ']) {
+        } else if t.contains([',', '_', ' '])
+            && t.chars()
+                .all(|c| c.is_ascii_digit() || ",_ .+-".contains(c))
+        {
             "write the number without thousands separators, such as 1150000.50"
         } else {
             "write a plain decimal such as 1150000 or -4200000.50"
