@@ -3,13 +3,92 @@
 
 pub mod analysis;
 pub mod flows;
+pub mod roots;
+pub mod irr;
+pub mod cautions;
+pub mod complex;
+pub mod dd;
+pub mod figures;
 
 pub use analysis::*;
 pub use flows::{FlowPoint, Flows};
 
-use crate::model::Deal;
+use crate::model::{Deal, Rates};
+use rust_decimal::prelude::*;
 
 /// Analyses the base case and every scenario of a validated deal.
-pub fn analyse(_deal: &Deal) -> Analysis {
-    todo!()
+pub fn analyse(deal: &Deal) -> Analysis {
+    Analysis {
+        deal: deal.name.clone(),
+        currency: deal.currency.clone(),
+        scenarios: deal
+            .scenarios
+            .iter()
+            .map(|s| analyse_scenario(&s.name, &s.flows, &deal.rates, &deal.currency))
+            .collect(),
+    }
+}
+
+/// Every figure for one series of flows at the deal's rates.
+pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates, currency: &str) -> ScenarioAnalysis {
+    let flows = flows.normalised();
+    let hurdle = rates.hurdle.to_f64().unwrap_or(0.0);
+    let finance = rates.finance.to_f64().unwrap_or(hurdle);
+    let reinvestment = rates.reinvestment.to_f64().unwrap_or(hurdle);
+    let set = irr::roots_of(&flows);
+    let report = irr::report_from_set(&flows, &set, hurdle, true);
+    // LEAD-WIRING: complex reading once engine::complex lands.
+    let _ = report.count;
+    let npv_at_hurdle = figures::npv_exact(&flows, rates.hurdle).unwrap_or(Decimal::ZERO);
+    let decision = if npv_at_hurdle > Decimal::ZERO {
+        Decision::Accept
+    } else if npv_at_hurdle < Decimal::ZERO {
+        Decision::Reject
+    } else {
+        Decision::Indifferent
+    };
+    let marks: Vec<f64> = report.roots.iter().filter_map(|r| r.annual_rate).collect();
+    let rows: Vec<FlowRow> = flows
+        .points
+        .iter()
+        .enumerate()
+        .map(|(i, p)| FlowRow {
+            period: p.period,
+            date: p.date.map(|d| d.to_string()),
+            years: flows.years(i),
+            amount: p.amount,
+            note: p.note.clone(),
+        })
+        .collect();
+    let inflows: Decimal = flows.points.iter().map(|p| p.amount).filter(|a| a.is_sign_positive()).sum();
+    let outflows: Decimal = flows.points.iter().map(|p| p.amount).filter(|a| a.is_sign_negative()).sum();
+    let totals = Totals {
+        inflows,
+        outflows,
+        net: inflows + outflows,
+        horizon_years: if flows.points.is_empty() { 0.0 } else { flows.years(flows.points.len() - 1) },
+    };
+    let mirr = figures::mirr(&flows, finance, reinvestment);
+    let analysis = ScenarioAnalysis {
+        name: name.to_string(),
+        hurdle_rate: hurdle,
+        finance_rate: finance,
+        reinvestment_rate: reinvestment,
+        periods_per_year: flows.periods_per_year,
+        flows: rows,
+        totals,
+        npv_at_hurdle,
+        decision,
+        mirr,
+        return_on_invested_capital: figures::return_on_invested_capital(&flows, finance),
+        money_multiple: figures::money_multiple(&flows),
+        profitability_index: figures::profitability_index(&flows, hurdle),
+        payback: figures::payback(&flows, hurdle),
+        npv_profile: figures::npv_profile(&flows, &marks, hurdle),
+        irr: report,
+        cautions: Vec::new(),
+    };
+    // LEAD-WIRING: cautions once engine::cautions lands.
+    let _ = currency;
+    analysis
 }

@@ -86,8 +86,8 @@ struct Series {
     n: Vec<f64>,
     /// Exponents as integers.
     n_int: Vec<u64>,
-    /// Exact coefficients as integers at a common decimal scale.
-    exact: Vec<BigInt>,
+    /// The exact coefficients (turned into integers only for exact checks).
+    amounts: Vec<Decimal>,
     /// Index into `gap_vals` of the gap before term k (k >= 1).
     gap_idx: Vec<usize>,
     /// The distinct gaps between consecutive exponents.
@@ -104,6 +104,9 @@ struct Series {
 #[derive(Debug, Clone, Copy)]
 struct Point {
     y: f64,
+    side: Side,
+    /// Orders computed (higher entries are not valid).
+    orders: usize,
     /// Sum over positive coefficients of c_k n_k^d w_k.
     a: [f64; ORDERS],
     /// Sum over negative coefficients of |c_k| n_k^d w_k.
@@ -151,6 +154,8 @@ enum Side {
 
 struct Solver<'a> {
     s: &'a Series,
+    /// True while subdividing: interval ends then need every order.
+    in_search: bool,
     evals: usize,
     cache: Vec<(u64, Side, Point)>,
 }
@@ -159,17 +164,6 @@ impl Series {
     fn new(amounts: &[Decimal], exps: &[u64]) -> Series {
         let c: Vec<f64> = amounts.iter().map(|a| a.to_f64().unwrap_or(0.0)).collect();
         let n: Vec<f64> = exps.iter().map(|&e| e as f64).collect();
-        let scale = amounts.iter().map(|a| a.scale()).max().unwrap_or(0);
-        let exact = amounts
-            .iter()
-            .map(|a| {
-                let mut m = BigInt::from(a.mantissa());
-                for _ in a.scale()..scale {
-                    m *= 10;
-                }
-                m
-            })
-            .collect();
         let mut gap_vals: Vec<f64> = Vec::new();
         let mut gap_idx = vec![0usize; exps.len()];
         for k in 1..exps.len() {
@@ -198,7 +192,7 @@ impl Series {
             c,
             n,
             n_int: exps.to_vec(),
-            exact,
+            amounts: amounts.to_vec(),
             gap_idx,
             gap_vals,
             npow,
@@ -210,58 +204,50 @@ impl Series {
         *self.n.last().unwrap_or(&0.0)
     }
 
-    /// Evaluates every derivative order at `y` with the scaling of `side`.
-    fn eval(&self, y: f64, side: Side) -> Point {
+    /// Evaluates derivative orders `0..orders` at `y` with the scaling of `side`.
+    fn eval(&self, y: f64, side: Side, orders: usize) -> Point {
+        let orders = orders.clamp(1, ORDERS);
         let k_len = self.c.len();
-        let mut a = [0.0; ORDERS];
-        let mut b = [0.0; ORDERS];
-        let mut ea = [0.0; ORDERS];
+        // acc[0]: positive coefficients, acc[1]: negative ones (absolute values).
+        let mut acc = [[0.0f64; ORDERS]; 2];
+        let mut ea = [0.0f64; ORDERS];
         // Factors exp(-y * gap) (Upper) or exp(y * gap) (Lower), each <= 1.
+        let factor = |g: f64| match side {
+            Side::Upper => (-y * g).exp(),
+            Side::Lower => (y * g).exp(),
+        };
         let mut z = [0.0f64; 64];
         let zs: Vec<f64>;
         let factors: &[f64] = if self.gap_vals.len() <= 64 {
             for (i, g) in self.gap_vals.iter().enumerate() {
-                z[i] = match side {
-                    Side::Upper => (-y * g).exp(),
-                    Side::Lower => (y * g).exp(),
-                };
+                z[i] = factor(*g);
             }
             &z[..self.gap_vals.len()]
         } else {
-            zs = self
-                .gap_vals
-                .iter()
-                .map(|g| match side {
-                    Side::Upper => (-y * g).exp(),
-                    Side::Lower => (y * g).exp(),
-                })
-                .collect();
+            zs = self.gap_vals.iter().map(|g| factor(*g)).collect();
             &zs
         };
         let base = match side {
             Side::Upper => 0.0,
             Side::Lower => self.last_n(),
         };
-        let ay = y.abs();
+        // Relative error of a term: one rounding per multiplication and per exp on the
+        // way to it, plus the rounding of the exponents y*gap carried through (2x safety).
+        let per_step = 4.0 * EPS;
+        let fixed = 2.0 * EPS * (ORDERS + 4) as f64;
+        let per_unit = 2.0 * EPS * y.abs();
         let mut w = 1.0f64;
-        let mut accumulate = |k: usize, w: f64, steps: usize| {
-            let t = self.c[k] * w;
-            // Relative error of this term: one rounding per multiplication and per exp,
-            // plus the rounding of the exponent y*gap carried through (2x safety).
-            let rel = EPS * (2.0 * (2 * steps + ORDERS + 4) as f64 + 2.0 * ay * (self.n[k] - base).abs());
-            let np = &self.npow[k];
-            if t >= 0.0 {
-                for d in 0..ORDERS {
-                    let v = t * np[d];
-                    a[d] += v;
-                    ea[d] += v * rel;
-                }
-            } else {
-                for d in 0..ORDERS {
-                    let v = -t * np[d];
-                    b[d] += v;
-                    ea[d] += v * rel;
-                }
+        let mut term = |k: usize, w: f64, steps: usize| {
+            let c = self.c[k];
+            let neg = usize::from(c < 0.0);
+            let rel = fixed + per_step * steps as f64 + per_unit * (self.n[k] - base).abs();
+            let nk = self.n[k];
+            let mut v = c.abs() * w;
+            let row = &mut acc[neg];
+            for d in 0..orders {
+                row[d] += v;
+                ea[d] += v * rel;
+                v *= nk;
             }
         };
         match side {
@@ -270,7 +256,7 @@ impl Series {
                     if k > 0 {
                         w *= factors[self.gap_idx[k]];
                     }
-                    accumulate(k, w, k);
+                    term(k, w, k);
                 }
             }
             Side::Lower => {
@@ -278,30 +264,38 @@ impl Series {
                     if k + 1 < k_len {
                         w *= factors[self.gap_idx[k + 1]];
                     }
-                    accumulate(k, w, k_len - 1 - k);
+                    term(k, w, k_len - 1 - k);
                 }
             }
         }
-        let mut err = [0.0; ORDERS];
-        for d in 0..ORDERS {
+        let [a, b] = acc;
+        let mut err = [f64::INFINITY; ORDERS];
+        for d in 0..orders {
             // Summation error of two sums of non-negative terms, plus a floor for
-            // underflowed terms and for the one rounding of each coefficient.
+            // underflowed terms.
             err[d] = ea[d]
                 + (k_len as f64 + 2.0) * 2.0 * EPS * (a[d] + b[d])
                 + 1e-290 * self.abs_sum * self.npow.last().map_or(1.0, |p| p[d]);
         }
-        Point { y, a, b, err }
+        Point { y, side, orders, a, b, err }
     }
 }
 
 impl<'a> Solver<'a> {
-    fn point(&mut self, y: f64, side: Side) -> Point {
+    /// The point evaluation at `y` with at least `orders` derivative orders.
+    fn point(&mut self, y: f64, side: Side, orders: usize) -> Point {
         let key = y.to_bits();
-        if let Some((_, _, p)) = self.cache.iter().rev().take(64).find(|(k, s, _)| *k == key && *s == side) {
+        if let Some((_, _, p)) = self
+            .cache
+            .iter()
+            .rev()
+            .take(64)
+            .find(|(k, s, p)| *k == key && *s == side && p.orders >= orders)
+        {
             return *p;
         }
         self.evals += 1;
-        let p = self.s.eval(y, side);
+        let p = self.s.eval(y, side, orders);
         self.cache.push((key, side, p));
         if self.cache.len() > 256 {
             self.cache.drain(..128);
@@ -315,8 +309,9 @@ impl<'a> Solver<'a> {
 
     /// Encloses f^(d) over [a, b] (same side); returns (lo, hi) in the scale of `a`.
     fn enclose(&mut self, a: f64, b: f64, side: Side, d: usize) -> (f64, f64) {
-        let pa = self.point(a, side);
-        let pb = self.point(b, side);
+        let need = if self.in_search { ORDERS } else { d + 1 };
+        let pa = self.point(a, side, need);
+        let pb = self.point(b, side, need);
         let (pos_a, neg_a) = pa.parts(d);
         let (pos_b, neg_b) = pb.parts(d);
         let (factor, ferr) = match side {
@@ -352,7 +347,8 @@ impl<'a> Solver<'a> {
         }
         let m = 0.5 * (a + b);
         let h = 0.5 * (b - a);
-        let pm = self.point(m, side);
+        // The midpoint is also where the interval is split next: take every order.
+        let pm = self.point(m, side, ORDERS);
         let conv = self.rescale(a, m, side) * (1.0 + 8.0 * EPS * (1.0 + ((m - a) * self.s.last_n()).abs()));
         let v = pm.value(d);
         let ev = pm.err[d] + 4.0 * EPS * (pm.a[d] + pm.b[d]);
@@ -395,44 +391,85 @@ impl<'a> Solver<'a> {
     /// Narrows a bracket [lo, hi] of f^(d) with certified opposite end signs to a tight
     /// certified interval around its single root (safeguarded Newton plus bisection).
     fn refine(&mut self, d: usize, mut lo: f64, mut hi: f64, side: Side, sign_lo: i8) -> (f64, f64, f64) {
-        let mut guess = 0.5 * (lo + hi);
-        for _ in 0..200 {
+        // Start from the better Newton step taken from either end.
+        let mut x = 0.5 * (lo + hi);
+        let mut best = f64::INFINITY;
+        for end in [lo, hi] {
+            let p = self.point(end, side, d + 2);
+            let n = self.newton(&p, d);
+            if n > lo && n < hi && (n - end).abs() < best {
+                best = (n - end).abs();
+                x = n;
+            }
+        }
+        let mut prev_step = f64::INFINITY;
+        for _ in 0..300 {
             if self.exhausted() {
                 break;
             }
-            let width = hi - lo;
-            if width <= 4.0 * f64::EPSILON * lo.abs().max(hi.abs()).max(1e-300) {
+            if hi - lo <= 4.0 * f64::EPSILON * lo.abs().max(hi.abs()).max(1e-300) {
                 break;
             }
-            let mid = if guess > lo && guess < hi { guess } else { 0.5 * (lo + hi) };
-            let p = self.point(mid, side);
+            if !(x > lo && x < hi) {
+                x = 0.5 * (lo + hi);
+            }
+            let p = self.point(x, side, d + 2);
             match p.sign(d) {
-                Some(s) if s == sign_lo => lo = mid,
-                Some(_) => hi = mid,
+                Some(s) if s == sign_lo => lo = x,
+                Some(_) => hi = x,
                 None => {
                     // Inside the error band: tighten from both sides around it, and go
-                    // on bisecting if that left the root on one side of the band.
-                    let (l2, h2) = self.tighten(d, lo, hi, mid, side, sign_lo);
-                    let stuck = l2 <= mid && h2 >= mid;
+                    // on if that left the root on one side of the band.
+                    let (l2, h2) = self.tighten(d, lo, hi, x, side, sign_lo);
+                    let stuck = l2 <= x && h2 >= x;
                     lo = l2;
                     hi = h2;
                     if stuck {
                         return (lo, hi, 0.5 * (lo + hi));
                     }
-                    guess = 0.5 * (lo + hi);
+                    x = 0.5 * (lo + hi);
+                    prev_step = f64::INFINITY;
                     continue;
                 }
             }
-            let slope = p.value(d + 1);
-            let newton = if slope != 0.0 { mid - p.value(d) / slope } else { f64::NAN };
-            // Fall back to bisection when Newton leaves the bracket or stalls.
-            guess = if newton.is_finite() && newton > lo && newton < hi && (newton - mid).abs() < 0.5 * width {
-                newton
+            let newton = self.newton(&p, d);
+            let step = (newton - x).abs();
+            if newton.is_finite() && newton > lo && newton < hi && step < 0.5 * prev_step {
+                if step <= 2.0 * f64::EPSILON * newton.abs().max(1e-300) {
+                    // Converged: find the nearest certain signs on both sides.
+                    let (l2, h2) = self.tighten(d, lo, hi, newton, side, sign_lo);
+                    if l2 <= newton && h2 >= newton {
+                        return (l2, h2, newton);
+                    }
+                    lo = l2;
+                    hi = h2;
+                    x = 0.5 * (lo + hi);
+                    prev_step = f64::INFINITY;
+                    continue;
+                }
+                prev_step = step;
+                x = newton;
             } else {
-                0.5 * (lo + hi)
-            };
+                // Newton left the bracket or stalled: bisect once.
+                prev_step = 0.5 * (hi - lo);
+                x = 0.5 * (lo + hi);
+            }
         }
         (lo, hi, 0.5 * (lo + hi))
+    }
+
+    /// The Newton step for f^(d) from a point, on the scaled function the point carries
+    /// (on the lower side f^(d) exp(y n_K), whose slope gains n_K f^(d)); NaN if flat.
+    fn newton(&self, p: &Point, d: usize) -> f64 {
+        let slope = match p.side {
+            Side::Upper => p.value(d + 1),
+            Side::Lower => p.value(d + 1) + self.s.last_n() * p.value(d),
+        };
+        if slope != 0.0 && slope.is_finite() {
+            p.y - p.value(d) / slope
+        } else {
+            f64::NAN
+        }
     }
 
     /// The sign at `mid` is uncertain: walk outwards from it to the nearest points on
@@ -440,9 +477,18 @@ impl<'a> Solver<'a> {
     fn tighten(&mut self, d: usize, lo: f64, hi: f64, mid: f64, side: Side, sign_lo: i8) -> (f64, f64) {
         let mut new_lo = lo;
         let mut new_hi = hi;
-        let mut step = 8.0 * f64::EPSILON * mid.abs().max(1e-300);
+        // First step: the width of the band where the error bound hides the sign, as
+        // the value's error over the slope suggests.
+        let p = self.point(mid, side, d + 2);
+        let slope = match side {
+            Side::Upper => p.value(d + 1),
+            Side::Lower => p.value(d + 1) + self.s.last_n() * p.value(d),
+        };
+        let band = 1.5 * (p.err[d] + 2.0 * EPS * (p.a[d] + p.b[d]) + p.value(d).abs()) / slope.abs();
+        let first = (8.0 * f64::EPSILON * mid.abs().max(1e-300)).max(if band.is_finite() { band } else { 0.0 });
+        let mut step = first;
         while mid - step > lo {
-            match self.point(mid - step, side).sign(d) {
+            match self.point(mid - step, side, d + 1).sign(d) {
                 Some(s) if s == sign_lo => {
                     new_lo = mid - step;
                     break;
@@ -454,9 +500,9 @@ impl<'a> Solver<'a> {
                 None => step *= 4.0,
             }
         }
-        let mut step = 8.0 * f64::EPSILON * mid.abs().max(1e-300);
+        let mut step = first;
         while mid + step < new_hi {
-            match self.point(mid + step, side).sign(d) {
+            match self.point(mid + step, side, d + 1).sign(d) {
                 Some(s) if s != sign_lo => {
                     new_hi = mid + step;
                     break;
@@ -553,6 +599,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     let series = Series::new(amounts, &exps);
     let mut solver = Solver {
         s: &series,
+        in_search: false,
         evals: 0,
         cache: Vec::new(),
     };
@@ -590,9 +637,9 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
                 break;
             }
             let upper_ok = solver.excludes_zero(0.0, delta, Side::Upper, m as usize)
-                && solver.point(delta, Side::Upper).sign(0).is_some();
+                && solver.point(delta, Side::Upper, 1).sign(0).is_some();
             let lower_ok = solver.excludes_zero(-delta, 0.0, Side::Lower, m as usize)
-                && solver.point(-delta, Side::Lower).sign(0).is_some();
+                && solver.point(-delta, Side::Lower, 1).sign(0).is_some();
             if upper_ok && lower_ok {
                 found = true;
                 break;
@@ -617,8 +664,8 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         if lo >= hi {
             continue;
         }
-        let sl = solver.point(lo, side).sign(0);
-        let sh = solver.point(hi, side).sign(0);
+        let sl = solver.point(lo, side, 2).sign(0);
+        let sh = solver.point(hi, side, 2).sign(0);
         match (known, sl, sh) {
             (Some(0), _, _) => {}
             (Some(1), Some(a), Some(b)) if a != b => {
@@ -658,6 +705,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
 
 /// Subdivision search over [lo, hi] on one side of 0.
 fn search(solver: &mut Solver<'_>, lo: f64, hi: f64, side: Side, roots: &mut Vec<FoundRoot>, out: &mut RootSet) {
+    solver.in_search = true;
     let mut stack: Vec<(f64, f64)> = vec![(lo, hi)];
     while let Some((a, b)) = stack.pop() {
         if solver.exhausted() {
@@ -668,8 +716,8 @@ fn search(solver: &mut Solver<'_>, lo: f64, hi: f64, side: Side, roots: &mut Vec
         if solver.excludes_zero(a, b, side, 0) {
             continue;
         }
-        let sa = solver.point(a, side).sign(0);
-        let sb = solver.point(b, side).sign(0);
+        let sa = solver.point(a, side, 1).sign(0);
+        let sb = solver.point(b, side, 1).sign(0);
         let (Some(sa), Some(sb)) = (sa, sb) else {
             // Interval ends always carry certain signs (chosen so); be safe anyway.
             out.certified = false;
@@ -715,7 +763,7 @@ fn split_point(solver: &mut Solver<'_>, a: f64, b: f64, side: Side) -> Option<f6
     let w = b - a;
     for frac in [0.5, 0.375, 0.625, 0.25, 0.75, 0.125, 0.875, 0.0625, 0.9375] {
         let m = a + w * frac;
-        if m > a && m < b && solver.point(m, side).sign(0).is_some() {
+        if m > a && m < b && solver.point(m, side, ORDERS).sign(0).is_some() {
             return Some(m);
         }
     }
@@ -735,8 +783,8 @@ fn convex_case(
     roots: &mut Vec<FoundRoot>,
     out: &mut RootSet,
 ) -> bool {
-    let da = solver.point(a, side).sign(1);
-    let db = solver.point(b, side).sign(1);
+    let da = solver.point(a, side, 2).sign(1);
+    let db = solver.point(b, side, 2).sign(1);
     let (Some(da), Some(db)) = (da, db) else {
         return false;
     };
@@ -790,7 +838,7 @@ fn convex_case(
     out.certified = false;
     out.unresolved.push((p, q));
     // The parts of [a, b] outside [p, q] are monotone: settle them.
-    for (x0, x1, s0, s1) in [(a, p, Some(sa), solver.point(p, side).sign(0)), (q, b, solver.point(q, side).sign(0), Some(sb))] {
+    for (x0, x1, s0, s1) in [(a, p, Some(sa), solver.point(p, side, 1).sign(0)), (q, b, solver.point(q, side, 1).sign(0), Some(sb))] {
         if let (Some(s0), Some(s1)) = (s0, s1) {
             if s0 != s1 && x0 < x1 {
                 let (l, h, y) = solver.refine(0, x0, x1, side, s0);
@@ -878,8 +926,17 @@ fn exact_multiplicity(s: &Series, p: &BigInt, q: &BigInt) -> Option<u32> {
         return None;
     }
     // f^(j)(ln x) * p^N = sum c_k (-n_k)^j q^(n_k) p^(N - n_k).
+    // Integer coefficients at a common decimal scale.
+    let scale = s.amounts.iter().map(|a| a.scale()).max().unwrap_or(0);
+    let exact = s.amounts.iter().map(|a| {
+        let mut m = BigInt::from(a.mantissa());
+        for _ in a.scale()..scale {
+            m *= 10;
+        }
+        m
+    });
     let mut sums: Vec<BigInt> = vec![BigInt::zero(); ORDERS];
-    for (k, ck) in s.exact.iter().enumerate() {
+    for (k, ck) in exact.enumerate() {
         let nk = s.n_int[k];
         let term = ck * num_traits::pow(q.clone(), nk as usize) * num_traits::pow(p.clone(), (big_n - nk) as usize);
         let mut mult = BigInt::one();

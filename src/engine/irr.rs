@@ -1,0 +1,125 @@
+//! From the roots in `y` to the IRR report: annual and periodic rates, certified
+//! intervals, the balance path at each root and the stance at the hurdle.
+
+use super::analysis::{IrrReport, Root, SignBounds};
+use super::flows::Flows;
+use super::roots::{find_roots, RootSet};
+use super::{figures, Decision, Stance};
+
+/// Annual rates above this, or below -99%, describe no economic reality.
+pub const EXTREME_HIGH: f64 = 10.0;
+/// See [`EXTREME_HIGH`].
+pub const EXTREME_LOW: f64 = -0.99;
+
+/// Finds the roots of already normalised flows.
+pub fn roots_of(flows: &Flows) -> RootSet {
+    let amounts: Vec<_> = flows.points.iter().map(|p| p.amount).collect();
+    let offsets: Vec<i64> = flows.points.iter().map(|p| p.offset).collect();
+    find_roots(&amounts, &offsets, flows.units_per_year)
+}
+
+/// `expm1` that never returns inf: rates too large for a float become `None`.
+fn rate_from_log(log_growth: f64) -> Option<f64> {
+    let r = log_growth.exp_m1();
+    r.is_finite().then_some(r)
+}
+
+/// Widens a float interval by a few units in the last place on each side, so that the
+/// rounding of the conversion from `y` cannot move an end past the root.
+fn widen(lo: f64, hi: f64) -> [f64; 2] {
+    let down = lo - 8.0 * f64::EPSILON * lo.abs().max(f64::MIN_POSITIVE);
+    let up = hi + 8.0 * f64::EPSILON * hi.abs().max(f64::MIN_POSITIVE);
+    [down.max(-1.0), if up.is_finite() { up } else { f64::MAX }]
+}
+
+/// Builds the IRR report for normalised flows at an annual hurdle. With
+/// `with_paths` false the balance-path rows are left out (batch screening).
+pub fn irr_report(flows: &Flows, hurdle: f64, with_paths: bool) -> IrrReport {
+    let set = roots_of(flows);
+    report_from_set(flows, &set, hurdle, with_paths)
+}
+
+/// Builds the IRR report from a root set.
+pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bool) -> IrrReport {
+    let per_year = 1.0 / set.step_years;
+    let roots = set
+        .roots
+        .iter()
+        .map(|r| {
+            let log_annual = r.y * per_year;
+            let annual = rate_from_log(log_annual);
+            let periodic = flows
+                .periods_per_year
+                .map(|_| (r.y / set.step_units as f64).exp_m1())
+                .filter(|x| x.is_finite());
+            let lo = (r.lo * per_year).exp_m1();
+            let hi = (r.hi * per_year).exp_m1();
+            let path = figures::balance_path(flows, log_annual);
+            let balance_kind = figures::balance_kind(&path);
+            let stance = figures::stance(flows, log_annual, hurdle);
+            let decision = match annual {
+                Some(k) => figures::decision_for_root(k, hurdle, stance),
+                None => match stance {
+                    Stance::Investment => Decision::Accept,
+                    Stance::Borrowing => Decision::Reject,
+                    Stance::Neutral => Decision::Indifferent,
+                },
+            };
+            let extreme = annual.is_none_or(|k| !(EXTREME_LOW..=EXTREME_HIGH).contains(&k));
+            Root {
+                annual_rate: annual,
+                periodic_rate: periodic,
+                log10_annual_growth: log_annual / std::f64::consts::LN_10,
+                multiplicity: r.multiplicity,
+                interval: widen(lo, hi),
+                balance_kind,
+                stance,
+                decision,
+                extreme,
+                balance_path: if with_paths { path } else { Vec::new() },
+            }
+        })
+        .collect();
+    let method = certificate_text(set);
+    IrrReport {
+        count: set.count(),
+        upper_bound: set.descartes,
+        certified: set.certified,
+        bounds: SignBounds {
+            descartes: set.descartes,
+            above_zero: set.above_zero,
+            below_zero: set.below_zero,
+        },
+        method,
+        roots,
+        unresolved: set
+            .unresolved
+            .iter()
+            .map(|&(a, b)| widen((a * per_year).exp_m1(), (b * per_year).exp_m1()))
+            .collect(),
+        complex_reading: None,
+    }
+}
+
+/// One sentence saying how the count was established.
+fn certificate_text(set: &RootSet) -> String {
+    let count = set.count();
+    if !set.certified {
+        return format!(
+            "Not certified: {count} root(s) found, but {} interval(s) could not be decided in binary floating point; the sign-change bound is {}.",
+            set.unresolved.len(),
+            set.descartes
+        );
+    }
+    if set.descartes == 0 {
+        return "The flows never change sign, so no rate of return exists (Descartes' rule of signs).".to_string();
+    }
+    let norstrom = match (set.above_zero, set.below_zero) {
+        (Some(a), Some(b)) => format!(" Cumulative sums change sign {a} time(s) (bound above 0%) and backward sums {b} time(s) (bound below 0%)."),
+        _ => " The flows sum to zero, so 0% is a root.".to_string(),
+    };
+    format!(
+        "Count {count} proven complete: every interval of rates was settled by enclosures with rigorous rounding-error bounds, and the count is within the sign-change bound {} with the same parity (Descartes; Laguerre for uneven times).{norstrom}",
+        set.descartes
+    )
+}
