@@ -120,9 +120,9 @@ impl Diagnostic {
             if let Some(text) = src.lines().nth(p.line.saturating_sub(1)) {
                 let gutter = p.line.to_string();
                 let pad = " ".repeat(gutter.len());
-                let shown: String = text.chars().map(|c| if c == '\t' { ' ' } else { c }).collect();
+                let (shown, caret) = excerpt(text, p.column);
                 let _ = write!(out, "\n {pad} |\n {gutter} | {shown}\n {pad} | ");
-                out.push_str(&" ".repeat(p.column.saturating_sub(1)));
+                out.push_str(&" ".repeat(caret.saturating_sub(1)));
                 out.push('^');
             }
         }
@@ -131,6 +131,35 @@ impl Diagnostic {
         }
         out
     }
+}
+
+/// Longest source line shown whole; longer lines are cut to a window around the column.
+const MAX_SHOWN: usize = 100;
+
+/// The source line as shown (tabs as spaces, long lines cut around `column` with `...`)
+/// and the caret's column within what is shown.
+fn excerpt(text: &str, column: usize) -> (String, usize) {
+    let chars: Vec<char> = text
+        .chars()
+        .map(|c| if c == '\t' { ' ' } else { c })
+        .collect();
+    if chars.len() <= MAX_SHOWN {
+        return (chars.into_iter().collect(), column);
+    }
+    let at = column.saturating_sub(1).min(chars.len());
+    let from = at.saturating_sub(MAX_SHOWN / 3);
+    let to = (from + MAX_SHOWN).min(chars.len());
+    let mut shown = String::new();
+    let mut caret = at - from + 1;
+    if from > 0 {
+        shown.push_str("...");
+        caret += 3;
+    }
+    shown.extend(&chars[from..to]);
+    if to < chars.len() {
+        shown.push_str("...");
+    }
+    (shown, caret)
 }
 
 impl std::fmt::Display for Diagnostic {
@@ -145,4 +174,33 @@ pub type Diagnostics = Vec<Diagnostic>;
 /// True when any diagnostic in the list is an error.
 pub fn has_errors(diags: &[Diagnostic]) -> bool {
     diags.iter().any(|d| d.severity == Severity::Error)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn render_points_at_the_column() {
+        let d = Diagnostic::error("bad-date", "no such day")
+            .in_file("deal.yaml")
+            .at_field("deal.as_of")
+            .at(2, 10)
+            .with_hint("check the month");
+        let text = d.render(Some("candor: 1\n  as_of: 2027-02-30\n"));
+        assert_eq!(
+            text,
+            "error[bad-date]: no such day\n  --> deal.yaml:2:10  (field `deal.as_of`)\n   |\n 2 |   as_of: 2027-02-30\n   |          ^\n  = hint: check the month"
+        );
+    }
+
+    #[test]
+    fn long_lines_are_cut_around_the_column() {
+        let line = format!("{}X{}", "a".repeat(500), "b".repeat(500));
+        let (shown, caret) = excerpt(&line, 501);
+        assert!(shown.len() < 120, "{}", shown.len());
+        assert!(shown.starts_with("...") && shown.ends_with("..."));
+        assert_eq!(shown.chars().nth(caret - 1), Some('X'));
+        assert_eq!(excerpt("short", 3), ("short".to_string(), 3));
+    }
 }

@@ -222,7 +222,7 @@ impl Ctx<'_, '_> {
                     format!("`{field}` is given more than once"),
                     &field,
                     k.position,
-                    "keep one of them; YAML does not say which would win",
+                    "keep one of them: a key may appear once in a mapping",
                 );
                 continue;
             }
