@@ -1,4 +1,156 @@
-//! Typst markup to an archival PDF.
+//! Typst markup to an archival PDF (PDF/A-3b) with typst-as-lib.
+//!
+//! Only the fonts bundled in the binary are used, never the machine's, and the creation
+//! date is fixed by the caller, so the same markup and files give the same bytes on any
+//! machine. Typst's errors come back as candor diagnostics with the code `typeset`.
 
-/// Typesets the markup.
-pub fn typeset() {}
+use crate::diag::Diagnostic;
+use chrono::{Datelike, NaiveDate, NaiveDateTime, Timelike};
+use typst::diag::SourceDiagnostic;
+use typst::foundations::{Datetime, Smart};
+use typst_as_lib::typst_kit_options::TypstKitFontOptions;
+use typst_as_lib::{TypstAsLibError, TypstEngine};
+use typst_layout::PagedDocument;
+use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
+
+/// The virtual path of the main markup file; diagnostics name it.
+pub const MAIN_FILE: &str = "/memo.typ";
+
+/// How to typeset.
+#[derive(Debug, Clone)]
+pub struct TypesetOptions {
+    /// Creation time written into the PDF metadata (UTC) when the markup leaves
+    /// `document(date: ..)` to `auto`.
+    pub created: NaiveDateTime,
+    /// A stable identifier of the document (such as the input's hash); the PDF's
+    /// document ID is derived from it.
+    pub ident: String,
+}
+
+/// The creation time of a memo: the `SOURCE_DATE_EPOCH` value when one is given (seconds
+/// since 1970, the reproducible-builds convention), else midnight UTC of the as-of date.
+pub fn creation_time(
+    as_of: NaiveDate,
+    source_date_epoch: Option<&str>,
+) -> Result<NaiveDateTime, Diagnostic> {
+    match source_date_epoch.map(str::trim) {
+        None | Some("") => Ok(as_of.and_hms_opt(0, 0, 0).unwrap_or_default()),
+        Some(text) => text
+            .parse::<i64>()
+            .ok()
+            .and_then(|secs| chrono::DateTime::from_timestamp(secs, 0))
+            .map(|t| t.naive_utc())
+            .ok_or_else(|| {
+                Diagnostic::error(
+                    "source-date-epoch",
+                    format!(
+                        "SOURCE_DATE_EPOCH is `{text}`, not a whole number of seconds since 1970"
+                    ),
+                )
+                .with_hint("unset it, or give a value such as 1798675200")
+            }),
+    }
+}
+
+fn typst_datetime(t: NaiveDateTime) -> Option<Datetime> {
+    Datetime::from_ymd_hms(
+        t.year(),
+        u8::try_from(t.month()).ok()?,
+        u8::try_from(t.day()).ok()?,
+        u8::try_from(t.hour()).ok()?,
+        u8::try_from(t.minute()).ok()?,
+        u8::try_from(t.second()).ok()?,
+    )
+}
+
+/// Typesets Typst markup into PDF/A-3b bytes. `files` are the only files the markup
+/// can read (charts, the attached deal file), by virtual path such as `/charts/a.svg`.
+pub fn typeset(
+    markup: &str,
+    files: &[(String, Vec<u8>)],
+    options: &TypesetOptions,
+) -> Result<Vec<u8>, Diagnostic> {
+    for (name, _) in files {
+        if typst::syntax::VirtualPath::new(name).is_err() {
+            return Err(Diagnostic::error(
+                "typeset",
+                format!("`{name}` cannot be given to the typesetter as a file name"),
+            ));
+        }
+    }
+    let engine = TypstEngine::builder()
+        .main_file((MAIN_FILE, markup.to_string()))
+        .search_fonts_with(
+            TypstKitFontOptions::default()
+                .include_system_fonts(false)
+                .include_embedded_fonts(true),
+        )
+        .with_static_file_resolver(files.iter().map(|(n, b)| (n.as_str(), b.as_slice())))
+        .build();
+    let document: PagedDocument = engine.compile().output.map_err(from_typst_error)?;
+    let standards = PdfStandards::new(&[PdfStandard::A_3b]).map_err(|e| {
+        Diagnostic::error(
+            "typeset",
+            format!("PDF/A-3b is not available: {}", e.message()),
+        )
+    })?;
+    let timestamp = typst_datetime(options.created).ok_or_else(|| {
+        Diagnostic::error(
+            "typeset",
+            format!(
+                "the creation time {} cannot be written into a PDF",
+                options.created
+            ),
+        )
+    })?;
+    let pdf_options = PdfOptions {
+        ident: Smart::Custom(options.ident.clone()),
+        creator: Smart::Custom(Some(format!("candor {}", env!("CARGO_PKG_VERSION")))),
+        timestamp: Some(Timestamp::new_utc(timestamp)),
+        standards,
+        ..PdfOptions::default()
+    };
+    typst_pdf::pdf(&document, &pdf_options).map_err(|diags| from_diagnostics(&diags))
+}
+
+fn from_typst_error(err: TypstAsLibError) -> Diagnostic {
+    match err {
+        TypstAsLibError::TypstSource(diags) => from_diagnostics(&diags),
+        TypstAsLibError::HintedString(h) => {
+            let mut d =
+                Diagnostic::error("typeset", format!("typesetting failed: {}", h.message()));
+            if let Some(hint) = h.hints().first() {
+                d = d.with_hint(hint.to_string());
+            }
+            d
+        }
+        other => Diagnostic::error("typeset", format!("typesetting failed: {other}")),
+    }
+}
+
+fn from_diagnostics(diags: &[SourceDiagnostic]) -> Diagnostic {
+    let errors: Vec<&SourceDiagnostic> = diags
+        .iter()
+        .filter(|d| d.severity == typst::diag::Severity::Error)
+        .collect();
+    let shown = if errors.is_empty() {
+        diags.iter().collect()
+    } else {
+        errors
+    };
+    let message = shown
+        .iter()
+        .map(|d| d.message.to_string())
+        .collect::<Vec<_>>()
+        .join("; ");
+    let mut d =
+        Diagnostic::error("typeset", format!("typesetting failed: {message}")).in_file(MAIN_FILE);
+    let hints: Vec<String> = shown
+        .iter()
+        .flat_map(|d| d.hints.iter().map(|h| h.v.to_string()))
+        .collect();
+    if !hints.is_empty() {
+        d = d.with_hint(hints.join("; "));
+    }
+    d
+}

@@ -1,4 +1,905 @@
-//! The view model and the Typst markup of the memo.
+//! The memo's view model and its Typst markup: every number is formatted here
+//! (currency, thousands separators, percentages, readable negatives), every string
+//! from the deal file is escaped here, and the minijinja templates (built in, or a
+//! house style that replaces some of them) turn the view into markup.
+//!
+//! User text never becomes markup: the template environment escapes every value it
+//! prints unless the value was produced by one of our own filters, which build Typst
+//! string literals or escaped text themselves.
 
-/// Renders the markup.
-pub fn render() {}
+use crate::chart::{ChartKind, ScenarioCharts};
+use crate::diag::Diagnostic;
+use crate::engine::{
+    Analysis, BalanceKind, BalanceRow, Decision, FlowRow, Root, ScenarioAnalysis, Stance,
+};
+use crate::model::{Deal, SignoffDecision};
+use chrono::{Datelike, NaiveDate, NaiveDateTime, Timelike};
+use minijinja::{Environment, Error as TemplateError, ErrorKind, UndefinedBehavior, Value};
+use rust_decimal::Decimal;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// The name of the main template, the one rendered first.
+pub const MAIN_TEMPLATE: &str = "memo.typ.j2";
+
+/// The built-in house style: (template name, source), embedded in the binary.
+pub const BUILTIN_TEMPLATES: &[(&str, &str)] = &[
+    (MAIN_TEMPLATE, include_str!("../templates/memo.typ.j2")),
+    ("style.typ.j2", include_str!("../templates/style.typ.j2")),
+    (
+        "scenario.typ.j2",
+        include_str!("../templates/scenario.typ.j2"),
+    ),
+];
+
+/// Balance paths longer than this are shown as their first and last rows.
+pub const LONG_PATH_ROWS: usize = 40;
+/// Rows shown from the start of a long balance path.
+const HEAD_ROWS: usize = 15;
+/// Rows shown from the end of a long balance path.
+const TAIL_ROWS: usize = 10;
+
+/// Where the attached deal file's bytes are found by the typesetter.
+pub const SOURCE_FILE: &str = "/candor/source";
+
+/// Everything the memo needs besides the analysis and the deal.
+#[derive(Debug, Clone)]
+pub struct MemoContext {
+    /// The deal file's name as the PDF attachment will carry it.
+    pub source_name: String,
+    /// SHA-256 of the exact deal file bytes, lower-case hex.
+    pub source_sha256: String,
+    /// The document's creation time (UTC), fixed so that output is reproducible.
+    pub created: NaiveDateTime,
+    /// The charts drawn for each scenario, in the analysis' order.
+    pub charts: Vec<ScenarioCharts>,
+    /// Templates that replace built-in ones, by name (a house style).
+    pub templates: BTreeMap<String, String>,
+}
+
+/// The first 12 hex digits of a SHA-256: short enough for a footer, long enough to
+/// tell inputs apart in practice.
+pub fn short_hash(sha256_hex: &str) -> String {
+    sha256_hex.chars().take(12).collect()
+}
+
+/// Renders the memo's Typst markup.
+pub fn render(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> Result<String, Diagnostic> {
+    let view = build_view(analysis, deal, ctx);
+    let env = environment(&ctx.templates)?;
+    let template = env
+        .get_template(MAIN_TEMPLATE)
+        .map_err(template_diagnostic)?;
+    template
+        .render(Value::from_serialize(&view))
+        .map_err(template_diagnostic)
+}
+
+fn template_diagnostic(err: TemplateError) -> Diagnostic {
+    let mut message = format!("the memo template failed: {}", err.kind());
+    if let Some(detail) = err.detail() {
+        message.push_str(": ");
+        message.push_str(detail);
+    }
+    let mut diag = Diagnostic::error("template", message);
+    if let Some(name) = err.name() {
+        diag = diag.in_file(name.to_string());
+        if let Some(line) = err.line() {
+            diag = diag.at(line, 1);
+        }
+    }
+    diag
+}
+
+/// The template environment: built-in templates, then the overrides, printing every
+/// value escaped for Typst markup.
+fn environment(overrides: &BTreeMap<String, String>) -> Result<Environment<'static>, Diagnostic> {
+    let mut env = Environment::new();
+    env.set_undefined_behavior(UndefinedBehavior::Strict);
+    env.set_trim_blocks(true);
+    env.set_lstrip_blocks(true);
+    env.set_keep_trailing_newline(true);
+    for (name, source) in BUILTIN_TEMPLATES {
+        if !overrides.contains_key(*name) {
+            env.add_template_owned(name.to_string(), source.to_string())
+                .map_err(template_diagnostic)?;
+        }
+    }
+    for (name, source) in overrides {
+        env.add_template_owned(name.clone(), source.clone())
+            .map_err(template_diagnostic)?;
+    }
+    env.set_formatter(|out, _state, value| {
+        if value.is_undefined() || value.is_none() {
+            return Err(TemplateError::new(
+                ErrorKind::InvalidOperation,
+                "a missing value would be printed; test it with `if` first",
+            ));
+        }
+        let text = if value.is_safe() {
+            value.to_string()
+        } else if let Some(s) = value.as_str() {
+            escape_markup(s)
+        } else {
+            escape_markup(&value.to_string())
+        };
+        out.write_str(&text)
+            .map_err(|_| TemplateError::new(ErrorKind::WriteFailure, "cannot write markup"))
+    });
+    // `str`: a Typst string literal, for arguments in code (`title: {{ x|str }}`).
+    env.add_filter("str", |s: String| Value::from_safe_string(typst_string(&s)));
+    Ok(env)
+}
+
+/// Escapes text for Typst markup so that it prints literally: every character with a
+/// meaning in markup gets a backslash (Typst accepts an escape before any character),
+/// line breaks become spaces and control characters are dropped.
+pub fn escape_markup(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + text.len() / 4);
+    for c in text.chars() {
+        match c {
+            '\\' | '#' | '*' | '_' | '`' | '$' | '<' | '>' | '@' | '[' | ']' | '=' | '-' | '+'
+            | '/' | '~' | '"' | '\'' | '.' | ':' => {
+                out.push('\\');
+                out.push(c);
+            }
+            '\n' | '\r' | '\t' => out.push(' '),
+            c if c.is_control() => {}
+            c => out.push(c),
+        }
+    }
+    out
+}
+
+/// A Typst string literal holding `text` exactly (for code arguments such as a title).
+pub fn typst_string(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + 2);
+    out.push('"');
+    for c in text.chars() {
+        match c {
+            '\\' => out.push_str("\\\\"),
+            '"' => out.push_str("\\\""),
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '\t' => out.push_str("\\t"),
+            c if c.is_control() => out.push_str(&format!("\\u{{{:x}}}", c as u32)),
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
+/// The minus sign used for negatives (U+2212): it cannot be mistaken for a hyphen
+/// and lines up with the digits.
+pub const MINUS: char = '\u{2212}';
+
+fn group_thousands(digits: &str) -> String {
+    let mut out = String::with_capacity(digits.len() + digits.len() / 3);
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i) % 3 == 0 {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
+/// Money with thousands separators and two decimals: `1,234,567.89`, `−950,000.00`.
+pub fn format_money(amount: Decimal) -> String {
+    let rounded = amount.round_dp(2);
+    let text = format!("{:.2}", rounded.abs());
+    let (int, frac) = text.split_once('.').unwrap_or((text.as_str(), "00"));
+    let sign = if rounded.is_sign_negative() && !rounded.is_zero() {
+        MINUS.to_string()
+    } else {
+        String::new()
+    };
+    format!("{sign}{}.{frac}", group_thousands(int))
+}
+
+/// Money with the currency code in front: `EUR 1,234.00`.
+pub fn format_money_with_code(amount: Decimal, currency: &str) -> String {
+    format!("{currency} {}", format_money(amount))
+}
+
+/// A rate (fraction) as a percentage with `decimals` places: `9.00%`, `−3.50%`.
+pub fn format_rate(rate: f64, decimals: usize) -> String {
+    if !rate.is_finite() {
+        return "not finite".to_string();
+    }
+    let text = format!("{:.*}", decimals, (rate * 100.0).abs());
+    let zero = text.chars().all(|c| c == '0' || c == '.');
+    let sign = if rate < 0.0 && !zero {
+        MINUS.to_string()
+    } else {
+        String::new()
+    };
+    let (int, frac) = match text.split_once('.') {
+        Some((i, f)) => (i.to_string(), format!(".{f}")),
+        None => (text.clone(), String::new()),
+    };
+    format!("{sign}{}{frac}%", group_thousands(&int))
+}
+
+/// The fewest decimals (two or more, at most ten) at which the given rates print as
+/// different texts, so that two distinct roots never look the same.
+pub fn rate_decimals(rates: &[f64]) -> usize {
+    let finite: Vec<f64> = rates.iter().copied().filter(|r| r.is_finite()).collect();
+    (2..=10)
+        .find(|&d| {
+            let mut texts: Vec<String> = finite.iter().map(|&r| format_rate(r, d)).collect();
+            texts.sort();
+            texts.dedup();
+            texts.len() == finite.len()
+        })
+        .unwrap_or(10)
+}
+
+/// A root's annual rate as printed in the memo, with the decimals chosen for its
+/// scenario. Roots too large for a float print as a power of ten.
+pub fn format_root(root: &Root, decimals: usize) -> String {
+    match root.annual_rate {
+        Some(r) if r.is_finite() => format_rate(r, decimals),
+        _ => format!(
+            "about 10^{:.1} times the money a year",
+            root.log10_annual_growth
+        ),
+    }
+}
+
+/// The decimals used for every IRR of a scenario.
+pub fn scenario_rate_decimals(scenario: &ScenarioAnalysis) -> usize {
+    let rates: Vec<f64> = scenario
+        .irr
+        .roots
+        .iter()
+        .filter_map(|r| r.annual_rate)
+        .collect();
+    rate_decimals(&rates)
+}
+
+/// Years with two decimals.
+pub fn format_years(years: f64) -> String {
+    if years == 1.0 {
+        "1.00 year".to_string()
+    } else {
+        format!("{years:.2} years")
+    }
+}
+
+/// A ratio with two decimals (negative with a minus sign).
+pub fn format_ratio(value: f64) -> String {
+    if !value.is_finite() {
+        return "not finite".to_string();
+    }
+    let text = format!("{:.2}", value.abs());
+    if value < 0.0 && text != "0.00" {
+        format!("{MINUS}{text}")
+    } else {
+        text
+    }
+}
+
+/// A long date: `30 November 2026`.
+pub fn format_date_long(date: NaiveDate) -> String {
+    const MONTHS: [&str; 12] = [
+        "January",
+        "February",
+        "March",
+        "April",
+        "May",
+        "June",
+        "July",
+        "August",
+        "September",
+        "October",
+        "November",
+        "December",
+    ];
+    format!(
+        "{} {} {}",
+        date.day(),
+        MONTHS[date.month0() as usize],
+        date.year()
+    )
+}
+
+fn decision_word(d: Decision) -> &'static str {
+    match d {
+        Decision::Accept => "accept",
+        Decision::Reject => "reject",
+        Decision::Indifferent => "indifferent",
+    }
+}
+
+fn balance_kind_words(k: BalanceKind) -> &'static str {
+    match k {
+        BalanceKind::PureInvestment => "pure investment: the project never owes the investor",
+        BalanceKind::Mixed => "mixed: the balance changes sign along the way",
+        BalanceKind::PureBorrowing => "pure borrowing: the investor is the borrower throughout",
+    }
+}
+
+fn stance_words(s: Stance) -> &'static str {
+    match s {
+        Stance::Investment => "net investment at the hurdle, so a rate above the hurdle adds value",
+        Stance::Borrowing => "net borrowing at the hurdle, so a rate below the hurdle adds value",
+        Stance::Neutral => "neither net investment nor net borrowing at the hurdle",
+    }
+}
+
+fn multiplicity_word(m: u32) -> String {
+    match m {
+        1 => "simple".to_string(),
+        2 => "double".to_string(),
+        3 => "triple".to_string(),
+        n => format!("of multiplicity {n}"),
+    }
+}
+
+/// Splits narrative text into paragraphs at blank lines.
+fn paragraphs(text: &str) -> Vec<String> {
+    let mut out = Vec::new();
+    let mut current = String::new();
+    for line in text.lines() {
+        if line.trim().is_empty() {
+            if !current.is_empty() {
+                out.push(std::mem::take(&mut current));
+            }
+        } else {
+            if !current.is_empty() {
+                current.push(' ');
+            }
+            current.push_str(line.trim());
+        }
+    }
+    if !current.is_empty() {
+        out.push(current);
+    }
+    out
+}
+
+/// A file name the attachment can carry: letters, digits, dot, dash and underscore.
+pub fn attachment_name(name: &str) -> String {
+    let cleaned: String = name
+        .chars()
+        .map(|c| {
+            if c.is_ascii_alphanumeric() || matches!(c, '.' | '-' | '_') {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    let cleaned = cleaned.trim_start_matches('.').to_string();
+    if cleaned.is_empty() {
+        "deal.yaml".to_string()
+    } else {
+        cleaned
+    }
+}
+
+#[derive(Debug, Serialize)]
+struct View {
+    title: String,
+    currency: String,
+    as_of: String,
+    draft: bool,
+    status: String,
+    hash: String,
+    hash_short: String,
+    source_name: String,
+    attachment_name: String,
+    source_file: String,
+    created: CreatedView,
+    author: Option<String>,
+    recommendation: Vec<String>,
+    summary: Vec<String>,
+    risks: Vec<String>,
+    sections: Vec<SectionView>,
+    signoff: SignoffView,
+    has_cautions: bool,
+    scenarios: Vec<ScenarioView>,
+    version: String,
+}
+
+#[derive(Debug, Serialize)]
+struct CreatedView {
+    year: i32,
+    month: u32,
+    day: u32,
+    hour: u32,
+    minute: u32,
+    second: u32,
+}
+
+#[derive(Debug, Serialize)]
+struct SectionView {
+    title: String,
+    paragraphs: Vec<String>,
+}
+
+#[derive(Debug, Serialize)]
+struct SignoffView {
+    prepared_by: Option<String>,
+    reviewed_by: Option<String>,
+    decision: String,
+    date: Option<String>,
+}
+
+#[derive(Debug, Serialize)]
+struct ScenarioView {
+    index: usize,
+    name: String,
+    label: String,
+    description: String,
+    hurdle: String,
+    finance: String,
+    reinvestment: String,
+    irr_count: u32,
+    irr_upper_bound: u32,
+    certified: bool,
+    method: String,
+    irr_summary: String,
+    roots: Vec<RootView>,
+    unresolved: Vec<String>,
+    complex: Option<ComplexView>,
+    npv: String,
+    npv_with_code: String,
+    decision: String,
+    mirr: Option<String>,
+    roic: Option<String>,
+    money_multiple: Option<String>,
+    profitability_index: Option<String>,
+    payback_simple: Option<String>,
+    payback_discounted: Option<String>,
+    payback_turns_negative: bool,
+    inflows: String,
+    outflows: String,
+    net: String,
+    horizon: String,
+    flow_count: usize,
+    dated: bool,
+    cautions: Vec<CautionView>,
+    charts: ChartPaths,
+    profile_range: Option<String>,
+    roots_outside: Vec<String>,
+}
+
+#[derive(Debug, Serialize)]
+struct ChartPaths {
+    npv_profile: Option<String>,
+    balance_paths: Option<String>,
+    cash_flows: Option<String>,
+}
+
+#[derive(Debug, Serialize)]
+struct ComplexView {
+    real: String,
+    imaginary: String,
+    stance: String,
+    decision: String,
+}
+
+#[derive(Debug, Serialize)]
+struct CautionView {
+    code: String,
+    title: String,
+    text: String,
+}
+
+#[derive(Debug, Serialize)]
+struct RootView {
+    number: usize,
+    rate: String,
+    periodic_rate: Option<String>,
+    multiplicity: String,
+    interval: String,
+    balance_kind: String,
+    stance: String,
+    decision: String,
+    extreme: bool,
+    head: Vec<BalanceRowView>,
+    tail: Vec<BalanceRowView>,
+    hidden: usize,
+    total_rows: usize,
+}
+
+#[derive(Debug, Clone, Serialize)]
+struct BalanceRowView {
+    when: String,
+    flow: String,
+    balance: String,
+}
+
+fn when(flow: Option<&FlowRow>, years: f64) -> String {
+    match flow {
+        Some(FlowRow { date: Some(d), .. }) => d.clone(),
+        Some(FlowRow {
+            period: Some(p), ..
+        }) => format!("period {p}"),
+        _ => format!("{years:.2} y"),
+    }
+}
+
+fn balance_rows(rows: &[BalanceRow], flows: &[FlowRow]) -> Vec<BalanceRowView> {
+    rows.iter()
+        .enumerate()
+        .map(|(i, r)| {
+            // The engine gives one balance row per flow; fall back to the time when not.
+            let flow = flows.get(i).filter(|_| rows.len() == flows.len());
+            BalanceRowView {
+                when: when(flow, r.years),
+                flow: format_money(r.flow),
+                balance: format_money(r.balance),
+            }
+        })
+        .collect()
+}
+
+fn root_view(
+    number: usize,
+    root: &Root,
+    decimals: usize,
+    flows: &[FlowRow],
+    periodic: bool,
+) -> RootView {
+    let all = balance_rows(&root.balance_path, flows);
+    let total_rows = all.len();
+    let (head, tail, hidden) = if total_rows > LONG_PATH_ROWS {
+        let tail = all[total_rows - TAIL_ROWS..].to_vec();
+        let head = all[..HEAD_ROWS].to_vec();
+        (head, tail, total_rows - HEAD_ROWS - TAIL_ROWS)
+    } else {
+        (all, Vec::new(), 0)
+    };
+    let interval_decimals = decimals + 3;
+    RootView {
+        number,
+        rate: format_root(root, decimals),
+        periodic_rate: if periodic {
+            root.periodic_rate.map(|r| format_rate(r, decimals + 2))
+        } else {
+            None
+        },
+        multiplicity: multiplicity_word(root.multiplicity),
+        interval: format!(
+            "{} to {}",
+            format_rate(root.interval[0], interval_decimals),
+            format_rate(root.interval[1], interval_decimals)
+        ),
+        balance_kind: balance_kind_words(root.balance_kind).to_string(),
+        stance: stance_words(root.stance).to_string(),
+        decision: decision_word(root.decision).to_string(),
+        extreme: root.extreme,
+        head,
+        tail,
+        hidden,
+        total_rows,
+    }
+}
+
+fn scenario_label(name: &str) -> String {
+    if name == "base" {
+        "Base case".to_string()
+    } else {
+        name.to_string()
+    }
+}
+
+fn scenario_view(
+    index: usize,
+    s: &ScenarioAnalysis,
+    deal: &Deal,
+    currency: &str,
+    charts: Option<&ScenarioCharts>,
+) -> ScenarioView {
+    let decimals = scenario_rate_decimals(s);
+    let periodic = s.periods_per_year.is_some_and(|m| m != 1);
+    let roots: Vec<RootView> = s
+        .irr
+        .roots
+        .iter()
+        .enumerate()
+        .map(|(i, r)| root_view(i + 1, r, decimals, &s.flows, periodic))
+        .collect();
+    let irr_summary = if s.irr.roots.is_empty() {
+        "none".to_string()
+    } else {
+        s.irr
+            .roots
+            .iter()
+            .map(|r| {
+                let mut t = format_root(r, decimals);
+                if r.multiplicity > 1 {
+                    t.push_str(&format!(" ({})", multiplicity_word(r.multiplicity)));
+                }
+                t
+            })
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    let description = deal
+        .scenarios
+        .iter()
+        .find(|d| d.name == s.name)
+        .map(|d| d.description.clone())
+        .unwrap_or_default();
+    let range = charts.and_then(|c| c.profile_range);
+    let roots_outside = match range {
+        Some((lo, hi)) => s
+            .irr
+            .roots
+            .iter()
+            .filter(|r| r.annual_rate.is_none_or(|a| a < lo || a > hi))
+            .map(|r| format_root(r, decimals))
+            .collect(),
+        None => Vec::new(),
+    };
+    let path_of = |kind: ChartKind| {
+        charts
+            .filter(|c| c.get(kind).is_some())
+            .map(|_| crate::chart::file_name(index, kind))
+    };
+    ScenarioView {
+        index,
+        name: s.name.clone(),
+        label: scenario_label(&s.name),
+        description,
+        hurdle: format_rate(s.hurdle_rate, 2),
+        finance: format_rate(s.finance_rate, 2),
+        reinvestment: format_rate(s.reinvestment_rate, 2),
+        irr_count: s.irr.count,
+        irr_upper_bound: s.irr.upper_bound,
+        certified: s.irr.certified,
+        method: s.irr.method.clone(),
+        irr_summary,
+        roots,
+        unresolved: s
+            .irr
+            .unresolved
+            .iter()
+            .map(|[a, b]| format!("{} to {}", format_rate(*a, 2), format_rate(*b, 2)))
+            .collect(),
+        complex: s.irr.complex_reading.as_ref().map(|c| ComplexView {
+            real: format_rate(c.real_rate, 2),
+            imaginary: format_rate(c.imaginary_rate, 2),
+            stance: stance_words(c.stance).to_string(),
+            decision: decision_word(c.decision).to_string(),
+        }),
+        npv: format_money(s.npv_at_hurdle),
+        npv_with_code: format_money_with_code(s.npv_at_hurdle, currency),
+        decision: decision_word(s.decision).to_string(),
+        mirr: s.mirr.map(|r| format_rate(r, 2)),
+        roic: s.return_on_invested_capital.map(|r| format_rate(r, 2)),
+        money_multiple: s
+            .money_multiple
+            .map(|m| format!("{}\u{00d7}", format_ratio_decimal(m))),
+        profitability_index: s.profitability_index.map(format_ratio),
+        payback_simple: s.payback.simple_years.map(format_years),
+        payback_discounted: s.payback.discounted_years.map(format_years),
+        payback_turns_negative: s.payback.turns_negative_again,
+        inflows: format_money(s.totals.inflows),
+        outflows: format_money(s.totals.outflows),
+        net: format_money(s.totals.net),
+        horizon: format_years(s.totals.horizon_years),
+        flow_count: s.flows.len(),
+        dated: s.periods_per_year.is_none(),
+        cautions: s
+            .cautions
+            .iter()
+            .map(|c| CautionView {
+                code: c.code.clone(),
+                title: c.title.clone(),
+                text: c.text.clone(),
+            })
+            .collect(),
+        charts: ChartPaths {
+            npv_profile: path_of(ChartKind::NpvProfile),
+            balance_paths: path_of(ChartKind::BalancePaths),
+            cash_flows: path_of(ChartKind::CashFlows),
+        },
+        profile_range: range
+            .map(|(lo, hi)| format!("{} to {}", format_rate(lo, 0), format_rate(hi, 0))),
+        roots_outside,
+    }
+}
+
+fn format_ratio_decimal(d: Decimal) -> String {
+    let text = format!("{:.2}", d.round_dp(2).abs());
+    if d.is_sign_negative() && !d.round_dp(2).is_zero() {
+        format!("{MINUS}{text}")
+    } else {
+        text
+    }
+}
+
+fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
+    let decision = deal.signoff.as_ref().map(|s| s.decision);
+    let draft = decision != Some(SignoffDecision::Approved);
+    let status = match decision {
+        Some(SignoffDecision::Approved) => "Approved",
+        Some(SignoffDecision::Declined) => "DRAFT (declined by the committee)",
+        Some(SignoffDecision::Deferred) => "DRAFT (decision deferred)",
+        Some(SignoffDecision::Pending) | None => "DRAFT (decision pending)",
+    };
+    let decision_text = match decision {
+        Some(SignoffDecision::Approved) => "approved",
+        Some(SignoffDecision::Declined) => "declined",
+        Some(SignoffDecision::Deferred) => "deferred",
+        Some(SignoffDecision::Pending) | None => "pending",
+    };
+    let scenarios: Vec<ScenarioView> = analysis
+        .scenarios
+        .iter()
+        .enumerate()
+        .map(|(i, s)| scenario_view(i, s, deal, &analysis.currency, ctx.charts.get(i)))
+        .collect();
+    let c = ctx.created;
+    View {
+        title: deal.name.clone(),
+        currency: deal.currency.clone(),
+        as_of: format_date_long(deal.as_of),
+        draft,
+        status: status.to_string(),
+        hash: ctx.source_sha256.clone(),
+        hash_short: short_hash(&ctx.source_sha256),
+        source_name: ctx.source_name.clone(),
+        attachment_name: attachment_name(&ctx.source_name),
+        source_file: SOURCE_FILE.to_string(),
+        created: CreatedView {
+            year: c.year(),
+            month: c.month(),
+            day: c.day(),
+            hour: c.hour(),
+            minute: c.minute(),
+            second: c.second(),
+        },
+        author: deal.signoff.as_ref().and_then(|s| s.prepared_by.clone()),
+        recommendation: deal
+            .memo
+            .recommendation
+            .as_deref()
+            .map(paragraphs)
+            .unwrap_or_default(),
+        summary: deal
+            .memo
+            .summary
+            .as_deref()
+            .map(paragraphs)
+            .unwrap_or_default(),
+        risks: deal.memo.risks.clone(),
+        sections: deal
+            .memo
+            .sections
+            .iter()
+            .map(|s| SectionView {
+                title: s.title.clone(),
+                paragraphs: paragraphs(&s.text),
+            })
+            .collect(),
+        signoff: SignoffView {
+            prepared_by: deal.signoff.as_ref().and_then(|s| s.prepared_by.clone()),
+            reviewed_by: deal.signoff.as_ref().and_then(|s| s.reviewed_by.clone()),
+            decision: decision_text.to_string(),
+            date: deal
+                .signoff
+                .as_ref()
+                .and_then(|s| s.date)
+                .map(format_date_long),
+        },
+        has_cautions: scenarios.iter().any(|s| !s.cautions.is_empty()),
+        scenarios,
+        version: env!("CARGO_PKG_VERSION").to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Every character with a meaning in Typst markup (Typst reference, "Syntax":
+    /// markup mode, plus the shorthands `~`, `--`, `---`, `...`, `-?` and smart quotes).
+    const MARKUP_CHARS: &[char] = &[
+        '\\', '#', '*', '_', '`', '$', '<', '>', '@', '[', ']', '=', '-', '+', '/', '~', '"', '\'',
+        '.', ':',
+    ];
+
+    #[test]
+    fn every_markup_character_is_escaped() {
+        for &c in MARKUP_CHARS {
+            let escaped = escape_markup(&c.to_string());
+            assert_eq!(escaped, format!("\\{c}"), "character {c:?}");
+        }
+        assert_eq!(escape_markup("plain words 123"), "plain words 123");
+    }
+
+    #[test]
+    fn line_starts_and_breaks_cannot_start_markup() {
+        // A heading, list, enumeration and term marker only count at a line start;
+        // escaping them and turning breaks into spaces leaves no line start at all.
+        let text = "a\n= heading\n- item\n+ enum\n/ term: x\n1. first";
+        let escaped = escape_markup(text);
+        assert!(!escaped.contains('\n'));
+        assert_eq!(
+            escaped,
+            "a \\= heading \\- item \\+ enum \\/ term\\: x 1\\. first"
+        );
+    }
+
+    #[test]
+    fn the_hostile_name_parses_as_plain_text() {
+        // Typst's own parser must see only text, spaces and escapes: no code, no
+        // strong/emphasis, no math, no label, no reference, no content block.
+        let name = "#read(\"/etc/hostname\") *x* $y$ <z> @w ][";
+        let root = typst::syntax::parse(&escape_markup(name));
+        assert!(root.errors_and_warnings().0.is_empty(), "{root:?}");
+        for child in root.children() {
+            use typst::syntax::SyntaxKind as K;
+            assert!(
+                matches!(child.kind(), K::Text | K::Space | K::Escape),
+                "unexpected {:?} in {root:?}",
+                child.kind()
+            );
+        }
+    }
+
+    #[test]
+    fn string_literals_round_trip() {
+        let text = "quote \" backslash \\ newline \n tab \t end";
+        let lit = typst_string(text);
+        let root = typst::syntax::parse_code(&lit);
+        assert!(root.errors_and_warnings().0.is_empty(), "{lit}");
+        assert_eq!(lit, "\"quote \\\" backslash \\\\ newline \\n tab \\t end\"");
+    }
+
+    #[test]
+    fn money_is_grouped_with_a_real_minus() {
+        assert_eq!(format_money("1234567.891".parse().unwrap()), "1,234,567.89");
+        assert_eq!(
+            format_money("-950000".parse().unwrap()),
+            "\u{2212}950,000.00"
+        );
+        assert_eq!(format_money("-0.001".parse().unwrap()), "0.00");
+        assert_eq!(format_money("999.995".parse().unwrap()), "1,000.00");
+        assert_eq!(
+            format_money_with_code("12".parse().unwrap(), "EUR"),
+            "EUR 12.00"
+        );
+    }
+
+    #[test]
+    fn rates_are_percentages() {
+        assert_eq!(format_rate(0.09, 2), "9.00%");
+        assert_eq!(format_rate(-0.035, 2), "\u{2212}3.50%");
+        assert_eq!(format_rate(-0.00001, 2), "0.00%");
+        assert_eq!(format_rate(40.0, 2), "4,000.00%");
+    }
+
+    #[test]
+    fn close_roots_get_more_decimals() {
+        assert_eq!(rate_decimals(&[0.25, 4.0]), 2);
+        // 10.001% and 10.004% print alike at two decimals, apart at three.
+        assert_eq!(rate_decimals(&[0.10001, 0.10004]), 3);
+        assert_eq!(rate_decimals(&[]), 2);
+    }
+
+    #[test]
+    fn narrative_splits_into_paragraphs() {
+        assert_eq!(
+            paragraphs("one\ntwo\n\n\nthree\n"),
+            vec!["one two".to_string(), "three".to_string()]
+        );
+    }
+
+    #[test]
+    fn attachment_names_are_plain() {
+        assert_eq!(
+            attachment_name("ridgeline quarry.yaml"),
+            "ridgeline_quarry.yaml"
+        );
+        assert_eq!(attachment_name("../../x.yaml"), "_.._x.yaml");
+        assert_eq!(attachment_name(""), "deal.yaml");
+    }
+}

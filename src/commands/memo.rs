@@ -156,6 +156,12 @@ pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
         .tempfile_in(&folder)?;
     tmp.write_all(bytes)?;
     tmp.as_file().sync_all()?;
+    // A temporary file is private (0600); the memo is an ordinary document.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt as _;
+        std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(0o644))?;
+    }
     tmp.persist(path).map_err(|e| e.error)?;
     Ok(())
 }
@@ -251,7 +257,13 @@ pub fn run(args: &MemoArgs) -> u8 {
         templates,
         created,
     };
-    let code_of = |f: &MemoFailure| if f.invalid_input { EXIT_INVALID } else { EXIT_INTERNAL };
+    let code_of = |f: &MemoFailure| {
+        if f.invalid_input {
+            EXIT_INVALID
+        } else {
+            EXIT_INTERNAL
+        }
+    };
     let charts = match draw_charts(&analysis) {
         Ok(c) => c,
         Err(f) => return fail(&f.diagnostic, code_of(&f)),
