@@ -70,8 +70,8 @@ fn io_words(e: &std::io::Error) -> String {
     }
 }
 
-/// Decodes UTF-8, pointing at the first byte that is not.
-fn utf8(bytes: &[u8]) -> Result<String, Diagnostic> {
+/// Decodes UTF-8; on failure gives the line and column of the first byte that is not.
+fn utf8(bytes: &[u8]) -> Result<String, (usize, usize)> {
     match std::str::from_utf8(bytes) {
         Ok(s) => Ok(s.to_string()),
         Err(e) => {
@@ -79,9 +79,7 @@ fn utf8(bytes: &[u8]) -> Result<String, Diagnostic> {
             let line = good.iter().filter(|b| **b == b'\n').count() + 1;
             let line_start = good.iter().rposition(|b| *b == b'\n').map_or(0, |i| i + 1);
             let column = String::from_utf8_lossy(&good[line_start..]).chars().count() + 1;
-            Err(Diagnostic::error("not-utf8", "the file is not UTF-8 text")
-                .at(line, column)
-                .with_hint("save the file as UTF-8"))
+            Err((line, column))
         }
     }
 }
@@ -100,7 +98,12 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
             return Err(fail(d, None));
         }
     };
-    let text = utf8(&source).map_err(|d| fail(d, None))?;
+    let text = utf8(&source).map_err(|(line, column)| {
+        let d = Diagnostic::error("not-utf8", "the file is not UTF-8 text")
+            .at(line, column)
+            .with_hint("save the file as UTF-8");
+        fail(d, None)
+    })?;
     let with_file = |diags: Vec<Diagnostic>| -> Vec<Diagnostic> {
         diags
             .into_iter()

@@ -14,7 +14,7 @@ fn date(y: i32, m: u32, day: u32) -> NaiveDate {
 }
 
 fn check_with(text: &str, files: &[(&str, &str)]) -> Result<Deal, Vec<crate::diag::Diagnostic>> {
-    let raw = parse(text).map_err(|e| e)?;
+    let raw = parse(text)?;
     let mut read = |name: &str| {
         files
             .iter()
