@@ -86,8 +86,10 @@ def main() -> int:
         proc = subprocess.run([a.binary, "rates", "--batch", path], capture_output=True, text=True)
         best_c = min(best_c, time.perf_counter() - t)
         out = proc.stdout
-        if proc.returncode != 0 and not out:
-            print(f"candor failed (exit {proc.returncode}): {proc.stderr[-1000:]}", file=sys.stderr)
+        got_lines = out.count("\n")
+        if proc.returncode != 0 or got_lines != a.series:
+            print(f"candor run failed: exit {proc.returncode}, {got_lines} lines for {a.series} series: "
+                  f"{proc.stderr[-1000:]}", file=sys.stderr)
             return 1
 
     best_p = float("inf")

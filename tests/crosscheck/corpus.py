@@ -182,7 +182,7 @@ def positive_factor(rng: random.Random) -> list[Fraction]:
     return [Fraction(rng.randint(1, 9)) for _ in range(deg + 1)]
 
 
-def built_series(rng: random.Random, want_real: bool = True, max_coef: int = 10**20):
+def built_series(rng: random.Random, want_real: bool = True, max_coef: int = 10**15):
     """A polynomial in x = 1 + periodic rate with known positive roots.
 
     Returns (ascending coefficients in x, roots, tags) or None when the draw is
@@ -211,6 +211,10 @@ def built_series(rng: random.Random, want_real: bool = True, max_coef: int = 10*
     return flows, roots, tags
 
 
+# The engine accepts amounts up to 10^15 currency units (src/model/values.rs, MAX_AMOUNT);
+# built series stay within that, as integers or cents.
+
+
 def make_built(rng: random.Random, idx: int, want_real: bool = True, ambiguous: bool = False):
     while True:
         got = built_series(rng, want_real)
@@ -237,22 +241,29 @@ def make_ambiguous(rng: random.Random, idx: int):
     """Nearly coincident roots, or a complex pair nearly on the real axis.
 
     The exact answer is still known; an engine may honestly decline to certify.
+    Draws are repeated until the amounts fit the engine's 10^15 limit.
     """
-    a = rng.choice(ORDINARY)
-    c = rng.choice([x for x in ORDINARY if abs(x - a) > Fraction(1, 20)])
-    if idx % 2 == 0:
-        gap = Fraction(1, 10 ** rng.randint(8, 11))
-        p = poly_mul([-a, Fraction(1)], [-(a + gap), Fraction(1)])
-        roots = [(a, 1), (a + gap, 1)]
-        tag = "near-double"
-    else:
-        b = Fraction(1, 10 ** rng.randint(5, 7))
-        p = [a * a + b * b, -2 * a, Fraction(1)]
-        roots = []
-        tag = "near-real-complex-pair"
-    p = poly_mul(p, [-c, Fraction(1)])
+    while True:
+        a = Fraction(rng.randint(80, 160), 100)
+        c = Fraction(rng.randint(80, 160), 100)
+        if abs(a - c) < Fraction(1, 20):
+            continue
+        if idx % 2 == 0:
+            gap = Fraction(1, 10 ** rng.randint(6, 9))
+            p = poly_mul([-a, Fraction(1)], [-(a + gap), Fraction(1)])
+            roots = [(a, 1), (a + gap, 1)]
+            tag = "near-double"
+        else:
+            b = Fraction(1, 10 ** rng.randint(4, 6))
+            p = [a * a + b * b, -2 * a, Fraction(1)]
+            roots = []
+            tag = "near-real-complex-pair"
+        p = poly_mul(p, [-c, Fraction(1)])
+        ints = to_primitive_ints(p)
+        if max(abs(v) for v in ints) <= 10**15:
+            break
     roots = sorted(roots + [(c, 1)])
-    flows = to_primitive_ints(p)[::-1]
+    flows = ints[::-1]
     if flows[0] > 0:
         flows = [-v for v in flows]
     line = {"id": f"ambiguous-{idx:03d}", "every": "year", "amounts": amounts_from_ints(rng, flows, 0)}
@@ -468,6 +479,8 @@ def bad_lines() -> list[tuple[str, dict]]:
          '{"date": "2028-01-01", "amount": 2}]}', "impossible date"),
         ('{"id": "bad-hurdle", "every": "year", "amounts": [-100, 110], "hurdle_rate": "nine"}', "bad rate"),
         ('{"id": "bad-json", "every": "year", "amounts": [-100, 110', "not JSON"),
+        ('{"id": "bad-too-large", "every": "year", "amounts": [-10000000000000001, 1, 20000000000000000]}',
+         "amount beyond 10^15"),
     ]
     return [(r, {"id": r.split('"')[3], "kind": "bad", "tags": [why], "expect_error": True}) for r, why in raw]
 
