@@ -6,6 +6,10 @@
 //! white print stays readable; the colours are the Okabe–Ito palette, which was
 //! designed to stay distinct under the common colour-vision deficiencies.
 
+// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
+// cold path, so their size does not matter.
+#![allow(clippy::result_large_err)]
+
 use crate::diag::Diagnostic;
 use crate::engine::{Analysis, FlowRow, ScenarioAnalysis};
 use crate::report::{format_rate, MINUS};
@@ -32,7 +36,7 @@ const PURPLE: RGBColor = RGBColor(0xCC, 0x79, 0xA7);
 const GREY: RGBColor = RGBColor(0xBB, 0xBB, 0xBB);
 
 /// One line style per series: colour, dash (length, gap; none for solid) and marker.
-const LINE_STYLES: [(RGBColor, Option<(i32, i32)>, Marker); 6] = [
+const LINE_STYLES: [LineStyle; 6] = [
     (BLUE, None, Marker::Circle),
     (VERMILLION, Some((12, 6)), Marker::Triangle),
     (GREEN, Some((3, 4)), Marker::Square),
@@ -40,6 +44,9 @@ const LINE_STYLES: [(RGBColor, Option<(i32, i32)>, Marker); 6] = [
     (ORANGE, Some((7, 3)), Marker::Circle),
     (SKY_BLUE, Some((2, 8)), Marker::Triangle),
 ];
+
+/// Colour, dash (length, gap; `None` for solid) and marker of one series.
+type LineStyle = (RGBColor, Option<(i32, i32)>, Marker);
 
 #[derive(Debug, Clone, Copy)]
 enum Marker {
@@ -118,11 +125,15 @@ pub fn file_name(index: usize, kind: ChartKind) -> String {
 
 /// Draws the charts of every scenario, in order.
 pub fn render_all(analysis: &Analysis) -> Result<Vec<ScenarioCharts>, Diagnostic> {
-    analysis.scenarios.iter().map(render).collect()
+    analysis
+        .scenarios
+        .iter()
+        .map(|s| render(s, &analysis.currency))
+        .collect()
 }
 
 /// Draws the charts of one scenario.
-pub fn render(scenario: &ScenarioAnalysis) -> Result<ScenarioCharts, Diagnostic> {
+pub fn render(scenario: &ScenarioAnalysis, currency: &str) -> Result<ScenarioCharts, Diagnostic> {
     let profile: Vec<(f64, f64)> = scenario
         .npv_profile
         .iter()
@@ -134,7 +145,9 @@ pub fn render(scenario: &ScenarioAnalysis) -> Result<ScenarioCharts, Diagnostic>
         _ => None,
     };
     let npv_profile = match profile_range {
-        Some(range) => Some(draw(|area| npv_profile(area, scenario, &profile, range))?),
+        Some(range) => Some(draw(|area| {
+            npv_profile(area, scenario, currency, &profile, range)
+        })?),
         None => None,
     };
     let has_paths = scenario
@@ -143,14 +156,14 @@ pub fn render(scenario: &ScenarioAnalysis) -> Result<ScenarioCharts, Diagnostic>
         .iter()
         .any(|r| drawable_root(r) && !r.balance_path.is_empty());
     let balance_paths = if has_paths {
-        Some(draw(|area| balance_paths(area, scenario))?)
+        Some(draw(|area| balance_paths(area, scenario, currency))?)
     } else {
         None
     };
     let cash_flows = if scenario.flows.is_empty() {
         None
     } else {
-        Some(draw(|area| cash_flows(area, &scenario.flows))?)
+        Some(draw(|area| cash_flows(area, &scenario.flows, currency))?)
     };
     Ok(ScenarioCharts {
         npv_profile,
@@ -251,6 +264,7 @@ where
 fn npv_profile(
     area: &Area<'_>,
     s: &ScenarioAnalysis,
+    currency: &str,
     profile: &[(f64, f64)],
     (lo, hi): (f64, f64),
 ) -> DrawResult {
@@ -262,6 +276,7 @@ fn npv_profile(
     let x = (lo * 100.0)..(hi * 100.0);
     let mut chart = ChartBuilder::on(area)
         .margin(12)
+        .margin_right(34)
         .x_label_area_size(48)
         .y_label_area_size(72)
         .build_cartesian_2d(x.clone(), padded(ymin, ymax))?;
@@ -272,7 +287,7 @@ fn npv_profile(
         .label_style(font(FONT_SIZE))
         .axis_desc_style(font(FONT_SIZE))
         .x_desc("discount rate, annual")
-        .y_desc(format!("NPV ({})", "currency units"))
+        .y_desc(format!("NPV ({currency})"))
         .x_label_formatter(&|v| format!("{v:.0}%"))
         .y_label_formatter(&|v| compact_money(*v))
         .draw()?;
@@ -340,7 +355,7 @@ fn npv_profile(
     Ok(())
 }
 
-fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis) -> DrawResult {
+fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis, currency: &str) -> DrawResult {
     let roots: Vec<(usize, &crate::engine::Root)> = s
         .irr
         .roots
@@ -369,8 +384,12 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis) -> DrawResult {
         |(a, b, c, d), p| (a.min(p.0), b.max(p.0), c.min(p.1), d.max(p.1)),
     );
     let xspan = (xmax - xmin).max(1.0);
-    let mut chart = ChartBuilder::on(area)
+    // The legend sits above the plot, three entries a row, so it never hides a line.
+    let legend_rows = roots.len().div_ceil(3) as u32;
+    let (legend_area, plot_area) = area.split_vertically(8 + 26 * legend_rows);
+    let mut chart = ChartBuilder::on(&plot_area)
         .margin(12)
+        .margin_right(34)
         .x_label_area_size(48)
         .y_label_area_size(72)
         .build_cartesian_2d(
@@ -384,7 +403,7 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis) -> DrawResult {
         .label_style(font(FONT_SIZE))
         .axis_desc_style(font(FONT_SIZE))
         .x_desc("years from the first flow")
-        .y_desc("balance after each flow")
+        .y_desc(format!("balance after each flow ({currency})"))
         .y_label_formatter(&|v| compact_money(*v))
         .draw()?;
     chart.draw_series(LineSeries::new(
@@ -403,31 +422,45 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis) -> DrawResult {
                 .map(|r| format_rate(r, decimals))
                 .unwrap_or_default()
         );
-        let anno = match dash {
+        match dash {
             None => chart.draw_series(LineSeries::new(points.clone(), style))?,
             Some((len, gap)) => {
                 chart.draw_series(DashedLineSeries::new(points.clone(), len, gap, style))?
             }
         };
-        anno.label(label)
-            .legend(move |(x, y)| legend_sample(x, y, dash, style));
+
+        let lx = 90 + 180 * (k % 3) as i32;
+        let ly = 18 + 26 * (k / 3) as i32;
+        legend_area.draw(&legend_sample(lx, ly, dash, style))?;
+        legend_area.draw(&Text::new(label, (lx + 44, ly - 9), font(FONT_SIZE)))?;
+        draw_pixel_marker(&legend_area, marker, (lx + 18, ly), style)?;
         if show_markers {
             marker_series(&mut chart, marker, points, style)?;
         }
     }
-    chart
-        .configure_series_labels()
-        .background_style(WHITE.mix(0.9))
-        .border_style(BLACK)
-        .label_font(font(FONT_SIZE))
-        .position(SeriesLabelPosition::UpperRight)
-        .draw()?;
+    Ok(())
+}
+
+fn draw_pixel_marker(
+    area: &Area<'_>,
+    marker: Marker,
+    at: (i32, i32),
+    style: ShapeStyle,
+) -> DrawResult {
+    match marker {
+        Marker::Circle => area.draw(&Circle::new(at, 4, style))?,
+        Marker::Triangle => area.draw(&TriangleMarker::new(at, 5, style))?,
+        Marker::Square => area.draw(&Rectangle::new(
+            [(at.0 - 4, at.1 - 4), (at.0 + 4, at.1 + 4)],
+            style,
+        ))?,
+        Marker::Cross => area.draw(&Cross::new(at, 5, style))?,
+    }
     Ok(())
 }
 
 /// The legend sample of a series: its line, dashed like the series (a solid line is
-/// one dash longer than the sample). Markers stay off the legend: a composed element
-/// cannot outlive the drawing backend's borrow, which a legend entry must.
+/// one dash longer than the sample).
 fn legend_sample(
     x: i32,
     y: i32,
@@ -444,7 +477,7 @@ fn parse_date(row: &FlowRow) -> Option<NaiveDate> {
         .and_then(|d| NaiveDate::parse_from_str(d, "%Y-%m-%d").ok())
 }
 
-fn cash_flows(area: &Area<'_>, flows: &[FlowRow]) -> DrawResult {
+fn cash_flows(area: &Area<'_>, flows: &[FlowRow], currency: &str) -> DrawResult {
     let dates: Option<Vec<NaiveDate>> = flows.iter().map(parse_date).collect();
     let to_f = |d: rust_decimal::Decimal| -> f64 { d.to_string().parse().unwrap_or(0.0) };
     // Dated flows go on a calendar axis (days since the first date); others on years.
@@ -480,6 +513,7 @@ fn cash_flows(area: &Area<'_>, flows: &[FlowRow]) -> DrawResult {
     let pad = width.max((xmax - xmin) * 0.03);
     let mut chart = ChartBuilder::on(area)
         .margin(12)
+        .margin_right(34)
         .x_label_area_size(48)
         .y_label_area_size(72)
         .build_cartesian_2d((xmin - pad)..(xmax + pad), padded(ymin, ymax))?;
@@ -501,7 +535,7 @@ fn cash_flows(area: &Area<'_>, flows: &[FlowRow]) -> DrawResult {
         } else {
             "years from the first flow"
         })
-        .y_desc("cash flow")
+        .y_desc(format!("cash flow ({currency})"))
         .x_labels(8)
         .x_label_formatter(&date_label)
         .y_label_formatter(&|v| compact_money(*v))

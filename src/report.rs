@@ -7,6 +7,10 @@
 //! prints unless the value was produced by one of our own filters, which build Typst
 //! string literals or escaped text themselves.
 
+// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
+// cold path, so their size does not matter.
+#![allow(clippy::result_large_err)]
+
 use crate::chart::{ChartKind, ScenarioCharts};
 use crate::diag::Diagnostic;
 use crate::engine::{

@@ -426,7 +426,7 @@ fn typst_errors_are_diagnostics() {
 #[test]
 fn charts_are_svg_that_typst_can_read() {
     let scenario = pump_scenario("base", vec![]);
-    let charts = candor::chart::render(&scenario).expect("charts");
+    let charts = candor::chart::render(&scenario, "EUR").expect("charts");
     let files = charts.files(0);
     assert_eq!(files.len(), 3, "profile, balance paths and cash flows");
     for (name, svg) in &files {
@@ -460,4 +460,74 @@ fn charts_are_svg_that_typst_can_read() {
     let pdf = candor::pdf::typeset(&markup, &files, &options)
         .unwrap_or_else(|d| panic!("{}", d.render(None)));
     assert!(pdf.starts_with(b"%PDF-"));
+}
+
+/// Every shipped example deal becomes a memo whose text states each IRR, the NPV at
+/// the hurdle, the MIRR and every caution, as the engine computed them.
+#[test]
+fn every_example_deal_builds_a_memo() {
+    use candor::report::{format_money, format_rate, format_root, scenario_rate_decimals};
+    let folder = Path::new(env!("CARGO_MANIFEST_DIR")).join("example-deals");
+    let mut deals: Vec<_> = std::fs::read_dir(&folder)
+        .expect("example-deals")
+        .filter_map(|e| e.ok().map(|e| e.path()))
+        .filter(|p| p.extension().is_some_and(|x| x == "yaml"))
+        .collect();
+    deals.sort();
+    assert!(!deals.is_empty());
+    let dir = tempfile::tempdir().expect("tempdir");
+    for path in deals {
+        let loaded = candor::commands::load::load_deal(&path)
+            .unwrap_or_else(|f| panic!("{}: {:?}", path.display(), f.diagnostics));
+        let analysis = candor::engine::analyse(&loaded.deal);
+        let name = path
+            .file_name()
+            .expect("name")
+            .to_string_lossy()
+            .to_string();
+        let memo = build_memo(
+            &analysis,
+            &loaded.deal,
+            MemoInputs {
+                source: &loaded.source,
+                source_name: &name,
+                templates: BTreeMap::new(),
+                created: loaded.deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
+            },
+        )
+        .unwrap_or_else(|f| panic!("{name}: {}", f.diagnostic));
+        let pdf = write_pdf(dir.path(), &format!("{name}.pdf"), &memo.pdf);
+        let text = normalise(&tool("pdftotext", &["-enc", "UTF-8", &pdf, "-"]));
+        for s in &analysis.scenarios {
+            let decimals = scenario_rate_decimals(s);
+            let mut needles: Vec<String> = s
+                .irr
+                .roots
+                .iter()
+                .map(|r| format_root(r, decimals))
+                .collect();
+            needles.push(format_money(s.npv_at_hurdle));
+            if let Some(m) = s.mirr {
+                needles.push(format_rate(m, 2));
+            }
+            for c in &s.cautions {
+                needles.push(normalise(&c.title));
+                needles.push(normalise(&c.text));
+            }
+            for n in needles {
+                assert!(text.contains(&n), "{name}, {}: missing {n:?}", s.name);
+            }
+        }
+        let saved = dir.path().join(format!("{name}.saved"));
+        tool(
+            "pdfdetach",
+            &["-save", "1", "-o", &saved.to_string_lossy(), &pdf],
+        );
+        assert_eq!(
+            std::fs::read(&saved).expect("attachment"),
+            loaded.source,
+            "{name}"
+        );
+        tool("qpdf", &["--check", &pdf]);
+    }
 }
