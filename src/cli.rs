@@ -40,7 +40,11 @@ pub struct CheckArgs {
 #[derive(Debug, Args)]
 pub struct RatesArgs {
     /// The deal file to analyse.
-    #[arg(value_name = "DEAL.yaml", required_unless_present = "batch", conflicts_with = "batch")]
+    #[arg(
+        value_name = "DEAL.yaml",
+        required_unless_present = "batch",
+        conflicts_with = "batch"
+    )]
     pub file: Option<PathBuf>,
     /// Print the analysis as one JSON object on stdout.
     #[arg(long)]

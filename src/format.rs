@@ -15,7 +15,11 @@ pub fn money(amount: Decimal) -> String {
         }
         grouped.push(ch);
     }
-    let sign = if rounded.is_sign_negative() && !rounded.is_zero() { "-" } else { "" };
+    let sign = if rounded.is_sign_negative() && !rounded.is_zero() {
+        "-"
+    } else {
+        ""
+    };
     format!("{sign}{grouped}.{frac}")
 }
 
@@ -32,7 +36,9 @@ pub fn percent(rate: f64, decimals: usize) -> String {
     }
     let pct = rate * 100.0;
     if pct.abs() >= 1e9 {
-        return format!("{:.3e}%", pct).replace("e", "e+").replace("e+-", "e-");
+        return format!("{:.3e}%", pct)
+            .replace("e", "e+")
+            .replace("e+-", "e-");
     }
     let text = format!("{pct:.decimals$}%");
     // "-0.00%" reads as a sign error.
@@ -79,7 +85,7 @@ mod tests {
     fn percent_separates_close_roots() {
         assert_eq!(percent(0.035030, 2), "3.50%");
         assert_eq!(percent(-0.00001, 2), "0.00%");
-        let close = [0.1, 0.1001];
+        let close = [0.1, 0.10001];
         assert_eq!(decimals_to_separate(&close), 3);
         assert_eq!(percent(1e120, 2), "1.000e+122%");
     }

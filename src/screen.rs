@@ -60,7 +60,10 @@ fn exact_decimal(raw: &RawValue) -> Result<Decimal, String> {
 
 fn exact_rate(raw: &RawValue) -> Result<Decimal, String> {
     let text = raw.get().trim();
-    let inner = text.strip_prefix('"').and_then(|t| t.strip_suffix('"')).unwrap_or(text);
+    let inner = text
+        .strip_prefix('"')
+        .and_then(|t| t.strip_suffix('"'))
+        .unwrap_or(text);
     let r = parse_rate(inner).map_err(|e| e.message)?;
     if r <= -Decimal::ONE {
         return Err(format!("`{inner}` is not above -100%"));
@@ -83,16 +86,24 @@ fn frequency(name: &str) -> Option<Frequency> {
 
 fn flows_of(line: &Line<'_>) -> Result<Flows, LineError> {
     match (&line.amounts, &line.dated) {
-        (Some(_), Some(_)) => Err(("flows-conflict", "give either `amounts` or `dated`, not both".into())),
+        (Some(_), Some(_)) => Err((
+            "flows-conflict",
+            "give either `amounts` or `dated`, not both".into(),
+        )),
         (None, None) => Err(("missing-field", "no `amounts` or `dated` flows".into())),
         (Some(amounts), None) => {
             let every = line.every.as_deref().unwrap_or("year");
             let freq = frequency(every).ok_or((
                 "unknown-value",
-                format!("`every: {every}` is not one of year, half-year, quarter, month, week, day"),
+                format!(
+                    "`every: {every}` is not one of year, half-year, quarter, month, week, day"
+                ),
             ))?;
             if amounts.len() > MAX_FLOWS {
-                return Err(("too-many-flows", format!("{} flows; at most {MAX_FLOWS}", amounts.len())));
+                return Err((
+                    "too-many-flows",
+                    format!("{} flows; at most {MAX_FLOWS}", amounts.len()),
+                ));
             }
             let points = amounts
                 .iter()
@@ -100,7 +111,8 @@ fn flows_of(line: &Line<'_>) -> Result<Flows, LineError> {
                 .map(|(i, raw)| {
                     Ok(FlowPoint {
                         offset: i as i64,
-                        amount: exact_decimal(raw).map_err(|m| ("bad-number", format!("amounts[{i}]: {m}")))?,
+                        amount: exact_decimal(raw)
+                            .map_err(|m| ("bad-number", format!("amounts[{i}]: {m}")))?,
                         date: None,
                         period: Some(i as u32),
                         note: None,
@@ -120,13 +132,22 @@ fn flows_of(line: &Line<'_>) -> Result<Flows, LineError> {
                 format!("`day_count: {name}` is not one of act/365f, act/360, act/act-isda, 30/360, 30e/360, 30e/360-isda"),
             ))?;
             if dated.len() > MAX_FLOWS {
-                return Err(("too-many-flows", format!("{} flows; at most {MAX_FLOWS}", dated.len())));
+                return Err((
+                    "too-many-flows",
+                    format!("{} flows; at most {MAX_FLOWS}", dated.len()),
+                ));
             }
             let mut entries = Vec::with_capacity(dated.len());
             for (i, f) in dated.iter().enumerate() {
-                let date = chrono::NaiveDate::parse_from_str(&f.date, "%Y-%m-%d")
-                    .map_err(|_| ("bad-date", format!("dated[{i}].date: `{}` is not a date (YYYY-MM-DD)", f.date)))?;
-                let amount = exact_decimal(f.amount).map_err(|m| ("bad-number", format!("dated[{i}].amount: {m}")))?;
+                let date =
+                    chrono::NaiveDate::parse_from_str(&f.date, "%Y-%m-%d").map_err(|_| {
+                        (
+                            "bad-date",
+                            format!("dated[{i}].date: `{}` is not a date (YYYY-MM-DD)", f.date),
+                        )
+                    })?;
+                let amount = exact_decimal(f.amount)
+                    .map_err(|m| ("bad-number", format!("dated[{i}].amount: {m}")))?;
                 entries.push((date, amount));
             }
             let first = entries.iter().map(|e| e.0).min();
@@ -236,7 +257,10 @@ fn screen(line: &Line<'_>) -> Result<Value, LineError> {
     }
     if let Some(h) = hurdle {
         out["npv_at_hurdle"] = json!(engine::figures::npv_exact(&flows, h).map(|v| v.to_string()));
-        let (f, g) = (finance.and_then(|x| x.to_f64()), reinvest.and_then(|x| x.to_f64()));
+        let (f, g) = (
+            finance.and_then(|x| x.to_f64()),
+            reinvest.and_then(|x| x.to_f64()),
+        );
         out["mirr"] = json!(match (f, g) {
             (Some(f), Some(g)) => engine::figures::mirr(&flows, f, g),
             _ => None,

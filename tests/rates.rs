@@ -13,7 +13,12 @@ fn candor() -> Command {
 fn rates_json(dir: &Path, yaml: &str) -> Value {
     let path = dir.join("deal.yaml");
     std::fs::write(&path, yaml).unwrap();
-    let out = candor().arg("rates").arg(&path).arg("--json").output().unwrap();
+    let out = candor()
+        .arg("rates")
+        .arg(&path)
+        .arg("--json")
+        .output()
+        .unwrap();
     assert!(
         out.status.success(),
         "rates failed: {}",
@@ -75,12 +80,19 @@ fn mine_with_closure_cost() {
     let dir = tempfile::tempdir().unwrap();
     let v = rates_json(
         dir.path(),
-        &periodic("Mine", "10%", "-30, 10, 10, 10, 10, 10, 10, 10, 10, 10, -65"),
+        &periodic(
+            "Mine",
+            "10%",
+            "-30, 10, 10, 10, 10, 10, 10, 10, 10, 10, -65",
+        ),
     );
     let s = &v["scenarios"][0];
     let r = roots(&v);
     assert_eq!(r.len(), 2);
-    assert!(close(r[0], 0.03503024, 1e-8) && close(r[1], 0.19542150, 1e-8), "{r:?}");
+    assert!(
+        close(r[0], 0.03503024, 1e-8) && close(r[1], 0.19542150, 1e-8),
+        "{r:?}"
+    );
     assert_eq!(s["npv_at_hurdle"], "2.53");
     assert!(close(s["mirr"].as_f64().unwrap(), 0.10495274, 1e-8));
 }
@@ -96,7 +108,12 @@ fn no_real_irr() {
     assert_eq!(s["irr"]["upper_bound"], 2);
     assert_eq!(s["irr"]["certified"], true);
     assert_eq!(s["npv_at_hurdle"], "338.84");
-    let codes: Vec<&str> = s["cautions"].as_array().unwrap().iter().map(|c| c["code"].as_str().unwrap()).collect();
+    let codes: Vec<&str> = s["cautions"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["code"].as_str().unwrap())
+        .collect();
     assert!(codes.contains(&"no-irr"), "{codes:?}");
 }
 
@@ -128,7 +145,10 @@ fn dated_day_counts() {
         );
         let v = rates_json(dir.path(), &yaml);
         let r = roots(&v);
-        assert!(close(r[0], lo, 1e-8) && close(r[1], hi, 1e-7), "{dc}: {r:?}");
+        assert!(
+            close(r[0], lo, 1e-8) && close(r[1], hi, 1e-7),
+            "{dc}: {r:?}"
+        );
         assert!(v["scenarios"][0]["irr"]["roots"][0]["periodic_rate"].is_null());
     }
 }
@@ -147,7 +167,11 @@ fn batch_screening_keeps_going_past_bad_lines() {
         ),
     )
     .unwrap();
-    let out = candor().args(["rates", "--batch"]).arg(&path).output().unwrap();
+    let out = candor()
+        .args(["rates", "--batch"])
+        .arg(&path)
+        .output()
+        .unwrap();
     assert!(out.status.success());
     let lines: Vec<Value> = String::from_utf8(out.stdout)
         .unwrap()
@@ -164,6 +188,11 @@ fn batch_screening_keeps_going_past_bad_lines() {
     assert_eq!(lines[2]["error"]["code"], "bad-line");
     assert_eq!(lines[3]["id"], 7);
     // Act/Act ISDA on whole calendar years gives exactly 25% and 400% (FIELD.md).
-    let r: Vec<f64> = lines[3]["roots"].as_array().unwrap().iter().map(|r| r["annual_rate"].as_f64().unwrap()).collect();
+    let r: Vec<f64> = lines[3]["roots"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["annual_rate"].as_f64().unwrap())
+        .collect();
     assert!(close(r[0], 0.25, 1e-12) && close(r[1], 4.0, 1e-11), "{r:?}");
 }

@@ -54,13 +54,19 @@ fn assert_roots(rs: &RootSet, growth: &[Decimal]) {
     let intervals: Vec<(f64, f64)> = rs
         .roots
         .iter()
-        .flat_map(|r| std::iter::repeat((r.lo, r.hi)).take(r.multiplicity as usize))
+        .flat_map(|r| std::iter::repeat_n((r.lo, r.hi), r.multiplicity as usize))
         .collect();
     for ((g, w), (lo, hi)) in got.iter().zip(&want).zip(&intervals) {
         let slack = 1e-14 * w.abs().max(1.0);
-        assert!(*lo - slack <= *w && *w <= *hi + slack, "root {w} not in [{lo}, {hi}] (estimate {g}): {rs:?}");
+        assert!(
+            *lo - slack <= *w && *w <= *hi + slack,
+            "root {w} not in [{lo}, {hi}] (estimate {g}): {rs:?}"
+        );
         // Clusters of roots widen the band where binary floats cannot tell the sign.
-        assert!(hi - lo <= 1e-5 * w.abs().max(1.0), "interval too wide: [{lo}, {hi}]");
+        assert!(
+            hi - lo <= 1e-5 * w.abs().max(1.0),
+            "interval too wide: [{lo}, {hi}]"
+        );
     }
     for r in &rs.roots {
         assert!(r.lo <= r.y && r.y <= r.hi);
@@ -75,7 +81,14 @@ fn two_to_six_sign_changes_from_chosen_roots() {
         vec![dec!(0.9), dec!(1.1), dec!(1.4)],
         vec![dec!(0.5), dec!(1.02), dec!(1.25), dec!(2)],
         vec![dec!(0.8), dec!(0.95), dec!(1.08), dec!(1.2), dec!(1.6)],
-        vec![dec!(0.7), dec!(0.9), dec!(1.05), dec!(1.15), dec!(1.3), dec!(1.9)],
+        vec![
+            dec!(0.7),
+            dec!(0.9),
+            dec!(1.05),
+            dec!(1.15),
+            dec!(1.3),
+            dec!(1.9),
+        ],
     ];
     for growth in cases {
         let c = poly(&growth, &[]);
@@ -128,7 +141,10 @@ fn one_day_first_interval_gives_astronomical_rate() {
     assert!(rs.certified);
     let top = rs.roots.last().unwrap();
     let annual_log10 = top.y / rs.step_years / std::f64::consts::LN_10;
-    assert!((annual_log10 - 365.0 * 1.1f64.log10()).abs() < 0.01, "{rs:?}");
+    assert!(
+        (annual_log10 - 365.0 * 1.1f64.log10()).abs() < 0.01,
+        "{rs:?}"
+    );
 }
 
 #[test]
@@ -146,7 +162,7 @@ fn dated_flows_with_uneven_steps() {
 fn long_monthly_series() {
     // 40 years of monthly flows: outlay, inflows, a closure cost; one certified set.
     let mut c = vec![dec!(-5000000)];
-    c.extend(std::iter::repeat(dec!(45000)).take(479));
+    c.extend(std::iter::repeat_n(dec!(45000), 479));
     c.push(dec!(-2000000));
     let offsets: Vec<i64> = (0..c.len() as i64).collect();
     let rs = find_roots(&c, &offsets, 12);
@@ -157,8 +173,14 @@ fn long_monthly_series() {
 
 fn arb_flows() -> impl Strategy<Value = Vec<Decimal>> {
     prop::collection::vec(-1_000_000i64..1_000_000, 2..40)
-        .prop_map(|v| v.into_iter().map(|x| Decimal::new(x, 2)).collect::<Vec<_>>())
-        .prop_filter("needs two non-zero flows", |v| v.iter().filter(|x| !x.is_zero()).count() >= 2)
+        .prop_map(|v| {
+            v.into_iter()
+                .map(|x| Decimal::new(x, 2))
+                .collect::<Vec<_>>()
+        })
+        .prop_filter("needs two non-zero flows", |v| {
+            v.iter().filter(|x| !x.is_zero()).count() >= 2
+        })
 }
 
 fn normalise(amounts: &[Decimal]) -> (Vec<Decimal>, Vec<i64>) {

@@ -113,7 +113,11 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
         percent(s.reinvestment_rate, 2)
     );
     let irr = &s.irr;
-    let certified = if irr.certified { "certified" } else { "NOT certified" };
+    let certified = if irr.certified {
+        "certified"
+    } else {
+        "NOT certified"
+    };
     let _ = writeln!(
         o,
         "  IRRs        {} real, counted with multiplicity ({certified}; sign-change bound {})",
@@ -144,7 +148,12 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
         );
     }
     for u in &irr.unresolved {
-        let _ = writeln!(o, "    undecided between {} and {}", percent(u[0], places), percent(u[1], places));
+        let _ = writeln!(
+            o,
+            "    undecided between {} and {}",
+            percent(u[0], places),
+            percent(u[1], places)
+        );
     }
     if let Some(c) = &irr.complex_reading {
         let _ = writeln!(
@@ -165,16 +174,22 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     );
     let opt = |x: Option<f64>| x.map_or("not defined".to_string(), |v| percent(v, 2));
     let _ = writeln!(o, "  MIRR        {}", opt(s.mirr));
-    let _ = writeln!(o, "  RIC         {} (return on invested capital)", opt(s.return_on_invested_capital));
+    let _ = writeln!(
+        o,
+        "  RIC         {} (return on invested capital)",
+        opt(s.return_on_invested_capital)
+    );
     let _ = writeln!(
         o,
         "  multiple    {}",
-        s.money_multiple.map_or("not defined".to_string(), |m| format!("{m}x"))
+        s.money_multiple
+            .map_or("not defined".to_string(), |m| format!("{m}x"))
     );
     let _ = writeln!(
         o,
         "  PI          {}",
-        s.profitability_index.map_or("not defined".to_string(), |p| format!("{p:.3}"))
+        s.profitability_index
+            .map_or("not defined".to_string(), |p| format!("{p:.3}"))
     );
     let years = |y: Option<f64>| y.map_or("never".to_string(), |v| format!("{v:.2} years"));
     let _ = writeln!(

@@ -1,10 +1,11 @@
 //! From the roots in `y` to the IRR report: annual and periodic rates, certified
 //! intervals, the balance path at each root and the stance at the hurdle.
 
-use super::analysis::{IrrReport, Root, SignBounds};
+use super::analysis::{BalanceKind, IrrReport, Root, SignBounds};
 use super::flows::Flows;
 use super::roots::{find_roots, RootSet};
 use super::{figures, Decision, Stance};
+use rust_decimal::prelude::ToPrimitive;
 
 /// Annual rates above this, or below -99%, describe no economic reality.
 pub const EXTREME_HIGH: f64 = 10.0;
@@ -42,6 +43,18 @@ pub fn irr_report(flows: &Flows, hurdle: f64, with_paths: bool) -> IrrReport {
 /// Builds the IRR report from a root set.
 pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bool) -> IrrReport {
     let per_year = 1.0 / set.step_years;
+    let pts: Vec<(f64, f64)> = if with_paths {
+        Vec::new()
+    } else {
+        (0..flows.points.len())
+            .map(|i| {
+                (
+                    flows.years(i),
+                    flows.points[i].amount.to_f64().unwrap_or(0.0),
+                )
+            })
+            .collect()
+    };
     let roots = set
         .roots
         .iter()
@@ -54,8 +67,13 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
                 .filter(|x| x.is_finite());
             let lo = (r.lo * per_year).exp_m1();
             let hi = (r.hi * per_year).exp_m1();
-            let path = figures::balance_path(flows, log_annual);
-            let balance_kind = figures::balance_kind(&path);
+            let (path, balance_kind) = if with_paths {
+                let path = figures::balance_path(flows, log_annual);
+                let kind = figures::balance_kind(&path);
+                (path, kind)
+            } else {
+                (Vec::new(), balance_kind_f64(&pts, log_annual))
+            };
             let stance = figures::stance(flows, log_annual, hurdle);
             let decision = match annual {
                 Some(k) => figures::decision_for_root(k, hurdle, stance),
@@ -76,7 +94,7 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
                 stance,
                 decision,
                 extreme,
-                balance_path: if with_paths { path } else { Vec::new() },
+                balance_path: path,
             }
         })
         .collect();
@@ -98,6 +116,35 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
             .map(|&(a, b)| widen((a * per_year).exp_m1(), (b * per_year).exp_m1()))
             .collect(),
         complex_reading: None,
+    }
+}
+
+/// The balance-path classification without building the rows (batch screening): the
+/// same rule as [`figures::balance_kind`], on binary-float balances.
+fn balance_kind_f64(pts: &[(f64, f64)], log_growth: f64) -> BalanceKind {
+    let scale = pts.iter().map(|p| p.1.abs()).fold(0.0, f64::max);
+    let tol = scale * 1e-9;
+    let (mut positive, mut negative) = (false, false);
+    let mut bal = 0.0f64;
+    let mut prev: Option<f64> = None;
+    for &(t, c) in &pts[..pts.len().saturating_sub(1)] {
+        if let Some(pt) = prev {
+            if bal != 0.0 {
+                bal *= (log_growth * (t - pt)).exp();
+            }
+        }
+        bal += c;
+        if bal.is_nan() {
+            bal = 0.0;
+        }
+        prev = Some(t);
+        positive |= bal > tol;
+        negative |= bal < -tol;
+    }
+    match (positive, negative) {
+        (false, _) => BalanceKind::PureInvestment,
+        (true, false) => BalanceKind::PureBorrowing,
+        (true, true) => BalanceKind::Mixed,
     }
 }
 

@@ -2,13 +2,13 @@
 //! decision rule, MIRR, NPV and the other committee figures, and the cautions.
 
 pub mod analysis;
-pub mod flows;
-pub mod roots;
-pub mod irr;
 pub mod cautions;
 pub mod complex;
 pub mod dd;
 pub mod figures;
+pub mod flows;
+pub mod irr;
+pub mod roots;
 
 pub use analysis::*;
 pub use flows::{FlowPoint, Flows};
@@ -30,15 +30,21 @@ pub fn analyse(deal: &Deal) -> Analysis {
 }
 
 /// Every figure for one series of flows at the deal's rates.
-pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates, currency: &str) -> ScenarioAnalysis {
+pub fn analyse_scenario(
+    name: &str,
+    flows: &Flows,
+    rates: &Rates,
+    currency: &str,
+) -> ScenarioAnalysis {
     let flows = flows.normalised();
     let hurdle = rates.hurdle.to_f64().unwrap_or(0.0);
     let finance = rates.finance.to_f64().unwrap_or(hurdle);
     let reinvestment = rates.reinvestment.to_f64().unwrap_or(hurdle);
     let set = irr::roots_of(&flows);
-    let report = irr::report_from_set(&flows, &set, hurdle, true);
-    // LEAD-WIRING: complex reading once engine::complex lands.
-    let _ = report.count;
+    let mut report = irr::report_from_set(&flows, &set, hurdle, true);
+    if report.count == 0 && report.certified && report.upper_bound > 0 {
+        report.complex_reading = complex::complex_reading(&flows, hurdle);
+    }
     let npv_at_hurdle = figures::npv_exact(&flows, rates.hurdle).unwrap_or(Decimal::ZERO);
     let decision = if npv_at_hurdle > Decimal::ZERO {
         Decision::Accept
@@ -60,16 +66,30 @@ pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates, currency: &str
             note: p.note.clone(),
         })
         .collect();
-    let inflows: Decimal = flows.points.iter().map(|p| p.amount).filter(|a| a.is_sign_positive()).sum();
-    let outflows: Decimal = flows.points.iter().map(|p| p.amount).filter(|a| a.is_sign_negative()).sum();
+    let inflows: Decimal = flows
+        .points
+        .iter()
+        .map(|p| p.amount)
+        .filter(|a| a.is_sign_positive())
+        .sum();
+    let outflows: Decimal = flows
+        .points
+        .iter()
+        .map(|p| p.amount)
+        .filter(|a| a.is_sign_negative())
+        .sum();
     let totals = Totals {
         inflows,
         outflows,
         net: inflows + outflows,
-        horizon_years: if flows.points.is_empty() { 0.0 } else { flows.years(flows.points.len() - 1) },
+        horizon_years: if flows.points.is_empty() {
+            0.0
+        } else {
+            flows.years(flows.points.len() - 1)
+        },
     };
     let mirr = figures::mirr(&flows, finance, reinvestment);
-    let analysis = ScenarioAnalysis {
+    let mut analysis = ScenarioAnalysis {
         name: name.to_string(),
         hurdle_rate: hurdle,
         finance_rate: finance,
@@ -88,7 +108,31 @@ pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates, currency: &str
         irr: report,
         cautions: Vec::new(),
     };
-    // LEAD-WIRING: cautions once engine::cautions lands.
-    let _ = currency;
+    let one_sign = flows.points.iter().all(|p| p.amount.is_sign_positive())
+        || flows.points.iter().all(|p| p.amount.is_sign_negative());
+    let input = cautions::CautionInput {
+        currency,
+        hurdle,
+        finance,
+        reinvestment,
+        roots: &analysis.irr.roots,
+        certified: analysis.irr.certified,
+        unresolved: &analysis.irr.unresolved,
+        npv_at_hurdle: analysis.npv_at_hurdle,
+        mirr: analysis.mirr,
+        mirr_reinvest_range: analysis.mirr.map(|_| {
+            (
+                figures::mirr(&flows, finance, reinvestment - 0.02),
+                figures::mirr(&flows, finance, reinvestment + 0.02),
+            )
+        }),
+        horizon_years: analysis.totals.horizon_years,
+        first_interval_years: (flows.points.len() >= 2).then(|| flows.years(1) - flows.years(0)),
+        one_sign,
+        net: analysis.totals.net,
+        complex_reading: analysis.irr.complex_reading.as_ref(),
+    };
+    let found = cautions::cautions(&input);
+    analysis.cautions = found;
     analysis
 }

@@ -80,6 +80,8 @@ impl RootSet {
 
 /// The series prepared for evaluation.
 struct Series {
+    /// True for the time-reversed series (variable u = -y), used for rates below 0%.
+    reversed: bool,
     /// Coefficients as f64 (rounded once from the exact decimals).
     c: Vec<f64>,
     /// Exponents `n_k` as f64 (exact: integers below 2^53).
@@ -92,19 +94,22 @@ struct Series {
     gap_idx: Vec<usize>,
     /// The distinct gaps between consecutive exponents.
     gap_vals: Vec<f64>,
-    /// Precomputed n_k^d for d in 0..ORDERS.
-    npow: Vec<[f64; ORDERS]>,
+    /// |c_k|.
+    abs_c: Vec<f64>,
+    /// c_k < 0.
+    negative: Vec<bool>,
+    /// n_K^d for d in 0..ORDERS.
+    npow_last: [f64; ORDERS],
     /// Sum of |c_k|.
     abs_sum: f64,
 }
 
 /// One point evaluation: the positive and negative parts of `f^(d)` scaled by a
-/// positive factor that depends only on `y` and the side (so signs are exact), with
+/// positive factor (so signs are exact), with
 /// error bounds.
 #[derive(Debug, Clone, Copy)]
 struct Point {
     y: f64,
-    side: Side,
     /// Orders computed (higher entries are not valid).
     orders: usize,
     /// Sum over positive coefficients of c_k n_k^d w_k.
@@ -143,25 +148,16 @@ impl Point {
     }
 }
 
-/// Which side of 0 an interval lies on; it fixes the scaling of evaluations.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum Side {
-    /// y >= 0: terms scaled by 1 (all factors exp(-y n) <= 1).
-    Upper,
-    /// y <= 0: terms scaled by exp(y n_K) (all factors <= 1).
-    Lower,
-}
-
 struct Solver<'a> {
     s: &'a Series,
     /// True while subdividing: interval ends then need every order.
     in_search: bool,
     evals: usize,
-    cache: Vec<(u64, Side, Point)>,
+    cache: Vec<(u64, Point)>,
 }
 
 impl Series {
-    fn new(amounts: &[Decimal], exps: &[u64]) -> Series {
+    fn new(amounts: &[Decimal], exps: &[u64], reversed: bool) -> Series {
         let c: Vec<f64> = amounts.iter().map(|a| a.to_f64().unwrap_or(0.0)).collect();
         let n: Vec<f64> = exps.iter().map(|&e| e as f64).collect();
         let mut gap_vals: Vec<f64> = Vec::new();
@@ -177,25 +173,25 @@ impl Series {
             };
             gap_idx[k] = idx;
         }
-        let npow = n
-            .iter()
-            .map(|&x| {
-                let mut p = [1.0; ORDERS];
-                for d in 1..ORDERS {
-                    p[d] = p[d - 1] * x;
-                }
-                p
-            })
-            .collect();
+        let mut npow_last = [1.0; ORDERS];
+        let last = n.last().copied().unwrap_or(0.0);
+        for d in 1..ORDERS {
+            npow_last[d] = npow_last[d - 1] * last;
+        }
         let abs_sum = c.iter().map(|x| x.abs()).sum();
+        let abs_c = c.iter().map(|x| x.abs()).collect();
+        let negative = c.iter().map(|x| *x < 0.0).collect();
         Series {
+            reversed,
             c,
             n,
             n_int: exps.to_vec(),
             amounts: amounts.to_vec(),
             gap_idx,
             gap_vals,
-            npow,
+            abs_c,
+            negative,
+            npow_last,
             abs_sum,
         }
     }
@@ -204,18 +200,36 @@ impl Series {
         *self.n.last().unwrap_or(&0.0)
     }
 
-    /// Evaluates derivative orders `0..orders` at `y` with the scaling of `side`.
-    fn eval(&self, y: f64, side: Side, orders: usize) -> Point {
+    /// Sums of |c_k| w_k n_k^d over positive (index 0) and negative (index 1)
+    /// coefficients for d < M, with w_k = exp(-y n_k).
+    fn sums<const M: usize>(&self, factors: &[f64]) -> [[f64; M]; 2] {
+        let mut acc = [[0.0f64; M]; 2];
+        let k_len = self.c.len();
+        let mut w = 1.0f64;
+        let mut term = |k: usize, w: f64| {
+            let nk = self.n[k];
+            let mut v = self.abs_c[k] * w;
+            let row = &mut acc[usize::from(self.negative[k])];
+            for slot in row.iter_mut() {
+                *slot += v;
+                v *= nk;
+            }
+        };
+        for k in 0..k_len {
+            if k > 0 {
+                w *= factors[self.gap_idx[k]];
+            }
+            term(k, w);
+        }
+        acc
+    }
+
+    /// Evaluates derivative orders `0..orders` at `y >= 0`.
+    fn eval(&self, y: f64, orders: usize) -> Point {
         let orders = orders.clamp(1, ORDERS);
         let k_len = self.c.len();
-        // acc[0]: positive coefficients, acc[1]: negative ones (absolute values).
-        let mut acc = [[0.0f64; ORDERS]; 2];
-        let mut ea = [0.0f64; ORDERS];
-        // Factors exp(-y * gap) (Upper) or exp(y * gap) (Lower), each <= 1.
-        let factor = |g: f64| match side {
-            Side::Upper => (-y * g).exp(),
-            Side::Lower => (y * g).exp(),
-        };
+        // Factors exp(-y * gap), each <= 1 for y >= 0.
+        let factor = |g: f64| (-y * g).exp();
         let mut z = [0.0f64; 64];
         let zs: Vec<f64>;
         let factors: &[f64] = if self.gap_vals.len() <= 64 {
@@ -227,76 +241,71 @@ impl Series {
             zs = self.gap_vals.iter().map(|g| factor(*g)).collect();
             &zs
         };
-        let base = match side {
-            Side::Upper => 0.0,
-            Side::Lower => self.last_n(),
-        };
-        // Relative error of a term: one rounding per multiplication and per exp on the
-        // way to it, plus the rounding of the exponents y*gap carried through (2x safety).
-        let per_step = 4.0 * EPS;
-        let fixed = 2.0 * EPS * (ORDERS + 4) as f64;
-        let per_unit = 2.0 * EPS * y.abs();
-        let mut w = 1.0f64;
-        let mut term = |k: usize, w: f64, steps: usize| {
-            let c = self.c[k];
-            let neg = usize::from(c < 0.0);
-            let rel = fixed + per_step * steps as f64 + per_unit * (self.n[k] - base).abs();
-            let nk = self.n[k];
-            let mut v = c.abs() * w;
-            let row = &mut acc[neg];
-            for d in 0..orders {
-                row[d] += v;
-                ea[d] += v * rel;
-                v *= nk;
-            }
-        };
-        match side {
-            Side::Upper => {
-                for k in 0..k_len {
-                    if k > 0 {
-                        w *= factors[self.gap_idx[k]];
-                    }
-                    term(k, w, k);
-                }
-            }
-            Side::Lower => {
-                for k in (0..k_len).rev() {
-                    if k + 1 < k_len {
-                        w *= factors[self.gap_idx[k + 1]];
-                    }
-                    term(k, w, k_len - 1 - k);
-                }
-            }
+        // One order more than asked: it bounds the rounding error (below).
+        let mut a = [0.0f64; ORDERS + 1];
+        let mut b = [0.0f64; ORDERS + 1];
+        macro_rules! run {
+            ($m:literal) => {{
+                let [p, q] = self.sums::<$m>(factors);
+                a[..$m].copy_from_slice(&p);
+                b[..$m].copy_from_slice(&q);
+            }};
         }
-        let [a, b] = acc;
+        match orders {
+            1 => run!(2),
+            2 => run!(3),
+            3 => run!(4),
+            4 => run!(5),
+            _ => run!(6),
+        }
+        // Relative error of term k: one rounding per multiplication and per exp on the
+        // way to it (at most one per unit of distance from the scaling end, since the
+        // exponents grow by at least 1 a term), plus the rounding of the exponents
+        // y*gap carried through, all with a 2x safety factor. Summed over the terms,
+        // the distance-weighted part is the next order's sum.
+        let fixed = 2.0 * EPS * (ORDERS + 6) as f64;
+        let per_unit = 4.0 * EPS + 2.0 * EPS * y.abs();
         let mut err = [f64::INFINITY; ORDERS];
         for d in 0..orders {
-            // Summation error of two sums of non-negative terms, plus a floor for
-            // underflowed terms.
-            err[d] = ea[d]
-                + (k_len as f64 + 2.0) * 2.0 * EPS * (a[d] + b[d])
-                + 1e-290 * self.abs_sum * self.npow.last().map_or(1.0, |p| p[d]);
+            let total = a[d] + b[d];
+            let weighted = a[d + 1] + b[d + 1];
+            // Plus the summation error of two sums of non-negative terms, and a floor
+            // for underflowed terms.
+            err[d] = fixed * total
+                + per_unit * weighted
+                + (k_len as f64 + 2.0) * 2.0 * EPS * total
+                + 1e-290 * self.abs_sum * self.npow_last[d];
         }
-        Point { y, side, orders, a, b, err }
+        let mut pa = [0.0; ORDERS];
+        let mut pb = [0.0; ORDERS];
+        pa.copy_from_slice(&a[..ORDERS]);
+        pb.copy_from_slice(&b[..ORDERS]);
+        Point {
+            y,
+            orders,
+            a: pa,
+            b: pb,
+            err,
+        }
     }
 }
 
 impl<'a> Solver<'a> {
     /// The point evaluation at `y` with at least `orders` derivative orders.
-    fn point(&mut self, y: f64, side: Side, orders: usize) -> Point {
+    fn point(&mut self, y: f64, orders: usize) -> Point {
         let key = y.to_bits();
-        if let Some((_, _, p)) = self
+        if let Some((_, p)) = self
             .cache
             .iter()
             .rev()
             .take(64)
-            .find(|(k, s, p)| *k == key && *s == side && p.orders >= orders)
+            .find(|(k, p)| *k == key && p.orders >= orders)
         {
             return *p;
         }
         self.evals += 1;
-        let p = self.s.eval(y, side, orders);
-        self.cache.push((key, side, p));
+        let p = self.s.eval(y, orders);
+        self.cache.push((key, p));
         if self.cache.len() > 256 {
             self.cache.drain(..128);
         }
@@ -307,62 +316,45 @@ impl<'a> Solver<'a> {
         self.evals > EVAL_BUDGET
     }
 
-    /// Encloses f^(d) over [a, b] (same side); returns (lo, hi) in the scale of `a`.
-    fn enclose(&mut self, a: f64, b: f64, side: Side, d: usize) -> (f64, f64) {
+    /// Encloses f^(d) over [a, b] by its decreasing positive and negative parts.
+    fn enclose(&mut self, a: f64, b: f64, d: usize) -> (f64, f64) {
         let need = if self.in_search { ORDERS } else { d + 1 };
-        let pa = self.point(a, side, need);
-        let pb = self.point(b, side, need);
+        let pa = self.point(a, need);
+        let pb = self.point(b, need);
         let (pos_a, neg_a) = pa.parts(d);
         let (pos_b, neg_b) = pb.parts(d);
-        let (factor, ferr) = match side {
-            Side::Upper => (1.0, 0.0),
-            Side::Lower => {
-                let arg = (a - b) * self.s.last_n();
-                (arg.exp(), 4.0 * EPS * (1.0 + arg.abs()))
-            }
-        };
-        let e = pa.err[d] + pb.err[d] * factor * (1.0 + ferr) + (pos_b + neg_b) * factor * ferr;
-        let lo = pos_b * factor - neg_a;
-        let hi = pos_a - neg_b * factor;
-        let slack = 4.0 * EPS * (pos_a + neg_a + (pos_b + neg_b) * factor);
+        let e = pa.err[d] + pb.err[d];
+        let lo = pos_b - neg_a;
+        let hi = pos_a - neg_b;
+        let slack = 4.0 * EPS * (pos_a + neg_a + pos_b + neg_b);
         (lo - e - slack, hi + e + slack)
-    }
-
-    /// Factor turning values in the scale of `from` into the scale of `to` (Lower side
-    /// values carry exp(y n_K)).
-    fn rescale(&self, from: f64, to: f64, side: Side) -> f64 {
-        match side {
-            Side::Upper => 1.0,
-            Side::Lower => ((to - from) * self.s.last_n()).exp(),
-        }
     }
 
     /// Encloses f^(d) over [a, b] by a Taylor form around the midpoint: the value and
     /// slope there (with their error bounds) and an enclosure of f^(d+2) (or the mean
     /// value form with f^(d+1)). Far tighter than [`Solver::enclose`] when the positive
-    /// and negative parts nearly cancel. Returns bounds in the scale of the midpoint.
-    fn enclose_taylor(&mut self, a: f64, b: f64, side: Side, d: usize) -> Option<(f64, f64)> {
+    /// and negative parts nearly cancel.
+    fn enclose_taylor(&mut self, a: f64, b: f64, d: usize) -> Option<(f64, f64)> {
         if d + 1 >= ORDERS {
             return None;
         }
         let m = 0.5 * (a + b);
         let h = 0.5 * (b - a);
         // The midpoint is also where the interval is split next: take every order.
-        let pm = self.point(m, side, ORDERS);
-        let conv = self.rescale(a, m, side) * (1.0 + 8.0 * EPS * (1.0 + ((m - a) * self.s.last_n()).abs()));
+        let pm = self.point(m, ORDERS);
         let v = pm.value(d);
         let ev = pm.err[d] + 4.0 * EPS * (pm.a[d] + pm.b[d]);
         let (lo, hi) = if d + 2 < ORDERS {
             let sl = pm.value(d + 1);
             let es = pm.err[d + 1] + 4.0 * EPS * (pm.a[d + 1] + pm.b[d + 1]);
-            let (clo, chi) = self.enclose(a, b, side, d + 2);
+            let (clo, chi) = self.enclose(a, b, d + 2);
             let reach = (sl.abs() + es) * h;
-            let lo = v - ev - reach + (clo * conv).min(0.0) * h * h * 0.5;
-            let hi = v + ev + reach + (chi * conv).max(0.0) * h * h * 0.5;
+            let lo = v - ev - reach + clo.min(0.0) * h * h * 0.5;
+            let hi = v + ev + reach + chi.max(0.0) * h * h * 0.5;
             (lo, hi)
         } else {
-            let (dlo, dhi) = self.enclose(a, b, side, d + 1);
-            let reach = dlo.abs().max(dhi.abs()) * conv * h;
+            let (dlo, dhi) = self.enclose(a, b, d + 1);
+            let reach = dlo.abs().max(dhi.abs()) * h;
             (v - ev - reach, v + ev + reach)
         };
         let slack = 4.0 * EPS * (lo.abs() + hi.abs());
@@ -370,7 +362,7 @@ impl<'a> Solver<'a> {
     }
 
     /// The sign f^(d) keeps over all of [a, b], when one of the enclosures proves it.
-    fn sign_over(&mut self, a: f64, b: f64, side: Side, d: usize) -> Option<i8> {
+    fn sign_over(&mut self, a: f64, b: f64, d: usize) -> Option<i8> {
         let decide = |lo: f64, hi: f64| {
             if lo > 0.0 {
                 Some(1)
@@ -380,22 +372,25 @@ impl<'a> Solver<'a> {
                 None
             }
         };
-        let (lo, hi) = self.enclose(a, b, side, d);
-        decide(lo, hi).or_else(|| self.enclose_taylor(a, b, side, d).and_then(|(lo, hi)| decide(lo, hi)))
+        let (lo, hi) = self.enclose(a, b, d);
+        decide(lo, hi).or_else(|| {
+            self.enclose_taylor(a, b, d)
+                .and_then(|(lo, hi)| decide(lo, hi))
+        })
     }
 
-    fn excludes_zero(&mut self, a: f64, b: f64, side: Side, d: usize) -> bool {
-        self.sign_over(a, b, side, d).is_some()
+    fn excludes_zero(&mut self, a: f64, b: f64, d: usize) -> bool {
+        self.sign_over(a, b, d).is_some()
     }
 
     /// Narrows a bracket [lo, hi] of f^(d) with certified opposite end signs to a tight
     /// certified interval around its single root (safeguarded Newton plus bisection).
-    fn refine(&mut self, d: usize, mut lo: f64, mut hi: f64, side: Side, sign_lo: i8) -> (f64, f64, f64) {
+    fn refine(&mut self, d: usize, mut lo: f64, mut hi: f64, sign_lo: i8) -> (f64, f64, f64) {
         // Start from the better Newton step taken from either end.
         let mut x = 0.5 * (lo + hi);
         let mut best = f64::INFINITY;
         for end in [lo, hi] {
-            let p = self.point(end, side, d + 2);
+            let p = self.point(end, d + 2);
             let n = self.newton(&p, d);
             if n > lo && n < hi && (n - end).abs() < best {
                 best = (n - end).abs();
@@ -413,14 +408,14 @@ impl<'a> Solver<'a> {
             if !(x > lo && x < hi) {
                 x = 0.5 * (lo + hi);
             }
-            let p = self.point(x, side, d + 2);
+            let p = self.point(x, d + 2);
             match p.sign(d) {
                 Some(s) if s == sign_lo => lo = x,
                 Some(_) => hi = x,
                 None => {
                     // Inside the error band: tighten from both sides around it, and go
                     // on if that left the root on one side of the band.
-                    let (l2, h2) = self.tighten(d, lo, hi, x, side, sign_lo);
+                    let (l2, h2) = self.tighten(d, lo, hi, x, sign_lo);
                     let stuck = l2 <= x && h2 >= x;
                     lo = l2;
                     hi = h2;
@@ -437,7 +432,7 @@ impl<'a> Solver<'a> {
             if newton.is_finite() && newton > lo && newton < hi && step < 0.5 * prev_step {
                 if step <= 2.0 * f64::EPSILON * newton.abs().max(1e-300) {
                     // Converged: find the nearest certain signs on both sides.
-                    let (l2, h2) = self.tighten(d, lo, hi, newton, side, sign_lo);
+                    let (l2, h2) = self.tighten(d, lo, hi, newton, sign_lo);
                     if l2 <= newton && h2 >= newton {
                         return (l2, h2, newton);
                     }
@@ -458,13 +453,9 @@ impl<'a> Solver<'a> {
         (lo, hi, 0.5 * (lo + hi))
     }
 
-    /// The Newton step for f^(d) from a point, on the scaled function the point carries
-    /// (on the lower side f^(d) exp(y n_K), whose slope gains n_K f^(d)); NaN if flat.
+    /// The Newton step for f^(d) from a point; NaN where the slope is flat.
     fn newton(&self, p: &Point, d: usize) -> f64 {
-        let slope = match p.side {
-            Side::Upper => p.value(d + 1),
-            Side::Lower => p.value(d + 1) + self.s.last_n() * p.value(d),
-        };
+        let slope = p.value(d + 1);
         if slope != 0.0 && slope.is_finite() {
             p.y - p.value(d) / slope
         } else {
@@ -474,21 +465,23 @@ impl<'a> Solver<'a> {
 
     /// The sign at `mid` is uncertain: walk outwards from it to the nearest points on
     /// either side whose signs are certain, keeping inside [lo, hi].
-    fn tighten(&mut self, d: usize, lo: f64, hi: f64, mid: f64, side: Side, sign_lo: i8) -> (f64, f64) {
+    fn tighten(&mut self, d: usize, lo: f64, hi: f64, mid: f64, sign_lo: i8) -> (f64, f64) {
         let mut new_lo = lo;
         let mut new_hi = hi;
         // First step: the width of the band where the error bound hides the sign, as
         // the value's error over the slope suggests.
-        let p = self.point(mid, side, d + 2);
-        let slope = match side {
-            Side::Upper => p.value(d + 1),
-            Side::Lower => p.value(d + 1) + self.s.last_n() * p.value(d),
-        };
-        let band = 1.5 * (p.err[d] + 2.0 * EPS * (p.a[d] + p.b[d]) + p.value(d).abs()) / slope.abs();
-        let first = (8.0 * f64::EPSILON * mid.abs().max(1e-300)).max(if band.is_finite() { band } else { 0.0 });
+        let p = self.point(mid, d + 2);
+        let slope = p.value(d + 1);
+        let band =
+            1.5 * (p.err[d] + 2.0 * EPS * (p.a[d] + p.b[d]) + p.value(d).abs()) / slope.abs();
+        let first = (8.0 * f64::EPSILON * mid.abs().max(1e-300)).max(if band.is_finite() {
+            band
+        } else {
+            0.0
+        });
         let mut step = first;
         while mid - step > lo {
-            match self.point(mid - step, side, d + 1).sign(d) {
+            match self.point(mid - step, d + 1).sign(d) {
                 Some(s) if s == sign_lo => {
                     new_lo = mid - step;
                     break;
@@ -502,7 +495,7 @@ impl<'a> Solver<'a> {
         }
         let mut step = first;
         while mid + step < new_hi {
-            match self.point(mid + step, side, d + 1).sign(d) {
+            match self.point(mid + step, d + 1).sign(d) {
                 Some(s) if s != sign_lo => {
                     new_hi = mid + step;
                     break;
@@ -570,7 +563,11 @@ pub fn sign_bounds(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
         acc2 += *a;
         bwd.push(acc2);
     }
-    (v, Some(sign_changes(fwd.into_iter())), Some(sign_changes(bwd.into_iter())))
+    (
+        v,
+        Some(sign_changes(fwd.into_iter())),
+        Some(sign_changes(bwd.into_iter())),
+    )
 }
 
 /// Finds every real root of `sum amounts[k] * x^(-offsets[k] / units)` in `y = ln x`
@@ -596,29 +593,50 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     if descartes == 0 || amounts.len() < 2 {
         return out;
     }
-    let series = Series::new(amounts, &exps);
-    let mut solver = Solver {
-        s: &series,
-        in_search: false,
-        evals: 0,
-        cache: Vec::new(),
-    };
+    // Rates above 0% are searched on the series itself, rates below 0% on the reversed
+    // series (u = -y, exponents n_K - n_k): both are then sums of decreasing
+    // exponentials in a non-negative variable, which the enclosures need.
+    let series = Series::new(amounts, &exps, false);
+    let last = *exps.last().unwrap_or(&0);
+    let rev_amounts: Vec<Decimal> = amounts.iter().rev().copied().collect();
+    let rev_exps: Vec<u64> = exps.iter().rev().map(|&e| last - e).collect();
+    let reversed = Series::new(&rev_amounts, &rev_exps, true);
+    let mut solvers = [
+        Solver {
+            s: &series,
+            in_search: false,
+            evals: 0,
+            cache: Vec::new(),
+        },
+        Solver {
+            s: &reversed,
+            in_search: false,
+            evals: 0,
+            cache: Vec::new(),
+        },
+    ];
 
     // Bracket: beyond these the first (resp. last) term dominates all others.
-    let c0 = series.c[0].abs();
-    let ck = series.c[series.c.len() - 1].abs();
-    let rest_hi: f64 = series.abs_sum - c0;
-    let rest_lo: f64 = series.abs_sum - ck;
-    let n1 = series.n[1];
-    let gap_last = series.last_n() - series.n[series.n.len() - 2];
-    let y_hi = ((rest_hi / c0).ln().max(0.0) / n1 + 1.0) * 1.01 + 1.0 / n1;
-    let y_lo = -(((rest_lo / ck).ln().max(0.0) / gap_last + 1.0) * 1.01 + 1.0 / gap_last);
+    let bound = |s: &Series| {
+        let c0 = s.c[0].abs();
+        let rest = s.abs_sum - c0;
+        let n1 = s.n[1];
+        ((rest / c0).ln().max(0.0) / n1 + 1.0) * 1.01 + 1.0 / n1
+    };
+    let y_hi = bound(&series);
+    let u_hi = bound(&reversed);
 
     let total: Decimal = amounts.iter().sum();
     let zero_is_root = total.is_zero();
     let mut zero_root: Option<FoundRoot> = None;
-    // Half-lines to search: (lo, hi, side, known count if a Norstrom bound settles it).
-    let mut halves: Vec<(f64, f64, Side, Option<u32>)> = Vec::new();
+    // Where to search on each side of 0 (index 0: rates above 0%, on the series;
+    // index 1: rates below 0%, on the reversed series), and the count when a
+    // Norstrom bound settles it.
+    let mut starts = [0.0f64; 2];
+    let mut known = [
+        above_zero.filter(|&n| n <= 1),
+        below_zero.filter(|&n| n <= 1),
+    ];
     if zero_is_root {
         let m = exact_multiplicity(&series, &BigInt::one(), &BigInt::one()).unwrap_or(1);
         zero_root = Some(FoundRoot {
@@ -629,18 +647,17 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
             exact_rate: Some(Decimal::ZERO),
         });
         // Keep away from the multiple root at 0 by a neighbourhood where f^(m) has a
-        // fixed sign (Rolle: no other root there).
+        // fixed sign on both sides (Rolle: no other root there).
         let mut delta = 1e-3 / series.last_n().max(1.0);
         let mut found = false;
         for _ in 0..60 {
             if m as usize >= ORDERS {
                 break;
             }
-            let upper_ok = solver.excludes_zero(0.0, delta, Side::Upper, m as usize)
-                && solver.point(delta, Side::Upper, 1).sign(0).is_some();
-            let lower_ok = solver.excludes_zero(-delta, 0.0, Side::Lower, m as usize)
-                && solver.point(-delta, Side::Lower, 1).sign(0).is_some();
-            if upper_ok && lower_ok {
+            let ok = solvers.iter_mut().all(|sv| {
+                sv.excludes_zero(0.0, delta, m as usize) && sv.point(delta, 1).sign(0).is_some()
+            });
+            if ok {
                 found = true;
                 break;
             }
@@ -650,27 +667,25 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
             out.certified = false;
             out.unresolved.push((-delta, delta));
         }
-        halves.push((y_lo, -delta, Side::Lower, None));
-        halves.push((delta, y_hi, Side::Upper, None));
-    } else {
-        let count_above = above_zero.filter(|&n| n <= 1);
-        let count_below = below_zero.filter(|&n| n <= 1);
-        halves.push((y_lo, 0.0, Side::Lower, count_below));
-        halves.push((0.0, y_hi, Side::Upper, count_above));
+        starts = [delta, delta];
+        known = [None, None];
     }
 
     let mut roots: Vec<FoundRoot> = Vec::new();
-    for (lo, hi, side, known) in halves {
+    for (i, solver) in solvers.iter_mut().enumerate() {
+        let (lo, hi) = (starts[i], if i == 0 { y_hi } else { u_hi });
         if lo >= hi {
             continue;
         }
-        let sl = solver.point(lo, side, 2).sign(0);
-        let sh = solver.point(hi, side, 2).sign(0);
-        match (known, sl, sh) {
+        let mut found: Vec<FoundRoot> = Vec::new();
+        let unresolved_before = out.unresolved.len();
+        let sl = solver.point(lo, 2).sign(0);
+        let sh = solver.point(hi, 2).sign(0);
+        match (known[i], sl, sh) {
             (Some(0), _, _) => {}
             (Some(1), Some(a), Some(b)) if a != b => {
-                let (l, h, y) = solver.refine(0, lo, hi, side, a);
-                roots.push(FoundRoot {
+                let (l, h, y) = solver.refine(0, lo, hi, a);
+                found.push(FoundRoot {
                     lo: l,
                     hi: h,
                     y,
@@ -678,21 +693,41 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
                     exact_rate: None,
                 });
             }
-            _ => search(&mut solver, lo, hi, side, &mut roots, &mut out),
+            _ => search(solver, lo, hi, &mut found, &mut out),
         }
+        if i == 1 {
+            // Back from u = -y to y.
+            for iv in &mut out.unresolved[unresolved_before..] {
+                *iv = (-iv.1, -iv.0);
+            }
+            for r in &mut found {
+                *r = FoundRoot {
+                    lo: -r.hi,
+                    hi: -r.lo,
+                    y: -r.y,
+                    ..r.clone()
+                };
+            }
+        }
+        roots.extend(found);
     }
     if let Some(z) = zero_root {
         roots.push(z);
     }
     roots.sort_by(|a, b| a.y.total_cmp(&b.y));
     out.roots = roots;
-    out.evaluations = solver.evals;
+    out.evaluations = solvers.iter().map(|s| s.evals).sum();
     let count = out.count();
-    if solver.exhausted() || count > descartes || (descartes - count) % 2 != 0 {
+    if solvers.iter().any(|s| s.exhausted()) || count > descartes || (descartes - count) % 2 != 0 {
         out.certified = false;
     }
     if !zero_is_root {
-        let above = out.roots.iter().filter(|r| r.y > 0.0).map(|r| r.multiplicity).sum::<u32>();
+        let above = out
+            .roots
+            .iter()
+            .filter(|r| r.y > 0.0)
+            .map(|r| r.multiplicity)
+            .sum::<u32>();
         let below = count - above;
         if above_zero.is_some_and(|b| above > b || (b - above) % 2 != 0)
             || below_zero.is_some_and(|b| below > b || (b - below) % 2 != 0)
@@ -703,8 +738,14 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     out
 }
 
-/// Subdivision search over [lo, hi] on one side of 0.
-fn search(solver: &mut Solver<'_>, lo: f64, hi: f64, side: Side, roots: &mut Vec<FoundRoot>, out: &mut RootSet) {
+/// Subdivision search over [lo, hi] (within y >= 0).
+fn search(
+    solver: &mut Solver<'_>,
+    lo: f64,
+    hi: f64,
+    roots: &mut Vec<FoundRoot>,
+    out: &mut RootSet,
+) {
     solver.in_search = true;
     let mut stack: Vec<(f64, f64)> = vec![(lo, hi)];
     while let Some((a, b)) = stack.pop() {
@@ -713,20 +754,20 @@ fn search(solver: &mut Solver<'_>, lo: f64, hi: f64, side: Side, roots: &mut Vec
             out.unresolved.push((a, b));
             continue;
         }
-        if solver.excludes_zero(a, b, side, 0) {
+        if solver.excludes_zero(a, b, 0) {
             continue;
         }
-        let sa = solver.point(a, side, 1).sign(0);
-        let sb = solver.point(b, side, 1).sign(0);
+        let sa = solver.point(a, 1).sign(0);
+        let sb = solver.point(b, 1).sign(0);
         let (Some(sa), Some(sb)) = (sa, sb) else {
             // Interval ends always carry certain signs (chosen so); be safe anyway.
             out.certified = false;
             out.unresolved.push((a, b));
             continue;
         };
-        if solver.excludes_zero(a, b, side, 1) {
+        if solver.excludes_zero(a, b, 1) {
             if sa != sb {
-                let (l, h, y) = solver.refine(0, a, b, side, sa);
+                let (l, h, y) = solver.refine(0, a, b, sa);
                 roots.push(FoundRoot {
                     lo: l,
                     hi: h,
@@ -737,33 +778,31 @@ fn search(solver: &mut Solver<'_>, lo: f64, hi: f64, side: Side, roots: &mut Vec
             }
             continue;
         }
-        if solver.excludes_zero(a, b, side, 2) {
-            if convex_case(solver, a, b, side, sa, sb, roots, out) {
-                continue;
-            }
+        if solver.excludes_zero(a, b, 2) && convex_case(solver, a, b, sa, sb, roots, out) {
+            continue;
         }
         let width = b - a;
         let tiny = width <= 1e-12 * a.abs().max(b.abs()).max(1e-3);
         if tiny {
-            settle_cluster(solver, a, b, side, roots, out);
+            settle_cluster(solver, a, b, roots, out);
             continue;
         }
-        match split_point(solver, a, b, side) {
+        match split_point(solver, a, b) {
             Some(m) => {
                 stack.push((m, b));
                 stack.push((a, m));
             }
-            None => settle_cluster(solver, a, b, side, roots, out),
+            None => settle_cluster(solver, a, b, roots, out),
         }
     }
 }
 
 /// A point inside (a, b) where the sign of f is certain, near the middle.
-fn split_point(solver: &mut Solver<'_>, a: f64, b: f64, side: Side) -> Option<f64> {
+fn split_point(solver: &mut Solver<'_>, a: f64, b: f64) -> Option<f64> {
     let w = b - a;
     for frac in [0.5, 0.375, 0.625, 0.25, 0.75, 0.125, 0.875, 0.0625, 0.9375] {
         let m = a + w * frac;
-        if m > a && m < b && solver.point(m, side, ORDERS).sign(0).is_some() {
+        if m > a && m < b && solver.point(m, ORDERS).sign(0).is_some() {
             return Some(m);
         }
     }
@@ -777,21 +816,20 @@ fn convex_case(
     solver: &mut Solver<'_>,
     a: f64,
     b: f64,
-    side: Side,
     sa: i8,
     sb: i8,
     roots: &mut Vec<FoundRoot>,
     out: &mut RootSet,
 ) -> bool {
-    let da = solver.point(a, side, 2).sign(1);
-    let db = solver.point(b, side, 2).sign(1);
+    let da = solver.point(a, 2).sign(1);
+    let db = solver.point(b, 2).sign(1);
     let (Some(da), Some(db)) = (da, db) else {
         return false;
     };
     if da == db {
         // f' keeps its sign at both ends and is monotone: f is monotone.
         if sa != sb {
-            let (l, h, y) = solver.refine(0, a, b, side, sa);
+            let (l, h, y) = solver.refine(0, a, b, sa);
             roots.push(FoundRoot {
                 lo: l,
                 hi: h,
@@ -802,13 +840,13 @@ fn convex_case(
         }
         return true;
     }
-    let (p, q, ystar) = solver.refine(1, a, b, side, da);
+    let (p, q, ystar) = solver.refine(1, a, b, da);
     // f on [p, q] contains the extremum.
-    if let Some(s_ext) = solver.sign_over(p, q, side, 0) {
+    if let Some(s_ext) = solver.sign_over(p, q, 0) {
         for (x0, x1, s0) in [(a, p, sa), (q, b, s_ext)] {
             let s1 = if x1 == b { sb } else { s_ext };
             if s0 != s1 && x0 < x1 {
-                let (l, h, y) = solver.refine(0, x0, x1, side, s0);
+                let (l, h, y) = solver.refine(0, x0, x1, s0);
                 roots.push(FoundRoot {
                     lo: l,
                     hi: h,
@@ -838,10 +876,13 @@ fn convex_case(
     out.certified = false;
     out.unresolved.push((p, q));
     // The parts of [a, b] outside [p, q] are monotone: settle them.
-    for (x0, x1, s0, s1) in [(a, p, Some(sa), solver.point(p, side, 1).sign(0)), (q, b, solver.point(q, side, 1).sign(0), Some(sb))] {
+    for (x0, x1, s0, s1) in [
+        (a, p, Some(sa), solver.point(p, 1).sign(0)),
+        (q, b, solver.point(q, 1).sign(0), Some(sb)),
+    ] {
         if let (Some(s0), Some(s1)) = (s0, s1) {
             if s0 != s1 && x0 < x1 {
-                let (l, h, y) = solver.refine(0, x0, x1, side, s0);
+                let (l, h, y) = solver.refine(0, x0, x1, s0);
                 roots.push(FoundRoot {
                     lo: l,
                     hi: h,
@@ -857,12 +898,18 @@ fn convex_case(
 
 /// A tiny interval that subdivision cannot settle: prove a multiple root exactly, or
 /// report the interval as undecided.
-fn settle_cluster(solver: &mut Solver<'_>, a: f64, b: f64, side: Side, roots: &mut Vec<FoundRoot>, out: &mut RootSet) {
+fn settle_cluster(
+    solver: &mut Solver<'_>,
+    a: f64,
+    b: f64,
+    roots: &mut Vec<FoundRoot>,
+    out: &mut RootSet,
+) {
     let mid = 0.5 * (a + b);
     if let Some((rate, m, y0)) = exact_root_near(solver.s, mid, a, b) {
         // Rolle: if f^(m) keeps one sign on [a, b], f has at most m roots there, and
         // the proven root already accounts for all m.
-        if (m as usize) < ORDERS && solver.excludes_zero(a, b, side, m as usize) {
+        if (m as usize) < ORDERS && solver.excludes_zero(a, b, m as usize) {
             let (lo, hi) = around(y0);
             roots.push(FoundRoot {
                 lo,
@@ -891,7 +938,13 @@ fn exact_root_near(s: &Series, y: f64, lo: f64, hi: f64) -> Option<(Decimal, u32
     if s.n_int.last().copied().unwrap_or(0) > EXACT_DEGREE_LIMIT {
         return None;
     }
-    let rate = y.exp_m1();
+    // The decimal candidates are rates of the original series; the reversed series'
+    // variable is u = -y, whose growth factor is the reciprocal.
+    let rate = if s.reversed {
+        (-y).exp_m1()
+    } else {
+        y.exp_m1()
+    };
     if !rate.is_finite() || rate <= -1.0 || rate.abs() > 1e12 {
         return None;
     }
@@ -903,14 +956,17 @@ fn exact_root_near(s: &Series, y: f64, lo: f64, hi: f64) -> Option<(Decimal, u32
             continue;
         }
         tried.push(cand);
-        let yc = (1.0 + cand.to_f64()?).ln();
+        let yc = (1.0 + cand.to_f64()?).ln() * if s.reversed { -1.0 } else { 1.0 };
         let margin = 1e-9 * (hi - lo).abs().max(1e-12) + 4.0 * f64::EPSILON * yc.abs();
         if yc < lo - margin || yc > hi + margin {
             continue;
         }
         let growth = Decimal::ONE + cand;
-        let p = BigInt::from(growth.mantissa());
-        let q = num_traits::pow(BigInt::from(10), growth.scale() as usize);
+        let mut p = BigInt::from(growth.mantissa());
+        let mut q = num_traits::pow(BigInt::from(10), growth.scale() as usize);
+        if s.reversed {
+            std::mem::swap(&mut p, &mut q);
+        }
         if let Some(m) = exact_multiplicity(s, &p, &q) {
             return Some((cand, m, yc));
         }
@@ -938,7 +994,9 @@ fn exact_multiplicity(s: &Series, p: &BigInt, q: &BigInt) -> Option<u32> {
     let mut sums: Vec<BigInt> = vec![BigInt::zero(); ORDERS];
     for (k, ck) in exact.enumerate() {
         let nk = s.n_int[k];
-        let term = ck * num_traits::pow(q.clone(), nk as usize) * num_traits::pow(p.clone(), (big_n - nk) as usize);
+        let term = ck
+            * num_traits::pow(q.clone(), nk as usize)
+            * num_traits::pow(p.clone(), (big_n - nk) as usize);
         let mut mult = BigInt::one();
         for (j, sum) in sums.iter_mut().enumerate() {
             if j > 0 {
@@ -976,7 +1034,10 @@ mod tests {
         assert!(rs.certified);
         assert_eq!(rs.count(), 2);
         let r = rates(&rs);
-        assert!((r[0] - 0.25).abs() < 1e-12 && (r[1] - 4.0).abs() < 1e-11, "{r:?}");
+        assert!(
+            (r[0] - 0.25).abs() < 1e-12 && (r[1] - 4.0).abs() < 1e-11,
+            "{r:?}"
+        );
         for root in &rs.roots {
             assert!(root.lo <= root.y && root.y <= root.hi);
         }
@@ -986,7 +1047,7 @@ mod tests {
     fn mine_two_roots() {
         // Corporate-finance textbook mine example [memory]; roots per FIELD.md [computed]
         let mut a = vec![dec!(-30)];
-        a.extend(std::iter::repeat(dec!(10)).take(9));
+        a.extend(std::iter::repeat_n(dec!(10), 9));
         a.push(dec!(-65));
         let rs = yearly(&a);
         assert!(rs.certified);
