@@ -23,6 +23,10 @@ pub enum Command {
     Rates(RatesArgs),
     /// Typeset the committee memo as an archival PDF.
     Memo(MemoArgs),
+    /// Check filed memos: hashes, recomputed figures and rebuilt PDFs.
+    Verify(VerifyArgs),
+    /// Show what changed between two deals or two filed versions.
+    Diff(DiffArgs),
 }
 
 /// Options of `candor check`.
@@ -69,6 +73,31 @@ pub struct MemoArgs {
     /// Also write an intermediate form: `--emit typst FILE` writes the generated markup.
     #[arg(long, num_args = 2, value_names = ["KIND", "FILE"])]
     pub emit: Option<Vec<String>>,
+    /// File the memo, its inputs and figures as a new version in this archive folder.
+    #[arg(long, value_name = "DIR")]
+    pub archive: Option<PathBuf>,
+}
+
+/// Options of `candor verify`.
+#[derive(Debug, Args)]
+pub struct VerifyArgs {
+    /// A filed version folder, a deal's folder of versions, or a whole archive.
+    #[arg(value_name = "PATH")]
+    pub path: PathBuf,
+}
+
+/// Options of `candor diff`.
+#[derive(Debug, Args)]
+pub struct DiffArgs {
+    /// The earlier deal file or filed version folder.
+    #[arg(value_name = "OLD")]
+    pub old: PathBuf,
+    /// The later deal file or filed version folder.
+    #[arg(value_name = "NEW")]
+    pub new: PathBuf,
+    /// Print the changes as one JSON object on stdout.
+    #[arg(long)]
+    pub json: bool,
 }
 
 /// Parses the arguments, runs the command and returns the exit code:
@@ -79,6 +108,8 @@ pub fn run() -> ExitCode {
         Command::Check(args) => crate::commands::check::run(&args),
         Command::Rates(args) => crate::commands::rates::run(&args),
         Command::Memo(args) => crate::commands::memo::run(&args),
+        Command::Verify(args) => crate::commands::verify::run(&args),
+        Command::Diff(args) => crate::commands::diff::run(&args),
     };
     ExitCode::from(code)
 }

@@ -12,14 +12,17 @@
 //! | [`chart`] | [`chart::render`] | SVG strings |
 //! | [`report`] | [`report::render`] | Typst markup |
 //! | [`pdf`] | [`pdf::typeset`] | PDF/A-3b bytes with the deal file attached |
+//! | [`archive`] | [`archive::file`] | a filed version: PDF, inputs, figures, manifest ([`diff`] compares two) |
 //!
 //! [`diag`] holds the one diagnostic type every stage reports problems with. Only the
 //! command-line layer ([`cli`], [`commands`]) touches the file system for user paths.
 
+pub mod archive;
 pub mod chart;
 pub mod cli;
 pub mod commands;
 pub mod diag;
+pub mod diff;
 pub mod engine;
 pub mod format;
 pub mod input;

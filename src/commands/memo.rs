@@ -289,6 +289,14 @@ pub fn run(args: &MemoArgs) -> u8 {
         Ok(p) => p,
         Err(f) => return fail(&f.diagnostic, code_of(&f)),
     };
+    // With `--archive` the memo goes into the archive, and next to the deal only when
+    // `--output` asks for a copy.
+    if let Some(dir) = &args.archive {
+        let code = super::verify::file_memo(dir, &loaded, &analysis, &inputs, &pdf);
+        if code != EXIT_OK || args.output.is_none() {
+            return code;
+        }
+    }
     let out = args
         .output
         .clone()

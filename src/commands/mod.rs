@@ -2,9 +2,11 @@
 //! each loads bytes, calls the library stages and prints or writes the result.
 
 pub mod check;
+pub mod diff;
 pub mod load;
 pub mod memo;
 pub mod rates;
+pub mod verify;
 
 /// Exit code: everything held.
 pub const EXIT_OK: u8 = 0;

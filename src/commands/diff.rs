@@ -1,0 +1,66 @@
+//! `candor diff`: load two deals (deal files or filed version folders), analyse both
+//! and print what changed ([`crate::diff`]).
+
+// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
+// cold path, so their size does not matter.
+#![allow(clippy::result_large_err)]
+
+use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
+use crate::archive::{Manifest, MANIFEST};
+use crate::cli::DiffArgs;
+use crate::commands::load::{load_deal, LoadedDeal};
+use crate::diag::Diagnostic;
+use std::path::{Path, PathBuf};
+
+/// The deal file a path names: itself, or the filed deal file of a version folder.
+fn deal_file(path: &Path) -> Result<PathBuf, Diagnostic> {
+    if !path.is_dir() {
+        return Ok(path.to_path_buf());
+    }
+    let shown = path.join(MANIFEST).display().to_string();
+    let bytes = std::fs::read(path.join(MANIFEST)).map_err(|e| {
+        Diagnostic::error(
+            "archive",
+            format!("a folder must be a filed version, but its manifest cannot be read: {e}"),
+        )
+        .in_file(shown.clone())
+    })?;
+    let manifest: Manifest = serde_json::from_slice(&bytes).map_err(|e| {
+        Diagnostic::error("archive", format!("not a valid manifest: {e}")).in_file(shown)
+    })?;
+    Ok(path.join(manifest.deal_file))
+}
+
+fn load(path: &Path) -> Result<LoadedDeal, ()> {
+    let file = deal_file(path).map_err(|d| eprintln!("{}", d.render(None)))?;
+    load_deal(&file).map_err(|failure| {
+        for d in &failure.diagnostics {
+            eprintln!("{}", d.render(failure.source.as_deref()));
+        }
+    })
+}
+
+/// Runs the command: exit 0 whether or not anything changed.
+pub fn run(args: &DiffArgs) -> u8 {
+    let (old, new) = (load(&args.old), load(&args.new));
+    let (Ok(old), Ok(new)) = (old, new) else {
+        return EXIT_INVALID;
+    };
+    let (oa, na) = (
+        crate::engine::analyse(&old.deal),
+        crate::engine::analyse(&new.deal),
+    );
+    let d = crate::diff::diff((&old.deal, &oa), (&new.deal, &na));
+    if args.json {
+        match serde_json::to_string_pretty(&d) {
+            Ok(text) => println!("{text}"),
+            Err(e) => {
+                eprintln!("error: cannot write the diff as JSON: {e}");
+                return EXIT_INTERNAL;
+            }
+        }
+    } else {
+        print!("{}", crate::diff::render_text(&d));
+    }
+    EXIT_OK
+}

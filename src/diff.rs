@@ -1,0 +1,573 @@
+//! Comparing two analysed deals: what changed in the inputs (fields, rates, scenarios,
+//! flows, narrative, sign-off) and in the results (IRRs that appeared, disappeared or
+//! moved, NPV, MIRR, decisions, cautions). A pure function of two (deal, analysis) pairs;
+//! `candor diff` only loads and prints.
+
+use crate::engine::{Analysis, Decision, Root, ScenarioAnalysis};
+use crate::model::{Clock, Deal, Scenario, SignoffDecision};
+use crate::report::{format_money, format_money_with_code, format_rate};
+use rust_decimal::Decimal;
+use serde::Serialize;
+use std::fmt::Write as _;
+
+/// One field whose value changed; `None` stands for "not given".
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Change {
+    /// The field, as a deal-file path (`hurdle_rate`, `memo.summary`, `signoff.decision`).
+    pub field: String,
+    /// The old value, as text.
+    pub old: Option<String>,
+    /// The new value, as text.
+    pub new: Option<String>,
+}
+
+/// One cash flow added, removed or changed in one scenario.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct FlowChange {
+    /// `base` or the scenario's name.
+    pub scenario: String,
+    /// The flow's date, or `period N` for periodic flows without a start date.
+    pub when: String,
+    /// The old amount; `None` when the flow was added.
+    pub old: Option<Decimal>,
+    /// The new amount; `None` when the flow was removed.
+    pub new: Option<Decimal>,
+}
+
+/// One IRR as the diff shows it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RootText {
+    /// Annual effective rate (`None` when too large for a binary float).
+    pub annual_rate: Option<f64>,
+    /// log10(1 + annual rate).
+    pub log10_annual_growth: f64,
+    /// The rate as a percentage.
+    pub text: String,
+}
+
+/// An IRR present in both analyses that moved.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RootMove {
+    /// Where it was.
+    pub old: RootText,
+    /// Where it is.
+    pub new: RootText,
+}
+
+/// What changed in one scenario's results.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ScenarioResults {
+    /// `base` or the scenario's name.
+    pub scenario: String,
+    /// IRRs of the new analysis with no counterpart in the old.
+    pub irr_appeared: Vec<RootText>,
+    /// IRRs of the old analysis with no counterpart in the new.
+    pub irr_disappeared: Vec<RootText>,
+    /// IRRs matched between the two whose printed rate changed.
+    pub irr_moved: Vec<RootMove>,
+    /// Other figures: IRR count, certification, NPV at the hurdle, decision, MIRR.
+    pub figures: Vec<Change>,
+    /// Caution codes raised now and not before.
+    pub cautions_added: Vec<String>,
+    /// Caution codes raised before and not now.
+    pub cautions_removed: Vec<String>,
+}
+
+impl ScenarioResults {
+    fn is_empty(&self) -> bool {
+        self.irr_appeared.is_empty()
+            && self.irr_disappeared.is_empty()
+            && self.irr_moved.is_empty()
+            && self.figures.is_empty()
+            && self.cautions_added.is_empty()
+            && self.cautions_removed.is_empty()
+    }
+}
+
+/// Everything that changed from one deal to another.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Diff {
+    /// Changed fields of the deal file (deal, rates, clock, narrative, sign-off,
+    /// scenario descriptions).
+    pub inputs: Vec<Change>,
+    /// Scenarios only in the new deal.
+    pub scenarios_added: Vec<String>,
+    /// Scenarios only in the old deal.
+    pub scenarios_removed: Vec<String>,
+    /// Flows added, removed or changed, per scenario present in both.
+    pub flows: Vec<FlowChange>,
+    /// Changed results, per scenario present in both (scenarios without changes left out).
+    pub results: Vec<ScenarioResults>,
+}
+
+impl Diff {
+    /// True when nothing changed at all.
+    pub fn is_empty(&self) -> bool {
+        self.inputs.is_empty()
+            && self.scenarios_added.is_empty()
+            && self.scenarios_removed.is_empty()
+            && self.flows.is_empty()
+            && self.results.is_empty()
+    }
+}
+
+fn change<T: PartialEq>(
+    out: &mut Vec<Change>,
+    field: &str,
+    old: Option<T>,
+    new: Option<T>,
+    show: impl Fn(T) -> String,
+) {
+    if old != new {
+        out.push(Change {
+            field: field.to_string(),
+            old: old.map(&show),
+            new: new.map(&show),
+        });
+    }
+}
+
+/// A rate as a percentage, exactly: 0.0925 is `9.25%`.
+fn percent(rate: Decimal) -> String {
+    format!("{}%", (rate * Decimal::from(100)).normalize())
+}
+
+fn clock_words(clock: &Clock) -> String {
+    match clock {
+        Clock::Periodic { every, start } => match start {
+            Some(d) => format!("every {} from {d}", every.as_str()),
+            None => format!("every {}", every.as_str()),
+        },
+        Clock::Dated { day_count } => format!("dated, day count {day_count:?}"),
+    }
+}
+
+fn decision_words(d: SignoffDecision) -> String {
+    match d {
+        SignoffDecision::Pending => "pending",
+        SignoffDecision::Approved => "approved",
+        SignoffDecision::Declined => "declined",
+        SignoffDecision::Deferred => "deferred",
+    }
+    .to_string()
+}
+
+fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
+    let mut out = Vec::new();
+    let s = |x: &String| x.clone();
+    change(&mut out, "deal.name", Some(&old.name), Some(&new.name), s);
+    change(
+        &mut out,
+        "deal.currency",
+        Some(&old.currency),
+        Some(&new.currency),
+        s,
+    );
+    change(
+        &mut out,
+        "deal.as_of",
+        Some(old.as_of),
+        Some(new.as_of),
+        |d| d.to_string(),
+    );
+    for (field, a, b) in [
+        ("hurdle_rate", old.rates.hurdle, new.rates.hurdle),
+        ("finance_rate", old.rates.finance, new.rates.finance),
+        (
+            "reinvestment_rate",
+            old.rates.reinvestment,
+            new.rates.reinvestment,
+        ),
+    ] {
+        change(&mut out, field, Some(a), Some(b), percent);
+    }
+    change(
+        &mut out,
+        "cash_flows (clock)",
+        Some(clock_words(&old.clock)),
+        Some(clock_words(&new.clock)),
+        |x| x,
+    );
+    for a in &old.scenarios {
+        if let Some(b) = new.scenarios.iter().find(|b| b.name == a.name) {
+            if a.name != "base" {
+                let field = format!("scenarios.{}.description", a.name);
+                change(
+                    &mut out,
+                    &field,
+                    Some(&a.description),
+                    Some(&b.description),
+                    s,
+                );
+            }
+        }
+    }
+    let (m, n) = (&old.memo, &new.memo);
+    change(
+        &mut out,
+        "memo.recommendation",
+        m.recommendation.as_ref(),
+        n.recommendation.as_ref(),
+        s,
+    );
+    change(
+        &mut out,
+        "memo.summary",
+        m.summary.as_ref(),
+        n.summary.as_ref(),
+        s,
+    );
+    for r in &m.risks {
+        if !n.risks.contains(r) {
+            change(&mut out, "memo.risks", Some(r), None, s);
+        }
+    }
+    for r in &n.risks {
+        if !m.risks.contains(r) {
+            change(&mut out, "memo.risks", None, Some(r), s);
+        }
+    }
+    for sec in &m.sections {
+        let field = format!("memo.sections.{}", sec.title);
+        let other = n.sections.iter().find(|x| x.title == sec.title);
+        change(&mut out, &field, Some(&sec.text), other.map(|x| &x.text), s);
+    }
+    for sec in &n.sections {
+        if !m.sections.iter().any(|x| x.title == sec.title) {
+            let field = format!("memo.sections.{}", sec.title);
+            change(&mut out, &field, None, Some(&sec.text), s);
+        }
+    }
+    let (a, b) = (old.signoff.as_ref(), new.signoff.as_ref());
+    change(
+        &mut out,
+        "signoff.decision",
+        Some(a.map_or(SignoffDecision::Pending, |x| x.decision)),
+        Some(b.map_or(SignoffDecision::Pending, |x| x.decision)),
+        decision_words,
+    );
+    change(
+        &mut out,
+        "signoff.prepared_by",
+        a.and_then(|x| x.prepared_by.as_ref()),
+        b.and_then(|x| x.prepared_by.as_ref()),
+        s,
+    );
+    change(
+        &mut out,
+        "signoff.reviewed_by",
+        a.and_then(|x| x.reviewed_by.as_ref()),
+        b.and_then(|x| x.reviewed_by.as_ref()),
+        s,
+    );
+    change(
+        &mut out,
+        "signoff.date",
+        a.and_then(|x| x.date),
+        b.and_then(|x| x.date),
+        |d| d.to_string(),
+    );
+    out
+}
+
+/// Where a flow sits: its date, else its period, else its clock offset.
+fn flow_key(p: &crate::engine::FlowPoint) -> String {
+    match (p.date, p.period) {
+        (Some(d), _) => d.to_string(),
+        (None, Some(n)) => format!("period {n}"),
+        (None, None) => format!("offset {}", p.offset),
+    }
+}
+
+fn flow_changes(old: &Scenario, new: &Scenario) -> Vec<FlowChange> {
+    let a = old.flows.normalised();
+    let b = new.flows.normalised();
+    let keyed = |f: &crate::engine::Flows| -> Vec<(String, Decimal)> {
+        f.points.iter().map(|p| (flow_key(p), p.amount)).collect()
+    };
+    let (a, b) = (keyed(&a), keyed(&b));
+    let mut out = Vec::new();
+    for (k, x) in &a {
+        match b.iter().find(|(kb, _)| kb == k) {
+            Some((_, y)) if y == x => {}
+            found => out.push(FlowChange {
+                scenario: old.name.clone(),
+                when: k.clone(),
+                old: Some(*x),
+                new: found.map(|(_, y)| *y),
+            }),
+        }
+    }
+    for (k, y) in &b {
+        if !a.iter().any(|(ka, _)| ka == k) {
+            out.push(FlowChange {
+                scenario: old.name.clone(),
+                when: k.clone(),
+                old: None,
+                new: Some(*y),
+            });
+        }
+    }
+    out
+}
+
+fn root_text(r: &Root) -> RootText {
+    RootText {
+        annual_rate: r.annual_rate,
+        log10_annual_growth: r.log10_annual_growth,
+        text: match r.annual_rate {
+            Some(a) => format_rate(a, 2),
+            None => format!("growth of 10^{:.1} a year", r.log10_annual_growth),
+        },
+    }
+}
+
+/// Pairs two sorted root lists order-preservingly, matching as many roots as the shorter
+/// list holds with the least total distance in log10(1 + rate); returns the pairs.
+fn match_roots(old: &[Root], new: &[Root]) -> Vec<(usize, usize)> {
+    let swap = old.len() < new.len();
+    let (long, short) = if swap { (new, old) } else { (old, new) };
+    let (n, m) = (long.len(), short.len());
+    let dist =
+        |i: usize, j: usize| (long[i].log10_annual_growth - short[j].log10_annual_growth).abs();
+    // cost[i][j]: best cost pairing all of short[..j] within long[..i].
+    let mut cost = vec![vec![f64::INFINITY; m + 1]; n + 1];
+    for row in cost.iter_mut() {
+        row[0] = 0.0;
+    }
+    for i in 1..=n {
+        for j in 1..=m.min(i) {
+            let skip = cost[i - 1][j];
+            let take = cost[i - 1][j - 1] + dist(i - 1, j - 1);
+            cost[i][j] = skip.min(take);
+        }
+    }
+    let mut pairs = Vec::new();
+    let (mut i, mut j) = (n, m);
+    while j > 0 && i > 0 {
+        let take = cost[i - 1][j - 1] + dist(i - 1, j - 1);
+        if cost[i][j] == take {
+            pairs.push((i - 1, j - 1));
+            j -= 1;
+        }
+        i -= 1;
+    }
+    pairs.reverse();
+    if swap {
+        pairs.into_iter().map(|(l, s)| (s, l)).collect()
+    } else {
+        pairs
+    }
+}
+
+fn decision_word(d: Decision) -> String {
+    match d {
+        Decision::Accept => "accept",
+        Decision::Reject => "reject",
+        Decision::Indifferent => "indifferent",
+    }
+    .to_string()
+}
+
+fn result_changes(a: &ScenarioAnalysis, b: &ScenarioAnalysis, currency: &str) -> ScenarioResults {
+    let pairs = match_roots(&a.irr.roots, &b.irr.roots);
+    let irr_disappeared = (0..a.irr.roots.len())
+        .filter(|i| !pairs.iter().any(|(x, _)| x == i))
+        .map(|i| root_text(&a.irr.roots[i]))
+        .collect();
+    let irr_appeared = (0..b.irr.roots.len())
+        .filter(|j| !pairs.iter().any(|(_, y)| y == j))
+        .map(|j| root_text(&b.irr.roots[j]))
+        .collect();
+    let irr_moved = pairs
+        .iter()
+        .map(|&(i, j)| RootMove {
+            old: root_text(&a.irr.roots[i]),
+            new: root_text(&b.irr.roots[j]),
+        })
+        .filter(|m| m.old.text != m.new.text)
+        .collect();
+    let mut figures = Vec::new();
+    change(
+        &mut figures,
+        "IRR count",
+        Some(a.irr.count),
+        Some(b.irr.count),
+        |c| c.to_string(),
+    );
+    change(
+        &mut figures,
+        "certified",
+        Some(a.irr.certified),
+        Some(b.irr.certified),
+        |c| if c { "yes" } else { "no" }.to_string(),
+    );
+    change(
+        &mut figures,
+        "NPV at hurdle",
+        Some(a.npv_at_hurdle),
+        Some(b.npv_at_hurdle),
+        |v| format_money_with_code(v, currency),
+    );
+    change(
+        &mut figures,
+        "decision at hurdle",
+        Some(a.decision),
+        Some(b.decision),
+        decision_word,
+    );
+    change(
+        &mut figures,
+        "MIRR",
+        a.mirr.map(|r| format_rate(r, 2)),
+        b.mirr.map(|r| format_rate(r, 2)),
+        |x| x,
+    );
+    let codes = |s: &ScenarioAnalysis| -> Vec<String> {
+        let mut c: Vec<String> = s.cautions.iter().map(|c| c.code.clone()).collect();
+        c.sort();
+        c.dedup();
+        c
+    };
+    let (ca, cb) = (codes(a), codes(b));
+    ScenarioResults {
+        scenario: a.name.clone(),
+        irr_appeared,
+        irr_disappeared,
+        irr_moved,
+        figures,
+        cautions_added: cb.iter().filter(|c| !ca.contains(c)).cloned().collect(),
+        cautions_removed: ca.iter().filter(|c| !cb.contains(c)).cloned().collect(),
+    }
+}
+
+/// Compares an old and a new (deal, analysis) pair.
+pub fn diff(old: (&Deal, &Analysis), new: (&Deal, &Analysis)) -> Diff {
+    let (od, oa) = old;
+    let (nd, na) = new;
+    let names = |d: &Deal| -> Vec<String> { d.scenarios.iter().map(|s| s.name.clone()).collect() };
+    let (on, nn) = (names(od), names(nd));
+    let mut flows = Vec::new();
+    for a in &od.scenarios {
+        if let Some(b) = nd.scenarios.iter().find(|b| b.name == a.name) {
+            flows.extend(flow_changes(a, b));
+        }
+    }
+    let mut results = Vec::new();
+    for a in &oa.scenarios {
+        if let Some(b) = na.scenarios.iter().find(|b| b.name == a.name) {
+            let r = result_changes(a, b, &na.currency);
+            if !r.is_empty() {
+                results.push(r);
+            }
+        }
+    }
+    Diff {
+        inputs: input_changes(od, nd),
+        scenarios_added: nn.iter().filter(|n| !on.contains(n)).cloned().collect(),
+        scenarios_removed: on.iter().filter(|n| !nn.contains(n)).cloned().collect(),
+        flows,
+        results,
+    }
+}
+
+fn label(scenario: &str) -> String {
+    if scenario == "base" {
+        "base case".to_string()
+    } else {
+        format!("scenario {scenario}")
+    }
+}
+
+/// Long narrative is shown by its start only; the JSON form carries it whole.
+fn clip(text: &str) -> String {
+    let one_line: String = text.split_whitespace().collect::<Vec<_>>().join(" ");
+    if one_line.chars().count() > 70 {
+        format!("\"{}...\"", one_line.chars().take(67).collect::<String>())
+    } else {
+        format!("\"{one_line}\"")
+    }
+}
+
+fn change_line(c: &Change, quote: bool) -> String {
+    let show = |v: &str| if quote { clip(v) } else { v.to_string() };
+    match (&c.old, &c.new) {
+        (Some(a), Some(b)) => format!("{}: {} → {}", c.field, show(a), show(b)),
+        (None, Some(b)) => format!("{}: added {}", c.field, show(b)),
+        (Some(a), None) => format!("{}: removed {}", c.field, show(a)),
+        (None, None) => c.field.clone(),
+    }
+}
+
+/// The diff as a readable report, one change a line, inputs first, then results.
+pub fn render_text(d: &Diff) -> String {
+    let mut out = String::new();
+    out.push_str("Inputs\n");
+    let before = out.len();
+    for c in &d.inputs {
+        let quote = c.field.starts_with("memo.") || c.field.contains(".description");
+        let _ = writeln!(out, "  {}", change_line(c, quote));
+    }
+    for s in &d.scenarios_added {
+        let _ = writeln!(out, "  scenario {s} added");
+    }
+    for s in &d.scenarios_removed {
+        let _ = writeln!(out, "  scenario {s} removed");
+    }
+    for f in &d.flows {
+        let what = match (f.old, f.new) {
+            (Some(a), Some(b)) => format!("{} → {}", format_money(a), format_money(b)),
+            (None, Some(b)) => format!("added, {}", format_money(b)),
+            (Some(a), None) => format!("removed, was {}", format_money(a)),
+            (None, None) => String::new(),
+        };
+        let _ = writeln!(out, "  flow at {}, {}: {what}", f.when, label(&f.scenario));
+    }
+    if out.len() == before {
+        out.push_str("  no changes\n");
+    }
+    out.push_str("Results\n");
+    if d.results.is_empty() {
+        out.push_str("  no changes\n");
+    }
+    for r in &d.results {
+        let who = label(&r.scenario);
+        for x in &r.irr_disappeared {
+            let _ = writeln!(out, "  {who}: IRR {} disappeared", x.text);
+        }
+        for x in &r.irr_appeared {
+            let _ = writeln!(out, "  {who}: IRR {} appeared", x.text);
+        }
+        for m in &r.irr_moved {
+            let _ = writeln!(out, "  {who}: IRR {} → {}", m.old.text, m.new.text);
+        }
+        for c in &r.figures {
+            let _ = writeln!(out, "  {who}: {}", change_line(c, false));
+        }
+        for c in &r.cautions_added {
+            let _ = writeln!(out, "  {who}: new caution {c}");
+        }
+        for c in &r.cautions_removed {
+            let _ = writeln!(out, "  {who}: caution {c} no longer raised");
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rates_print_exactly() {
+        assert_eq!(percent("0.0925".parse().unwrap()), "9.25%");
+        assert_eq!(percent("0.09".parse().unwrap()), "9%");
+    }
+
+    #[test]
+    fn clipped_narrative_keeps_its_start() {
+        assert_eq!(clip("short\ntext"), "\"short text\"");
+        let long = "x".repeat(100);
+        assert_eq!(clip(&long).chars().count(), 67 + 5);
+    }
+}
