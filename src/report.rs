@@ -568,11 +568,17 @@ fn root_view(
             None
         },
         multiplicity: multiplicity_word(root.multiplicity),
-        interval: format!(
-            "{} to {}",
-            format_rate(root.interval[0], interval_decimals),
-            format_rate(root.interval[1], interval_decimals)
-        ),
+        interval: match root.interval {
+            Some([lo, hi]) => format!(
+                "{} to {}",
+                format_rate(lo, interval_decimals),
+                format_rate(hi, interval_decimals)
+            ),
+            None => format!(
+                "1 + rate between 10^{:.6} and 10^{:.6}",
+                root.log10_interval[0], root.log10_interval[1]
+            ),
+        },
         balance_kind: balance_kind_words(root.balance_kind).to_string(),
         stance: stance_words(root.stance).to_string(),
         decision: decision_word(root.decision).to_string(),

@@ -238,6 +238,7 @@ fn screen(line: &Line<'_>) -> Result<Value, LineError> {
                 "log10_annual_growth": r.log10_annual_growth,
                 "multiplicity": r.multiplicity,
                 "interval": r.interval,
+                "log10_interval": r.log10_interval,
                 "balance_kind": r.balance_kind,
             });
             if hurdle.is_some() {

@@ -131,8 +131,11 @@ pub struct Root {
     pub log10_annual_growth: f64,
     /// 1 for a simple root, 2 for a double root, ...
     pub multiplicity: u32,
-    /// Certified to contain the root (annual rate).
-    pub interval: [f64; 2],
+    /// Certified to contain the root (annual rate); `None` when an end is too large
+    /// for a binary float (then `log10_interval` still holds it).
+    pub interval: Option<[f64; 2]>,
+    /// Certified to contain log10(1 + annual rate), finite for every root.
+    pub log10_interval: [f64; 2],
     /// Balance-path classification at this rate.
     pub balance_kind: BalanceKind,
     /// Net investment or net borrowing at the hurdle (Hazen).

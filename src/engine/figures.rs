@@ -31,6 +31,27 @@ fn npv_dd(flows: &Flows, base: Dd) -> Dd {
     sum
 }
 
+/// The sign of the NPV at an annual rate, from the double-double NPV: 0 when it is
+/// within 1e-24 of the flows' size (indistinguishable from zero at that precision).
+pub fn npv_sign(flows: &Flows, annual_rate: f64) -> i8 {
+    if !(annual_rate > -1.0) {
+        return 0;
+    }
+    let npv = npv_dd(flows, Dd::ONE + Dd::from_f64(annual_rate)).to_f64();
+    let scale: f64 = flows
+        .points
+        .iter()
+        .map(|p| p.amount.to_f64().unwrap_or(0.0).abs())
+        .sum();
+    if !npv.is_finite() || npv.abs() <= 1e-24 * scale {
+        0
+    } else if npv > 0.0 {
+        1
+    } else {
+        -1
+    }
+}
+
 /// Rounds to the cent, half away from zero (what analysts expect), without a negative zero.
 fn cents(d: Decimal) -> Decimal {
     let r = d.round_dp_with_strategy(2, RoundingStrategy::MidpointAwayFromZero);
@@ -338,22 +359,24 @@ pub fn npv_profile(flows: &Flows, marks: &[f64], hurdle: f64) -> Vec<ProfilePoin
         .collect()
 }
 
-/// The balance path in floats, without rounding: `F_0 = C_0`,
-/// `F_k = F_(k-1) e^(y dt) + C_k`. A zero balance stays zero whatever the growth, so an
-/// infinite factor never meets a zero (no NaN).
-fn balances_f64(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
+/// The balance path in floats: `F_0 = C_0`, `F_k = F_(k-1) e^(y dt) + C_k`. A zero
+/// balance stays zero whatever the growth, so an infinite factor never meets a zero (no
+/// NaN). A balance that is a billionth or less of the two terms it was made from is
+/// cancellation noise (the rate is known to a few ulps, and at large rates the terms
+/// are large), and counts as exactly zero.
+pub fn balances_f64(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
     let mut out = Vec::with_capacity(pts.len());
     let mut bal = 0.0f64;
     let mut prev_t: Option<f64> = None;
     for &(t, c) in pts {
+        let mut grown = 0.0;
         if let Some(pt) = prev_t {
             if bal != 0.0 {
-                let factor = (log_growth * (t - pt)).exp();
-                bal *= factor;
+                grown = bal * (log_growth * (t - pt)).exp();
             }
         }
-        bal += c;
-        if bal.is_nan() {
+        bal = grown + c;
+        if bal.is_nan() || (bal.is_finite() && bal.abs() <= 1e-9 * (grown.abs() + c.abs())) {
             bal = 0.0;
         }
         out.push(bal);
@@ -362,14 +385,39 @@ fn balances_f64(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
     out
 }
 
-/// The balance path at an annual rate given as `log_growth = ln(1 + rate)` (Teichroew,
+/// The balance path at an IRR, computed in the direction in which rounding errors
+/// shrink: forwards from `F_0 = C_0` when the rate is at most 0% (each step multiplies
+/// by a factor below one), backwards from `F_n = 0` when it is above 0%
+/// (`F_(k-1) = (F_k - C_k) (1 + rate)^(-dt)`). Forwards at a large rate, an error of
+/// one ulp in the rate grows by the growth factor at every step.
+pub fn balances_at_root(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
+    if !(log_growth > 0.0) || pts.is_empty() {
+        return balances_f64(pts, log_growth);
+    }
+    let n = pts.len();
+    let mut out = vec![0.0f64; n];
+    for k in (1..n).rev() {
+        let dt = pts[k].0 - pts[k - 1].0;
+        let shrunk = (out[k] - pts[k].1) * (-log_growth * dt).exp();
+        out[k - 1] =
+            if shrunk.abs() <= 1e-9 * (out[k].abs() + pts[k].1.abs()) * (-log_growth * dt).exp() {
+                0.0
+            } else {
+                shrunk
+            };
+    }
+    out
+}
+
+/// The balance path at an IRR given as `log_growth = ln(1 + rate)` (Teichroew,
 /// Robichek & Montalbano): `F_0 = C_0`, `F_k = F_(k-1) (1 + rate)^(dt) + C_k`, dt in
-/// years. Negative: the project owes the investor. Balances are rounded to the cent and
-/// clamped to Decimal's range, so extreme rates give large but valid numbers.
+/// years, evaluated in the stable direction (see [`balances_at_root`]). Negative: the
+/// project owes the investor. Balances are rounded to the cent and clamped to
+/// Decimal's range, so extreme rates give large but valid numbers.
 pub fn balance_path(flows: &Flows, log_growth: f64) -> Vec<BalanceRow> {
     let n = flows.normalised();
     let pts = points_f64(&n);
-    let bals = balances_f64(&pts, log_growth);
+    let bals = balances_at_root(&pts, log_growth);
     n.points
         .iter()
         .zip(pts.iter().zip(bals))
@@ -789,8 +837,12 @@ pub(crate) mod tests {
             // Decimal has no NaN; check the clamping kept every value in range.
             assert!(path.iter().all(|r| r.balance.abs() <= Decimal::MAX));
         }
+        // Above 0% the path is computed backwards from a zero final balance (the
+        // stable direction at an IRR), so at a huge rate that is no IRR the early
+        // balances shrink towards zero instead of overflowing.
         let up = balance_path(&f, 230.0);
-        assert_eq!(up[1].balance, Decimal::MIN);
+        assert_eq!(up[10].balance, Decimal::ZERO);
+        assert!(up[0].balance.abs() < Decimal::ONE);
         let down = balance_path(&f, f64::NEG_INFINITY);
         // At -100% every earlier balance is wiped out: each row is its own flow.
         assert!(down.iter().all(|r| r.balance == r.flow));

@@ -30,7 +30,14 @@ fn rate_from_log(log_growth: f64) -> Option<f64> {
 fn widen(lo: f64, hi: f64) -> [f64; 2] {
     let down = lo - 8.0 * f64::EPSILON * lo.abs().max(f64::MIN_POSITIVE);
     let up = hi + 8.0 * f64::EPSILON * hi.abs().max(f64::MIN_POSITIVE);
-    [down.max(-1.0), if up.is_finite() { up } else { f64::MAX }]
+    [down, up]
+}
+
+/// The annual-rate interval for an interval of annual log growth, when both ends
+/// are finite binary floats.
+fn annual_interval(log_lo: f64, log_hi: f64) -> Option<[f64; 2]> {
+    let [lo, hi] = widen(log_lo.exp_m1(), log_hi.exp_m1());
+    (lo.is_finite() && hi.is_finite()).then_some([lo.max(-1.0), hi])
 }
 
 /// Builds the IRR report for normalised flows at an annual hurdle. With
@@ -43,6 +50,11 @@ pub fn irr_report(flows: &Flows, hurdle: f64, with_paths: bool) -> IrrReport {
 /// Builds the IRR report from a root set.
 pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bool) -> IrrReport {
     let per_year = 1.0 / set.step_years;
+    let npv_sign = if set.roots.is_empty() {
+        0
+    } else {
+        figures::npv_sign(flows, hurdle)
+    };
     let pts: Vec<(f64, f64)> = if with_paths {
         Vec::new()
     } else {
@@ -65,8 +77,7 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
                 .periods_per_year
                 .map(|_| (r.y / set.step_units as f64).exp_m1())
                 .filter(|x| x.is_finite());
-            let lo = (r.lo * per_year).exp_m1();
-            let hi = (r.hi * per_year).exp_m1();
+            let (log_lo, log_hi) = (r.lo * per_year, r.hi * per_year);
             let (path, balance_kind) = if with_paths {
                 let path = figures::balance_path(flows, log_annual);
                 let kind = figures::balance_kind(&path);
@@ -74,7 +85,27 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
             } else {
                 (Vec::new(), balance_kind_f64(&pts, log_annual))
             };
-            let stance = figures::stance(flows, log_annual, hurdle);
+            // Hazen (2003): at an IRR k, NPV(h) = (k - h) PV_h exactly, so the sign of
+            // the capital stream's PV follows from the NPV at the hurdle whenever that
+            // is not zero and the root's interval lies on one side of the hurdle. This
+            // stays exact at extreme rates, where summing the stream in floats cannot.
+            let log_h = hurdle.ln_1p();
+            let side = if log_lo > log_h {
+                1
+            } else if log_hi < log_h {
+                -1
+            } else {
+                0
+            };
+            let stance = if npv_sign != 0 && side != 0 {
+                if npv_sign == side {
+                    Stance::Investment
+                } else {
+                    Stance::Borrowing
+                }
+            } else {
+                figures::stance(flows, log_annual, hurdle)
+            };
             let decision = match annual {
                 Some(k) => figures::decision_for_root(k, hurdle, stance),
                 None => match stance {
@@ -89,7 +120,11 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
                 periodic_rate: periodic,
                 log10_annual_growth: log_annual / std::f64::consts::LN_10,
                 multiplicity: r.multiplicity,
-                interval: widen(lo, hi),
+                interval: annual_interval(log_lo, log_hi),
+                log10_interval: widen(
+                    log_lo / std::f64::consts::LN_10,
+                    log_hi / std::f64::consts::LN_10,
+                ),
                 balance_kind,
                 stance,
                 decision,
@@ -113,7 +148,7 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
         unresolved: set
             .unresolved
             .iter()
-            .map(|&(a, b)| widen((a * per_year).exp_m1(), (b * per_year).exp_m1()))
+            .map(|&(a, b)| annual_interval(a * per_year, b * per_year).unwrap_or([-1.0, f64::MAX]))
             .collect(),
         complex_reading: None,
     }
@@ -124,23 +159,10 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
 fn balance_kind_f64(pts: &[(f64, f64)], log_growth: f64) -> BalanceKind {
     let scale = pts.iter().map(|p| p.1.abs()).fold(0.0, f64::max);
     let tol = scale * 1e-9;
-    let (mut positive, mut negative) = (false, false);
-    let mut bal = 0.0f64;
-    let mut prev: Option<f64> = None;
-    for &(t, c) in &pts[..pts.len().saturating_sub(1)] {
-        if let Some(pt) = prev {
-            if bal != 0.0 {
-                bal *= (log_growth * (t - pt)).exp();
-            }
-        }
-        bal += c;
-        if bal.is_nan() {
-            bal = 0.0;
-        }
-        prev = Some(t);
-        positive |= bal > tol;
-        negative |= bal < -tol;
-    }
+    let bals = figures::balances_at_root(pts, log_growth);
+    let body = &bals[..bals.len().saturating_sub(1)];
+    let positive = body.iter().any(|&b| b > tol);
+    let negative = body.iter().any(|&b| b < -tol);
     match (positive, negative) {
         (false, _) => BalanceKind::PureInvestment,
         (true, false) => BalanceKind::PureBorrowing,

@@ -20,6 +20,7 @@
 //! against the Descartes/Laguerre bound and its parity. Anything left undecided is
 //! reported as such and the count is then not certified.
 
+use super::dd::Dd;
 use num_bigint::BigInt;
 use num_traits::{One, Zero};
 use rust_decimal::prelude::*;
@@ -695,6 +696,13 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
             }
             _ => search(solver, lo, hi, &mut found, &mut out),
         }
+        // Where binary floats left a simple root's interval wide, narrow it by
+        // bisection on double-double signs.
+        for r in &mut found {
+            if r.multiplicity == 1 && r.exact_rate.is_none() {
+                polish(solver.s, r);
+            }
+        }
         if i == 1 {
             // Back from u = -y to y.
             for iv in &mut out.unresolved[unresolved_before..] {
@@ -784,7 +792,7 @@ fn search(
         let width = b - a;
         let tiny = width <= 1e-12 * a.abs().max(b.abs()).max(1e-3);
         if tiny {
-            settle_cluster(solver, a, b, roots, out);
+            settle_cluster(solver, a, b, (sa, sb), roots, out);
             continue;
         }
         match split_point(solver, a, b) {
@@ -792,7 +800,7 @@ fn search(
                 stack.push((m, b));
                 stack.push((a, m));
             }
-            None => settle_cluster(solver, a, b, roots, out),
+            None => settle_cluster(solver, a, b, (sa, sb), roots, out),
         }
     }
 }
@@ -873,6 +881,49 @@ fn convex_case(
             return true;
         }
     }
+    // Second precision level: f and f' at the extremum estimate in double-double.
+    // On a convex f (f'' > 0), f(y) >= f(y*) + f'(y*)(y - y*) everywhere, so
+    // f(y*) - |f'(y*)| (q - p) bounds f below on [p, q]; and f(y*) < 0 with a convex f
+    // means one root on each side where the end is positive (mirror for concave f).
+    if let Some(s2) = solver.sign_over(a, b, 2) {
+        let [(v0, e0), (v1, e1)] = dd_eval(solver.s, ystar);
+        let reach = (v1.abs() + e1) * (q - p);
+        let (lower, upper) = (v0 - e0 - reach, v0 + e0 + reach);
+        let extremum_sign = if s2 > 0 && lower > 0.0 {
+            Some(1)
+        } else if s2 < 0 && upper < 0.0 {
+            Some(-1)
+        } else {
+            None
+        };
+        let at_star = if v0 > e0 {
+            Some(1)
+        } else if v0 < -e0 {
+            Some(-1)
+        } else {
+            None
+        };
+        let pieces = match (extremum_sign, at_star) {
+            (Some(se), _) => Some([(a, p, sa, se), (q, b, se, sb)]),
+            (None, Some(ss)) if ss == -s2 => Some([(a, ystar, sa, ss), (ystar, b, ss, sb)]),
+            _ => None,
+        };
+        if let Some(pieces) = pieces {
+            for (x0, x1, s0, s1) in pieces {
+                if s0 != s1 && x0 < x1 {
+                    let (l, h, y) = solver.refine(0, x0, x1, s0);
+                    roots.push(FoundRoot {
+                        lo: l,
+                        hi: h,
+                        y,
+                        multiplicity: 1,
+                        exact_rate: None,
+                    });
+                }
+            }
+            return true;
+        }
+    }
     out.certified = false;
     out.unresolved.push((p, q));
     // The parts of [a, b] outside [p, q] are monotone: settle them.
@@ -896,28 +947,153 @@ fn convex_case(
     true
 }
 
+/// f and f' at `y` in double-double (about 32 digits), each with an error bound: the
+/// second precision level, for clusters of roots that binary floats cannot separate.
+fn dd_eval(s: &Series, y: f64) -> [(f64, f64); 2] {
+    let my = Dd::from_f64(-y);
+    let (mut f0, mut f1) = (Dd::ZERO, Dd::ZERO);
+    let (mut size0, mut size1) = (0.0f64, 0.0f64);
+    for (k, amount) in s.amounts.iter().enumerate() {
+        let nk = s.n[k];
+        let t = Dd::from_decimal(*amount) * (my * Dd::from_f64(nk)).exp();
+        let t1 = t * Dd::from_f64(-nk);
+        f0 = f0 + t;
+        f1 = f1 + t1;
+        size0 += t.to_f64().abs();
+        size1 += t1.to_f64().abs();
+    }
+    // exp is good to ~1e-30 relative and each addition adds ~1e-32 of the running
+    // size: 1e-27 of the summed sizes bounds both with a wide margin.
+    let bound = |size: f64| 1e-27 * size * (1.0 + s.amounts.len() as f64 * 1e-3) + 1e-300;
+    [(f0.to_f64(), bound(size0)), (f1.to_f64(), bound(size1))]
+}
+
+/// Narrows a simple root's bracket by bisection on double-double signs while it is
+/// wider than about 1e-13 relative and the signs can be told.
+fn polish(s: &Series, r: &mut FoundRoot) {
+    let tight = |lo: f64, hi: f64| hi - lo <= 1e-13 * lo.abs().max(hi.abs()).max(1e-300);
+    if tight(r.lo, r.hi) {
+        return;
+    }
+    let (Some(sl), Some(sh)) = (dd_sign(s, r.lo), dd_sign(s, r.hi)) else {
+        return;
+    };
+    if sl == sh {
+        return;
+    }
+    for _ in 0..60 {
+        if tight(r.lo, r.hi) {
+            break;
+        }
+        let mid = 0.5 * (r.lo + r.hi);
+        match dd_sign(s, mid) {
+            Some(sg) if sg == sl => r.lo = mid,
+            Some(_) => r.hi = mid,
+            None => break,
+        }
+    }
+    r.y = 0.5 * (r.lo + r.hi);
+}
+
+/// Certified sign of f at `y` in double-double.
+fn dd_sign(s: &Series, y: f64) -> Option<i8> {
+    let [(v, e), _] = dd_eval(s, y);
+    if v > e {
+        Some(1)
+    } else if v < -e {
+        Some(-1)
+    } else {
+        None
+    }
+}
+
+/// Brackets of the sign changes of f on [a, b] seen on a grid of double-double
+/// evaluations, when there are exactly `m` of them (so that, with at most `m` roots
+/// in [a, b] by Rolle, each bracket holds exactly one simple root).
+fn dd_brackets(s: &Series, a: f64, b: f64, sa: i8, sb: i8, m: usize) -> Option<Vec<(f64, f64)>> {
+    const GRID: usize = 64;
+    let mut brackets = Vec::new();
+    let mut prev = (a, sa);
+    for i in 1..=GRID {
+        let (y, sign) = if i == GRID {
+            (b, Some(sb))
+        } else {
+            let y = a + (b - a) * i as f64 / GRID as f64;
+            (y, dd_sign(s, y))
+        };
+        if let Some(sg) = sign {
+            if sg != prev.1 {
+                brackets.push((prev.0, y));
+            }
+            prev = (y, sg);
+        }
+    }
+    (brackets.len() == m).then_some(brackets)
+}
+
 /// A tiny interval that subdivision cannot settle: prove a multiple root exactly, or
 /// report the interval as undecided.
 fn settle_cluster(
     solver: &mut Solver<'_>,
     a: f64,
     b: f64,
+    signs: (i8, i8),
     roots: &mut Vec<FoundRoot>,
     out: &mut RootSet,
 ) {
     let mid = 0.5 * (a + b);
-    if let Some((rate, m, y0)) = exact_root_near(solver.s, mid, a, b) {
-        // Rolle: if f^(m) keeps one sign on [a, b], f has at most m roots there, and
-        // the proven root already accounts for all m.
-        if (m as usize) < ORDERS && solver.excludes_zero(a, b, m as usize) {
-            let (lo, hi) = around(y0);
-            roots.push(FoundRoot {
-                lo,
-                hi,
-                y: y0,
-                multiplicity: m,
-                exact_rate: Some(rate),
-            });
+    let exact = exact_root_near(solver.s, mid, a, b);
+    // Rolle: with f^(m) of one sign on [a, b] there are at most m roots there.
+    let bound = (1..ORDERS).find(|&d| solver.excludes_zero(a, b, d));
+    if let (Some((rate, m0, y0)), Some(m)) = (exact, bound) {
+        let m0u = m0 as usize;
+        if m0u <= m {
+            // The proven root accounts for m0 of the m; the rest must show up as sign
+            // changes on a double-double grid (the proven root itself changes sign
+            // only when its multiplicity is odd).
+            let expected = (m - m0u) + m0u % 2;
+            let brackets = if m0u == m {
+                Some(Vec::new())
+            } else {
+                dd_brackets(solver.s, a, b, signs.0, signs.1, expected)
+            };
+            if let Some(brackets) = brackets {
+                let (lo, hi) = around(y0);
+                roots.push(FoundRoot {
+                    lo,
+                    hi,
+                    y: y0,
+                    multiplicity: m0,
+                    exact_rate: Some(rate),
+                });
+                for (blo, bhi) in brackets {
+                    if m0 % 2 == 1 && blo <= y0 && y0 <= bhi {
+                        continue;
+                    }
+                    roots.push(FoundRoot {
+                        lo: blo,
+                        hi: bhi,
+                        y: 0.5 * (blo + bhi),
+                        multiplicity: 1,
+                        exact_rate: None,
+                    });
+                }
+                return;
+            }
+        }
+    }
+    // If a double-double grid shows m sign changes, each is a simple root.
+    if let Some(m) = bound {
+        if let Some(brackets) = dd_brackets(solver.s, a, b, signs.0, signs.1, m) {
+            for (lo, hi) in brackets {
+                roots.push(FoundRoot {
+                    lo,
+                    hi,
+                    y: 0.5 * (lo + hi),
+                    multiplicity: 1,
+                    exact_rate: None,
+                });
+            }
             return;
         }
     }
