@@ -10,6 +10,7 @@ use crate::archive::{Manifest, MANIFEST};
 use crate::cli::DiffArgs;
 use crate::commands::load::{load_deal, LoadedDeal};
 use crate::diag::Diagnostic;
+use std::io::Write as _;
 use std::path::{Path, PathBuf};
 
 /// The deal file a path names: itself, or the filed deal file of a version folder.
@@ -51,16 +52,18 @@ pub fn run(args: &DiffArgs) -> u8 {
         crate::engine::analyse(&new.deal),
     );
     let d = crate::diff::diff((&old.deal, &oa), (&new.deal, &na));
-    if args.json {
+    let text = if args.json {
         match serde_json::to_string_pretty(&d) {
-            Ok(text) => println!("{text}"),
+            Ok(text) => text + "\n",
             Err(e) => {
                 eprintln!("error: cannot write the diff as JSON: {e}");
                 return EXIT_INTERNAL;
             }
         }
     } else {
-        print!("{}", crate::diff::render_text(&d));
-    }
+        crate::diff::render_text(&d)
+    };
+    // A reader that stops early (`| head`) is not an error worth a panic.
+    let _ = std::io::stdout().lock().write_all(text.as_bytes());
     EXIT_OK
 }

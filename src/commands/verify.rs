@@ -7,6 +7,7 @@ use crate::cli::VerifyArgs;
 use crate::commands::load::LoadedDeal;
 use crate::commands::memo::MemoInputs;
 use crate::engine::Analysis;
+use std::io::Write as _;
 use std::path::Path;
 
 /// Files a finished memo in `dir`, printing the version's path on stdout; returns the
@@ -69,15 +70,21 @@ pub fn run(args: &VerifyArgs) -> u8 {
     for note in &report.notes {
         eprintln!("note: {note}");
     }
+    let mut out = String::new();
     for problem in &report.problems {
-        println!("{problem}");
+        out.push_str(problem);
+        out.push('\n');
     }
     if report.problems.is_empty() {
-        println!(
-            "ok: {} version{} verified",
+        out.push_str(&format!(
+            "ok: {} version{} verified\n",
             report.versions.len(),
             if report.versions.len() == 1 { "" } else { "s" }
-        );
+        ));
+    }
+    // A reader that stops early (`| head`) is not an error worth a panic.
+    let _ = std::io::stdout().lock().write_all(out.as_bytes());
+    if report.problems.is_empty() {
         EXIT_OK
     } else {
         eprintln!(
