@@ -972,6 +972,50 @@ mod tests {
     }
 
     #[test]
+    fn a_second_filer_waits_for_the_lock() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join(LOCK);
+        let first = ArchiveLock::acquire(&path).unwrap();
+        let (tx, rx) = std::sync::mpsc::channel();
+        let p2 = path.clone();
+        let waiter = std::thread::spawn(move || {
+            let second = ArchiveLock::acquire(&p2).map(|_| ()).map_err(|d| d.message);
+            tx.send(second).unwrap();
+        });
+        // The waiter cannot get the lock while the first holder keeps it.
+        assert!(rx
+            .recv_timeout(std::time::Duration::from_millis(200))
+            .is_err());
+        drop(first);
+        let got = rx.recv_timeout(std::time::Duration::from_secs(10)).unwrap();
+        assert_eq!(got, Ok(()));
+        waiter.join().unwrap();
+        assert!(!path.exists(), "the lock file is removed when released");
+    }
+
+    #[test]
+    fn a_lock_left_by_a_dead_process_is_named() {
+        if !Path::new("/proc/self").exists() {
+            return;
+        }
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join(LOCK);
+        // Above Linux's largest process id (2^22), so no process has it.
+        std::fs::write(&path, "4194305\n").unwrap();
+        let err = ArchiveLock::acquire(&path).map(|_| ()).unwrap_err();
+        assert!(
+            err.message
+                .contains("locked by process 4194305, which is no longer running"),
+            "{}",
+            err.message
+        );
+        assert!(
+            path.exists(),
+            "a lock is never removed behind a person's back"
+        );
+    }
+
+    #[test]
     fn json_differences_are_named_by_path() {
         let a: Value = serde_json::json!({"s": [{"npv": "1.00", "r": [0.1]}], "x": 1});
         let b: Value = serde_json::json!({"s": [{"npv": "2.00", "r": [0.1, 0.2]}], "x": 1});

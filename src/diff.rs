@@ -322,14 +322,14 @@ fn root_text(r: &Root) -> RootText {
     }
 }
 
-/// Pairs two sorted root lists order-preservingly, matching as many roots as the shorter
-/// list holds with the least total distance in log10(1 + rate); returns the pairs.
-fn match_roots(old: &[Root], new: &[Root]) -> Vec<(usize, usize)> {
+/// Pairs two sorted lists of roots, given by log10(1 + rate), order-preservingly:
+/// as many pairs as the shorter list holds, with the least total distance; returns
+/// the pairs as (index in old, index in new).
+fn match_roots(old: &[f64], new: &[f64]) -> Vec<(usize, usize)> {
     let swap = old.len() < new.len();
     let (long, short) = if swap { (new, old) } else { (old, new) };
     let (n, m) = (long.len(), short.len());
-    let dist =
-        |i: usize, j: usize| (long[i].log10_annual_growth - short[j].log10_annual_growth).abs();
+    let dist = |i: usize, j: usize| (long[i] - short[j]).abs();
     // cost[i][j]: best cost pairing all of short[..j] within long[..i].
     let mut cost = vec![vec![f64::INFINITY; m + 1]; n + 1];
     for row in cost.iter_mut() {
@@ -370,7 +370,10 @@ fn decision_word(d: Decision) -> String {
 }
 
 fn result_changes(a: &ScenarioAnalysis, b: &ScenarioAnalysis, currency: &str) -> ScenarioResults {
-    let pairs = match_roots(&a.irr.roots, &b.irr.roots);
+    let growth = |s: &ScenarioAnalysis| -> Vec<f64> {
+        s.irr.roots.iter().map(|r| r.log10_annual_growth).collect()
+    };
+    let pairs = match_roots(&growth(a), &growth(b));
     let irr_disappeared = (0..a.irr.roots.len())
         .filter(|i| !pairs.iter().any(|(x, _)| x == i))
         .map(|i| root_text(&a.irr.roots[i]))
@@ -562,6 +565,20 @@ mod tests {
     fn rates_print_exactly() {
         assert_eq!(percent("0.0925".parse().unwrap()), "9.25%");
         assert_eq!(percent("0.09".parse().unwrap()), "9%");
+    }
+
+    #[test]
+    fn roots_pair_with_their_nearest_and_the_rest_appear_or_vanish() {
+        // Roots given as log10(1 + rate): 5.6% and 15.6% become one root near 15%.
+        let g = |r: f64| (1.0 + r).log10();
+        assert_eq!(match_roots(&[g(0.056), g(0.156)], &[g(0.15)]), vec![(1, 0)]);
+        assert_eq!(match_roots(&[g(0.15)], &[g(0.056), g(0.156)]), vec![(0, 1)]);
+        assert_eq!(match_roots(&[g(0.056), g(0.156)], &[g(0.06)]), vec![(0, 0)]);
+        assert_eq!(
+            match_roots(&[g(0.1), g(0.2)], &[g(0.11), g(0.19)]),
+            vec![(0, 0), (1, 1)]
+        );
+        assert!(match_roots(&[g(0.1)], &[]).is_empty());
     }
 
     #[test]
