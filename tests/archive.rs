@@ -543,3 +543,42 @@ fn diff_of_a_deal_with_itself_is_empty() {
         "Inputs\n  no changes\nResults\n  no changes\n"
     );
 }
+
+#[test]
+fn a_house_style_is_filed_and_the_pdf_rebuilt_with_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let house = dir.path().join("house");
+    std::fs::create_dir(&house).unwrap();
+    let style = std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("templates/style.typ.j2"),
+    )
+    .unwrap();
+    assert!(style.contains("paper: \"a4\""));
+    std::fs::write(
+        house.join("style.typ.j2"),
+        style.replace("paper: \"a4\"", "paper: \"us-letter\""),
+    )
+    .unwrap();
+    let deal = dir.path().join("quarry.yaml");
+    std::fs::copy(examples().join("corrie-vale-quarry.yaml"), &deal).unwrap();
+    let archive = dir.path().join("archive");
+    let out = candor(&[
+        "memo",
+        s(&deal),
+        "--templates",
+        s(&house),
+        "--archive",
+        s(&archive),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let v1 = archive.join("corrie-vale-quarry").join("001");
+    assert_eq!(
+        std::fs::read(v1.join("templates/style.typ.j2")).unwrap(),
+        std::fs::read(house.join("style.typ.j2")).unwrap()
+    );
+    let ok = candor(&["verify", s(&v1)]);
+    assert_eq!(text(&ok.stdout), "ok: 1 version verified\n");
+    // The built-in style is a different input: a new version, not "unchanged".
+    let plain = file_memo(&deal, &archive);
+    assert!(text(&plain.stdout).trim().ends_with("002"));
+}
