@@ -34,7 +34,7 @@ fn npv_dd(flows: &Flows, base: Dd) -> Dd {
 /// The sign of the NPV at an annual rate, from the double-double NPV: 0 when it is
 /// within 1e-24 of the flows' size (indistinguishable from zero at that precision).
 pub fn npv_sign(flows: &Flows, annual_rate: f64) -> i8 {
-    if !(annual_rate > -1.0) {
+    if annual_rate.is_nan() || annual_rate <= -1.0 {
         return 0;
     }
     let npv = npv_dd(flows, Dd::ONE + Dd::from_f64(annual_rate)).to_f64();
@@ -391,7 +391,7 @@ pub fn balances_f64(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
 /// (`F_(k-1) = (F_k - C_k) (1 + rate)^(-dt)`). Forwards at a large rate, an error of
 /// one ulp in the rate grows by the growth factor at every step.
 pub fn balances_at_root(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
-    if !(log_growth > 0.0) || pts.is_empty() {
+    if log_growth.is_nan() || log_growth <= 0.0 || pts.is_empty() {
         return balances_f64(pts, log_growth);
     }
     let n = pts.len();

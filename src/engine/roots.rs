@@ -756,6 +756,8 @@ fn search(
 ) {
     solver.in_search = true;
     let mut stack: Vec<(f64, f64)> = vec![(lo, hi)];
+    // Pieces no test could settle, with the signs at their ends.
+    let mut pending: Vec<(f64, f64, i8, i8)> = Vec::new();
     while let Some((a, b)) = stack.pop() {
         if solver.exhausted() {
             out.certified = false;
@@ -792,7 +794,9 @@ fn search(
         let width = b - a;
         let tiny = width <= 1e-12 * a.abs().max(b.abs()).max(1e-3);
         if tiny {
-            settle_cluster(solver, a, b, (sa, sb), roots, out);
+            if !settle_cluster(solver, a, b, (sa, sb), roots) {
+                pending.push((a, b, sa, sb));
+            }
             continue;
         }
         match split_point(solver, a, b) {
@@ -800,7 +804,30 @@ fn search(
                 stack.push((m, b));
                 stack.push((a, m));
             }
-            None => settle_cluster(solver, a, b, (sa, sb), roots, out),
+            None => {
+                if !settle_cluster(solver, a, b, (sa, sb), roots) {
+                    pending.push((a, b, sa, sb));
+                }
+            }
+        }
+    }
+    // Neighbouring pieces may each hold part of one cluster (a multiple root whose
+    // band of undecidable signs was cut by a split): settle them together.
+    pending.sort_by(|x, y| x.0.total_cmp(&y.0));
+    let mut merged: Vec<(f64, f64, i8, i8)> = Vec::new();
+    for piece in pending {
+        match merged.last_mut() {
+            Some(last) if piece.0 <= last.1 => {
+                last.1 = last.1.max(piece.1);
+                last.3 = piece.3;
+            }
+            _ => merged.push(piece),
+        }
+    }
+    for (a, b, sa, sb) in merged {
+        if !settle_cluster(solver, a, b, (sa, sb), roots) {
+            out.certified = false;
+            out.unresolved.push((a, b));
         }
     }
 }
@@ -1031,74 +1058,148 @@ fn dd_brackets(s: &Series, a: f64, b: f64, sa: i8, sb: i8, m: usize) -> Option<V
     (brackets.len() == m).then_some(brackets)
 }
 
-/// A tiny interval that subdivision cannot settle: prove a multiple root exactly, or
-/// report the interval as undecided.
+/// A piece that subdivision in binary floats cannot settle: settle it with the
+/// second precision level, proven multiple roots and Rolle's bound. True when settled
+/// (its roots pushed), false when the piece stays undecided.
 fn settle_cluster(
     solver: &mut Solver<'_>,
     a: f64,
     b: f64,
     signs: (i8, i8),
     roots: &mut Vec<FoundRoot>,
-    out: &mut RootSet,
-) {
+) -> bool {
+    match settle_piece(solver, a, b, signs.0, signs.1, 0) {
+        Some(found) => {
+            roots.extend(found);
+            true
+        }
+        None => false,
+    }
+}
+
+fn simple(lo: f64, hi: f64) -> FoundRoot {
+    FoundRoot {
+        lo,
+        hi,
+        y: 0.5 * (lo + hi),
+        multiplicity: 1,
+        exact_rate: None,
+    }
+}
+
+/// The roots in [a, b] (end signs `sa`, `sb` certified, in either precision), or None.
+/// Rolle: where f^(m) keeps one sign there are at most m roots, so m sign changes on a
+/// double-double grid settle a piece, and so does m = 1 (monotone) with the end signs.
+/// A multiple root proven exactly at a short decimal rate is cut out with a
+/// neighbourhood where the derivative of its order keeps one sign; the rest is halved.
+fn settle_piece(
+    solver: &mut Solver<'_>,
+    a: f64,
+    b: f64,
+    sa: i8,
+    sb: i8,
+    depth: u32,
+) -> Option<Vec<FoundRoot>> {
+    if depth > 10 || a.is_nan() || b.is_nan() || a >= b {
+        return None;
+    }
+    let bound = (1..ORDERS).find(|&d| solver.excludes_zero(a, b, d));
+    if let Some(m) = bound {
+        if m == 1 {
+            return Some(if sa != sb {
+                vec![simple(a, b)]
+            } else {
+                Vec::new()
+            });
+        }
+        if let Some(brackets) = dd_brackets(solver.s, a, b, sa, sb, m) {
+            return Some(
+                brackets
+                    .into_iter()
+                    .map(|(lo, hi)| simple(lo, hi))
+                    .collect(),
+            );
+        }
+    }
     let mid = 0.5 * (a + b);
     let exact = exact_root_near(solver.s, mid, a, b);
-    // Rolle: with f^(m) of one sign on [a, b] there are at most m roots there.
-    let bound = (1..ORDERS).find(|&d| solver.excludes_zero(a, b, d));
     if let (Some((rate, m0, y0)), Some(m)) = (exact, bound) {
         let m0u = m0 as usize;
         if m0u <= m {
-            // The proven root accounts for m0 of the m; the rest must show up as sign
-            // changes on a double-double grid (the proven root itself changes sign
-            // only when its multiplicity is odd).
+            // The proven root accounts for m0 of the at most m roots; the rest must
+            // show up as sign changes on the grid (the proven root itself changes
+            // sign only when its multiplicity is odd).
             let expected = (m - m0u) + m0u % 2;
             let brackets = if m0u == m {
                 Some(Vec::new())
             } else {
-                dd_brackets(solver.s, a, b, signs.0, signs.1, expected)
+                dd_brackets(solver.s, a, b, sa, sb, expected)
             };
             if let Some(brackets) = brackets {
                 let (lo, hi) = around(y0);
-                roots.push(FoundRoot {
+                let mut found = vec![FoundRoot {
                     lo,
                     hi,
                     y: y0,
                     multiplicity: m0,
                     exact_rate: Some(rate),
-                });
-                for (blo, bhi) in brackets {
-                    if m0 % 2 == 1 && blo <= y0 && y0 <= bhi {
-                        continue;
+                }];
+                found.extend(
+                    brackets
+                        .into_iter()
+                        .filter(|&(blo, bhi)| !(m0 % 2 == 1 && blo <= y0 && y0 <= bhi))
+                        .map(|(blo, bhi)| simple(blo, bhi)),
+                );
+                return Some(found);
+            }
+        }
+    }
+    if let Some((rate, m0, y0)) = exact {
+        if (m0 as usize) < ORDERS && y0 > a && y0 < b {
+            let mut delta = 0.5 * (b - a);
+            for _ in 0..40 {
+                let (jl, jh) = ((y0 - delta).max(a), (y0 + delta).min(b));
+                if solver.excludes_zero(jl, jh, m0 as usize) {
+                    let sl = if jl == a {
+                        Some(sa)
+                    } else {
+                        dd_sign(solver.s, jl)
+                    };
+                    let sh = if jh == b {
+                        Some(sb)
+                    } else {
+                        dd_sign(solver.s, jh)
+                    };
+                    if let (Some(sl), Some(sh)) = (sl, sh) {
+                        let mut found = Vec::new();
+                        if jl > a {
+                            found.extend(settle_piece(solver, a, jl, sa, sl, depth + 1)?);
+                        }
+                        let (lo, hi) = around(y0);
+                        found.push(FoundRoot {
+                            lo,
+                            hi,
+                            y: y0,
+                            multiplicity: m0,
+                            exact_rate: Some(rate),
+                        });
+                        if jh < b {
+                            found.extend(settle_piece(solver, jh, b, sh, sb, depth + 1)?);
+                        }
+                        return Some(found);
                     }
-                    roots.push(FoundRoot {
-                        lo: blo,
-                        hi: bhi,
-                        y: 0.5 * (blo + bhi),
-                        multiplicity: 1,
-                        exact_rate: None,
-                    });
                 }
-                return;
+                delta *= 0.5;
             }
         }
     }
-    // If a double-double grid shows m sign changes, each is a simple root.
-    if let Some(m) = bound {
-        if let Some(brackets) = dd_brackets(solver.s, a, b, signs.0, signs.1, m) {
-            for (lo, hi) in brackets {
-                roots.push(FoundRoot {
-                    lo,
-                    hi,
-                    y: 0.5 * (lo + hi),
-                    multiplicity: 1,
-                    exact_rate: None,
-                });
-            }
-            return;
-        }
-    }
-    out.certified = false;
-    out.unresolved.push((a, b));
+    let split = [0.5, 0.4, 0.6, 0.3, 0.7]
+        .into_iter()
+        .map(|f| a + (b - a) * f)
+        .find_map(|m| dd_sign(solver.s, m).map(|sg| (m, sg)))?;
+    let mut found = settle_piece(solver, a, split.0, sa, split.1, depth + 1)?;
+    found.extend(settle_piece(solver, split.0, b, split.1, sb, depth + 1)?);
+    Some(found)
 }
 
 /// A float interval surely containing ln(1 + rate) when `y0` is its rounded value

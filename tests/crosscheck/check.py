@@ -206,17 +206,27 @@ def reference(line: str) -> dict:
 
 
 def balance_kind(s: Series, growth) -> str:
-    """Sign pattern of the balance F_k = F_(k-1) growth^(dt) + C_k before the last flow."""
-    f = mpmath.mpf(0)
-    prev = None
-    seen = []
+    """Sign pattern of the balance F_k = F_(k-1) growth^(dt) + C_k before the last flow.
+
+    Above 0% the path is run backwards from F_n = 0, F_(k-1) = (F_k - C_k) growth^(-dt):
+    forwards, the 45 proven digits of a large growth factor are used up after a few
+    steps (each step multiplies the error by the factor), backwards they are not."""
     e_year = mpmath.mpf(s.per_year.numerator) / s.per_year.denominator
-    for e, a in s.flows:
-        if prev is not None:
-            f = f * growth ** ((e - prev) / e_year)
-        f += mp_rate(a)
-        seen.append(f)
-        prev = e
+    if growth > 1:
+        seen = [mpmath.mpf(0)] * len(s.flows)
+        for k in range(len(s.flows) - 1, 0, -1):
+            dt = (s.flows[k][0] - s.flows[k - 1][0]) / e_year
+            seen[k - 1] = (seen[k] - mp_rate(s.flows[k][1])) * growth ** (-dt)
+    else:
+        f = mpmath.mpf(0)
+        prev = None
+        seen = []
+        for e, a in s.flows:
+            if prev is not None:
+                f = f * growth ** ((e - prev) / e_year)
+            f += mp_rate(a)
+            seen.append(f)
+            prev = e
     body = seen[:-1]
     big = max(abs(x) for x in seen) or 1
     eps = big * mpmath.mpf(10) ** -40
