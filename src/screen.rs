@@ -2,7 +2,7 @@
 //! in and one JSON line out per series, in input order, using every core.
 
 use crate::engine::{self, FlowPoint, Flows};
-use crate::model::values::{parse_decimal, parse_rate};
+use crate::model::values::{parse_decimal, parse_rate, MAX_AMOUNT, MAX_SCALE};
 use crate::model::{DayCount, Frequency};
 use rayon::prelude::*;
 use rust_decimal::prelude::*;
@@ -53,7 +53,14 @@ fn exact_decimal(raw: &RawValue) -> Result<Decimal, String> {
     } else if text.contains(['e', 'E']) {
         return Decimal::from_scientific(text).map_err(|_| format!("`{text}` is out of range"));
     } else {
-        text
+        // A JSON number (the parser has checked its grammar): read it directly, with
+        // the same limits as deal files.
+        let value =
+            Decimal::from_str_exact(text).map_err(|_| format!("`{text}` is out of range"))?;
+        if value.abs() > Decimal::from(MAX_AMOUNT) || value.scale() > MAX_SCALE {
+            return parse_decimal(text).map_err(|e| e.message);
+        }
+        return Ok(value);
     };
     parse_decimal(inner).map_err(|e| e.message)
 }
@@ -226,8 +233,7 @@ fn screen(line: &Line<'_>) -> Result<Value, LineError> {
     if flows.points.is_empty() {
         return Err(("all-zero-flows", "every flow is zero".into()));
     }
-    let h = hurdle.and_then(|h| h.to_f64()).unwrap_or(0.0);
-    let report = engine::irr::irr_report(&flows, h, false);
+    let report = engine::irr::irr_report(&flows, hurdle.and_then(|h| h.to_f64()), false);
     let roots: Vec<Value> = report
         .roots
         .iter()

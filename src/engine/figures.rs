@@ -16,7 +16,7 @@ use rust_decimal::{Decimal, RoundingStrategy};
 fn points_f64(flows: &Flows) -> Vec<(f64, f64)> {
     let n = flows.normalised();
     (0..n.points.len())
-        .map(|i| (n.years(i), n.points[i].amount.to_f64().unwrap_or(0.0)))
+        .map(|i| (n.years(i), super::flows::amount_f64(n.points[i].amount)))
         .collect()
 }
 
@@ -41,7 +41,7 @@ pub fn npv_sign(flows: &Flows, annual_rate: f64) -> i8 {
     let scale: f64 = flows
         .points
         .iter()
-        .map(|p| p.amount.to_f64().unwrap_or(0.0).abs())
+        .map(|p| super::flows::amount_f64(p.amount).abs())
         .sum();
     if !npv.is_finite() || npv.abs() <= 1e-24 * scale {
         0

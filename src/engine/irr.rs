@@ -40,20 +40,25 @@ fn annual_interval(log_lo: f64, log_hi: f64) -> Option<[f64; 2]> {
     (lo.is_finite() && hi.is_finite()).then_some([lo.max(-1.0), hi])
 }
 
-/// Builds the IRR report for normalised flows at an annual hurdle. With
+/// Builds the IRR report for normalised flows at an annual hurdle (`None`: no hurdle,
+/// so no stance or decision is read: they are left neutral). With
 /// `with_paths` false the balance-path rows are left out (batch screening).
-pub fn irr_report(flows: &Flows, hurdle: f64, with_paths: bool) -> IrrReport {
+pub fn irr_report(flows: &Flows, hurdle: Option<f64>, with_paths: bool) -> IrrReport {
     let set = roots_of(flows);
     report_from_set(flows, &set, hurdle, with_paths)
 }
 
 /// Builds the IRR report from a root set.
-pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bool) -> IrrReport {
+pub fn report_from_set(
+    flows: &Flows,
+    set: &RootSet,
+    hurdle: Option<f64>,
+    with_paths: bool,
+) -> IrrReport {
     let per_year = 1.0 / set.step_years;
-    let npv_sign = if set.roots.is_empty() {
-        0
-    } else {
-        figures::npv_sign(flows, hurdle)
+    let npv_sign = match hurdle {
+        Some(h) if !set.roots.is_empty() => figures::npv_sign(flows, h),
+        _ => 0,
     };
     let pts: Vec<(f64, f64)> = if with_paths {
         Vec::new()
@@ -62,7 +67,7 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
             .map(|i| {
                 (
                     flows.years(i),
-                    flows.points[i].amount.to_f64().unwrap_or(0.0),
+                    super::flows::amount_f64(flows.points[i].amount),
                 )
             })
             .collect()
@@ -89,6 +94,24 @@ pub fn report_from_set(flows: &Flows, set: &RootSet, hurdle: f64, with_paths: bo
             // the capital stream's PV follows from the NPV at the hurdle whenever that
             // is not zero and the root's interval lies on one side of the hurdle. This
             // stays exact at extreme rates, where summing the stream in floats cannot.
+            let Some(hurdle) = hurdle else {
+                return Root {
+                    annual_rate: annual,
+                    periodic_rate: periodic,
+                    log10_annual_growth: log_annual / std::f64::consts::LN_10,
+                    multiplicity: r.multiplicity,
+                    interval: annual_interval(log_lo, log_hi),
+                    log10_interval: widen(
+                        log_lo / std::f64::consts::LN_10,
+                        log_hi / std::f64::consts::LN_10,
+                    ),
+                    balance_kind,
+                    stance: Stance::Neutral,
+                    decision: Decision::Indifferent,
+                    extreme: annual.is_none_or(|k| !(EXTREME_LOW..=EXTREME_HIGH).contains(&k)),
+                    balance_path: path,
+                };
+            };
             let log_h = hurdle.ln_1p();
             let side = if log_lo > log_h {
                 1

@@ -41,7 +41,7 @@ pub fn analyse_scenario(
     let finance = rates.finance.to_f64().unwrap_or(hurdle);
     let reinvestment = rates.reinvestment.to_f64().unwrap_or(hurdle);
     let set = irr::roots_of(&flows);
-    let mut report = irr::report_from_set(&flows, &set, hurdle, true);
+    let mut report = irr::report_from_set(&flows, &set, Some(hurdle), true);
     if report.count == 0 && report.certified && report.upper_bound > 0 {
         report.complex_reading = complex::complex_reading(&flows, hurdle);
     }

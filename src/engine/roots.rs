@@ -159,7 +159,10 @@ struct Solver<'a> {
 
 impl Series {
     fn new(amounts: &[Decimal], exps: &[u64], reversed: bool) -> Series {
-        let c: Vec<f64> = amounts.iter().map(|a| a.to_f64().unwrap_or(0.0)).collect();
+        let c: Vec<f64> = amounts
+            .iter()
+            .map(|a| super::flows::amount_f64(*a))
+            .collect();
         let n: Vec<f64> = exps.iter().map(|&e| e as f64).collect();
         let mut gap_vals: Vec<f64> = Vec::new();
         let mut gap_idx = vec![0usize; exps.len()];
@@ -602,6 +605,8 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     let rev_amounts: Vec<Decimal> = amounts.iter().rev().copied().collect();
     let rev_exps: Vec<u64> = exps.iter().rev().map(|&e| last - e).collect();
     let reversed = Series::new(&rev_amounts, &rev_exps, true);
+    // (Both series are cheap to build; the reversed one is only searched when the
+    // Norstrom count below 0% does not already say zero.)
     let mut solvers = [
         Solver {
             s: &series,
@@ -675,7 +680,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     let mut roots: Vec<FoundRoot> = Vec::new();
     for (i, solver) in solvers.iter_mut().enumerate() {
         let (lo, hi) = (starts[i], if i == 0 { y_hi } else { u_hi });
-        if lo >= hi {
+        if lo >= hi || known[i] == Some(0) {
             continue;
         }
         let mut found: Vec<FoundRoot> = Vec::new();
@@ -995,11 +1000,14 @@ fn dd_eval(s: &Series, y: f64) -> [(f64, f64); 2] {
     [(f0.to_f64(), bound(size0)), (f1.to_f64(), bound(size1))]
 }
 
-/// Narrows a simple root's bracket by bisection on double-double signs while it is
-/// wider than about 1e-13 relative and the signs can be told.
+/// Narrows a simple root's bracket wider than 1e-9 relative by bisection on
+/// double-double signs, down to about 1e-13 or while the signs can be told.
 fn polish(s: &Series, r: &mut FoundRoot) {
-    let tight = |lo: f64, hi: f64| hi - lo <= 1e-13 * lo.abs().max(hi.abs()).max(1e-300);
-    if tight(r.lo, r.hi) {
+    let width = |lo: f64, hi: f64| (hi - lo) / lo.abs().max(hi.abs()).max(1e-300);
+    let tight = |lo: f64, hi: f64| width(lo, hi) <= 1e-13;
+    // Binary floats usually leave 1e-13 to 1e-10 of relative width: only clearly wide
+    // intervals are worth the (slower) second precision level.
+    if width(r.lo, r.hi) <= 1e-9 {
         return;
     }
     let (Some(sl), Some(sh)) = (dd_sign(s, r.lo), dd_sign(s, r.hi)) else {
