@@ -5,7 +5,6 @@ use super::analysis::{BalanceKind, IrrReport, Root, SignBounds};
 use super::flows::Flows;
 use super::roots::{find_roots, RootSet};
 use super::{figures, Decision, Stance};
-use rust_decimal::prelude::ToPrimitive;
 
 /// Annual rates above this, or below -99%, describe no economic reality.
 pub const EXTREME_HIGH: f64 = 10.0;
