@@ -4,7 +4,7 @@
 use super::load::load_deal;
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::RatesArgs;
-use crate::engine::{self, Analysis, BalanceKind, Decision, ScenarioAnalysis, Stance};
+use crate::engine::{self, Analysis, ScenarioAnalysis};
 use crate::format::{decimals_to_separate, money_in, percent};
 use std::fmt::Write as _;
 use std::io::Write as _;
@@ -67,30 +67,6 @@ fn run_batch(path: &std::path::Path) -> u8 {
     EXIT_OK
 }
 
-fn kind_words(k: BalanceKind) -> &'static str {
-    match k {
-        BalanceKind::PureInvestment => "pure investment",
-        BalanceKind::Mixed => "mixed balance",
-        BalanceKind::PureBorrowing => "pure borrowing",
-    }
-}
-
-fn stance_words(s: Stance) -> &'static str {
-    match s {
-        Stance::Investment => "net investment at the hurdle",
-        Stance::Borrowing => "net borrowing at the hurdle",
-        Stance::Neutral => "neutral at the hurdle",
-    }
-}
-
-fn decision_words(d: Decision) -> &'static str {
-    match d {
-        Decision::Accept => "accept",
-        Decision::Reject => "reject",
-        Decision::Indifferent => "indifferent",
-    }
-}
-
 /// The terminal report: one block per scenario.
 pub fn terminal_report(a: &Analysis) -> String {
     let mut o = String::new();
@@ -142,9 +118,9 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
         let _ = writeln!(
             o,
             "    {rate:>12}{mult}{periodic}: {}, {} -> {}",
-            kind_words(r.balance_kind),
-            stance_words(r.stance),
-            decision_words(r.decision)
+            r.balance_kind.label(),
+            r.stance.label(),
+            r.decision.label()
         );
     }
     for u in &irr.unresolved {
@@ -162,15 +138,15 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
             percent(c.real_rate, 2),
             if c.imaginary_rate < 0.0 { "-" } else { "+" },
             percent(c.imaginary_rate.abs(), 2),
-            stance_words(c.stance),
-            decision_words(c.decision)
+            c.stance.label(),
+            c.decision.label()
         );
     }
     let _ = writeln!(
         o,
         "  NPV         {} at the hurdle -> {}",
         money_in(s.npv_at_hurdle, currency),
-        decision_words(s.decision)
+        s.decision.label()
     );
     let opt = |x: Option<f64>| x.map_or("not defined".to_string(), |v| percent(v, 2));
     let _ = writeln!(o, "  MIRR        {}", opt(s.mirr));

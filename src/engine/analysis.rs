@@ -171,6 +171,17 @@ pub enum BalanceKind {
     PureBorrowing,
 }
 
+impl BalanceKind {
+    /// A short label for terminal and memo text.
+    pub fn label(self) -> &'static str {
+        match self {
+            BalanceKind::PureInvestment => "pure investment",
+            BalanceKind::Mixed => "mixed balance",
+            BalanceKind::PureBorrowing => "pure borrowing",
+        }
+    }
+}
+
 /// Net investment or net borrowing at the hurdle rate for a given IRR (Hazen).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -183,6 +194,17 @@ pub enum Stance {
     Neutral,
 }
 
+impl Stance {
+    /// A short label for terminal and memo text.
+    pub fn label(self) -> &'static str {
+        match self {
+            Stance::Investment => "net investment at the hurdle",
+            Stance::Borrowing => "net borrowing at the hurdle",
+            Stance::Neutral => "neutral at the hurdle",
+        }
+    }
+}
+
 /// Accept or reject.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -193,6 +215,17 @@ pub enum Decision {
     Reject,
     /// Exactly break-even at the hurdle.
     Indifferent,
+}
+
+impl Decision {
+    /// The word for terminal and memo text.
+    pub fn label(self) -> &'static str {
+        match self {
+            Decision::Accept => "accept",
+            Decision::Reject => "reject",
+            Decision::Indifferent => "indifferent",
+        }
+    }
 }
 
 /// The reading from a complex IRR when there is no real one (Hazen).

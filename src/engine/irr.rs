@@ -89,54 +89,12 @@ pub fn report_from_set(
             } else {
                 (Vec::new(), balance_kind_f64(&pts, log_annual))
             };
-            // Hazen (2003): at an IRR k, NPV(h) = (k - h) PV_h exactly, so the sign of
-            // the capital stream's PV follows from the NPV at the hurdle whenever that
-            // is not zero and the root's interval lies on one side of the hurdle. This
-            // stays exact at extreme rates, where summing the stream in floats cannot.
-            let Some(hurdle) = hurdle else {
-                return Root {
-                    annual_rate: annual,
-                    periodic_rate: periodic,
-                    log10_annual_growth: log_annual / std::f64::consts::LN_10,
-                    multiplicity: r.multiplicity,
-                    interval: annual_interval(log_lo, log_hi),
-                    log10_interval: widen(
-                        log_lo / std::f64::consts::LN_10,
-                        log_hi / std::f64::consts::LN_10,
-                    ),
-                    balance_kind,
-                    stance: Stance::Neutral,
-                    decision: Decision::Indifferent,
-                    extreme: annual.is_none_or(|k| !(EXTREME_LOW..=EXTREME_HIGH).contains(&k)),
-                    balance_path: path,
-                };
-            };
-            let log_h = hurdle.ln_1p();
-            let side = if log_lo > log_h {
-                1
-            } else if log_hi < log_h {
-                -1
-            } else {
-                0
-            };
-            let stance = if npv_sign != 0 && side != 0 {
-                if npv_sign == side {
-                    Stance::Investment
-                } else {
-                    Stance::Borrowing
+            let (stance, decision) = match hurdle {
+                Some(h) => {
+                    stance_and_decision(flows, h, npv_sign, log_annual, (log_lo, log_hi), annual)
                 }
-            } else {
-                figures::stance(flows, log_annual, hurdle)
+                None => (Stance::Neutral, Decision::Indifferent),
             };
-            let decision = match annual {
-                Some(k) => figures::decision_for_root(k, hurdle, stance),
-                None => match stance {
-                    Stance::Investment => Decision::Accept,
-                    Stance::Borrowing => Decision::Reject,
-                    Stance::Neutral => Decision::Indifferent,
-                },
-            };
-            let extreme = annual.is_none_or(|k| !(EXTREME_LOW..=EXTREME_HIGH).contains(&k));
             Root {
                 annual_rate: annual,
                 periodic_rate: periodic,
@@ -150,7 +108,7 @@ pub fn report_from_set(
                 balance_kind,
                 stance,
                 decision,
-                extreme,
+                extreme: annual.is_none_or(|k| !(EXTREME_LOW..=EXTREME_HIGH).contains(&k)),
                 balance_path: path,
             }
         })
@@ -174,6 +132,49 @@ pub fn report_from_set(
             .collect(),
         complex_reading: None,
     }
+}
+
+/// The stance at the hurdle `h` of the root with log growth `log_annual` (certified
+/// within `log_bounds`) and the decision it gives.
+///
+/// Hazen (2003): at an IRR k, NPV(h) = (k - h) PV_h exactly, so the sign of the
+/// capital stream's PV follows from the NPV at the hurdle whenever that is not zero
+/// and the root's interval lies on one side of the hurdle. This stays exact at extreme
+/// rates, where summing the stream in floats cannot.
+fn stance_and_decision(
+    flows: &Flows,
+    h: f64,
+    npv_sign: i8,
+    log_annual: f64,
+    (log_lo, log_hi): (f64, f64),
+    annual: Option<f64>,
+) -> (Stance, Decision) {
+    let log_h = h.ln_1p();
+    let side = if log_lo > log_h {
+        1
+    } else if log_hi < log_h {
+        -1
+    } else {
+        0
+    };
+    let stance = if npv_sign != 0 && side != 0 {
+        if npv_sign == side {
+            Stance::Investment
+        } else {
+            Stance::Borrowing
+        }
+    } else {
+        figures::stance(flows, log_annual, h)
+    };
+    let decision = match annual {
+        Some(k) => figures::decision_for_root(k, h, stance),
+        None => match stance {
+            Stance::Investment => Decision::Accept,
+            Stance::Borrowing => Decision::Reject,
+            Stance::Neutral => Decision::Indifferent,
+        },
+    };
+    (stance, decision)
 }
 
 /// The balance-path classification without building the rows (batch screening): the

@@ -457,6 +457,19 @@ impl<'a> Solver<'a> {
         (lo, hi, 0.5 * (lo + hi))
     }
 
+    /// The simple root in a bracket of f with certified opposite end signs (`sign_lo`
+    /// at `lo`), refined to a tight certified interval.
+    fn simple_root(&mut self, lo: f64, hi: f64, sign_lo: i8) -> FoundRoot {
+        let (lo, hi, y) = self.refine(0, lo, hi, sign_lo);
+        FoundRoot {
+            lo,
+            hi,
+            y,
+            multiplicity: 1,
+            exact_rate: None,
+        }
+    }
+
     /// The Newton step for f^(d) from a point; NaN where the slope is flat.
     fn newton(&self, p: &Point, d: usize) -> f64 {
         let slope = p.value(d + 1);
@@ -690,14 +703,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         match (known[i], sl, sh) {
             (Some(0), _, _) => {}
             (Some(1), Some(a), Some(b)) if a != b => {
-                let (l, h, y) = solver.refine(0, lo, hi, a);
-                found.push(FoundRoot {
-                    lo: l,
-                    hi: h,
-                    y,
-                    multiplicity: 1,
-                    exact_rate: None,
-                });
+                found.push(solver.simple_root(lo, hi, a));
             }
             _ => search(solver, lo, hi, &mut found, &mut out),
         }
@@ -782,14 +788,7 @@ fn search(
         };
         if solver.excludes_zero(a, b, 1) {
             if sa != sb {
-                let (l, h, y) = solver.refine(0, a, b, sa);
-                roots.push(FoundRoot {
-                    lo: l,
-                    hi: h,
-                    y,
-                    multiplicity: 1,
-                    exact_rate: None,
-                });
+                roots.push(solver.simple_root(a, b, sa));
             }
             continue;
         }
@@ -869,14 +868,7 @@ fn convex_case(
     if da == db {
         // f' keeps its sign at both ends and is monotone: f is monotone.
         if sa != sb {
-            let (l, h, y) = solver.refine(0, a, b, sa);
-            roots.push(FoundRoot {
-                lo: l,
-                hi: h,
-                y,
-                multiplicity: 1,
-                exact_rate: None,
-            });
+            roots.push(solver.simple_root(a, b, sa));
         }
         return true;
     }
@@ -886,14 +878,7 @@ fn convex_case(
         for (x0, x1, s0) in [(a, p, sa), (q, b, s_ext)] {
             let s1 = if x1 == b { sb } else { s_ext };
             if s0 != s1 && x0 < x1 {
-                let (l, h, y) = solver.refine(0, x0, x1, s0);
-                roots.push(FoundRoot {
-                    lo: l,
-                    hi: h,
-                    y,
-                    multiplicity: 1,
-                    exact_rate: None,
-                });
+                roots.push(solver.simple_root(x0, x1, s0));
             }
         }
         return true;
@@ -943,14 +928,7 @@ fn convex_case(
         if let Some(pieces) = pieces {
             for (x0, x1, s0, s1) in pieces {
                 if s0 != s1 && x0 < x1 {
-                    let (l, h, y) = solver.refine(0, x0, x1, s0);
-                    roots.push(FoundRoot {
-                        lo: l,
-                        hi: h,
-                        y,
-                        multiplicity: 1,
-                        exact_rate: None,
-                    });
+                    roots.push(solver.simple_root(x0, x1, s0));
                 }
             }
             return true;
@@ -965,14 +943,7 @@ fn convex_case(
     ] {
         if let (Some(s0), Some(s1)) = (s0, s1) {
             if s0 != s1 && x0 < x1 {
-                let (l, h, y) = solver.refine(0, x0, x1, s0);
-                roots.push(FoundRoot {
-                    lo: l,
-                    hi: h,
-                    y,
-                    multiplicity: 1,
-                    exact_rate: None,
-                });
+                roots.push(solver.simple_root(x0, x1, s0));
             }
         }
     }
