@@ -27,6 +27,12 @@ pub enum Command {
     Verify(VerifyArgs),
     /// Show what changed between two deals or two filed versions.
     Diff(DiffArgs),
+    /// Write a commented starter deal file that passes `candor check`.
+    New(NewArgs),
+    /// Print a shell completion script (bash, zsh, fish, elvish, powershell).
+    Completions(CompletionsArgs),
+    /// Print the man page (roff) on stdout.
+    Manpage,
 }
 
 /// Options of `candor check`.
@@ -100,6 +106,28 @@ pub struct DiffArgs {
     pub json: bool,
 }
 
+/// Options of `candor new`.
+#[derive(Debug, Args)]
+pub struct NewArgs {
+    /// The deal's name; the file is named after it (`Harbour Row` -> `harbour-row.yaml`).
+    #[arg(value_name = "NAME")]
+    pub name: String,
+    /// Start from dated flows (a day count and dates) instead of yearly periods.
+    #[arg(long)]
+    pub dated: bool,
+    /// Where to write the deal file (default: NAME in lower case with hyphens, `.yaml`).
+    #[arg(short, long, value_name = "FILE.yaml")]
+    pub output: Option<PathBuf>,
+}
+
+/// Options of `candor completions`.
+#[derive(Debug, Args)]
+pub struct CompletionsArgs {
+    /// The shell to complete for.
+    #[arg(value_name = "SHELL")]
+    pub shell: clap_complete::Shell,
+}
+
 /// Parses the arguments, runs the command and returns the exit code:
 /// 0 success, 1 invalid input, 2 internal error.
 pub fn run() -> ExitCode {
@@ -110,6 +138,9 @@ pub fn run() -> ExitCode {
         Command::Memo(args) => crate::commands::memo::run(&args),
         Command::Verify(args) => crate::commands::verify::run(&args),
         Command::Diff(args) => crate::commands::diff::run(&args),
+        Command::New(args) => crate::commands::new::run(&args),
+        Command::Completions(args) => crate::commands::completions::run(&args),
+        Command::Manpage => crate::commands::completions::manpage(),
     };
     ExitCode::from(code)
 }

@@ -2,9 +2,11 @@
 //! each loads bytes, calls the library stages and prints or writes the result.
 
 pub mod check;
+pub mod completions;
 pub mod diff;
 pub mod load;
 pub mod memo;
+pub mod new;
 pub mod rates;
 pub mod verify;
 

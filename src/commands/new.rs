@@ -1,0 +1,218 @@
+//! `candor new`: writes a commented starter deal file, periodic or dated, that
+//! `candor check` accepts as it stands, so an analyst edits figures rather than syntax.
+//!
+//! The file is never written over an existing one: it goes to a temporary file in the
+//! target folder and is moved into place only if the name is still free.
+
+use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
+use crate::cli::NewArgs;
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+/// The starter with yearly flows; `{NAME}` becomes the deal's name as a quoted YAML string.
+const PERIODIC: &str = r#"# A starter deal file written by `candor new`. The figures below are an invented
+# example: replace them with the deal's own forecast, then run
+#   candor check {FILE}
+#   candor rates {FILE}
+# Every field is described in candor's README, section "The deal file".
+candor: 1                        # format version: this candor reads version 1
+
+deal:
+  name: {NAME}
+  currency: EUR                  # ISO 4217 code in capitals, such as GBP or USD
+  as_of: 2027-01-15              # the date the forecast was made, YYYY-MM-DD
+
+hurdle_rate: 9%                  # the annual return the committee requires
+finance_rate: 6%                 # optional (MIRR): cost of money borrowed; default the hurdle
+reinvestment_rate: 7%            # optional (MIRR): return on money paid back early; default the hurdle
+
+cash_flows:
+  every: year                    # year, half-year, quarter, month, week or day
+  start: 2027-04-01              # optional: the date of period 0
+  amounts: [-2400000,            # period 0: the investment (negative = paid by the investor)
+            310000, 420000,      # periods 1-2: ramping up
+            480000, 480000, 480000, 480000,
+            480000, 480000, 480000,
+            650000]              # period 10: the last year's income plus the resale value
+
+scenarios:                       # optional: named changes to the base case
+  weak_demand:
+    inflows_factor: 0.8          # every inflow 20% lower
+  cost_overrun:
+    outflows_factor: 1.15        # every outflow 15% higher
+  slow_start:
+    shift_inflows: 1             # every inflow one period later
+
+memo:                            # optional: the memo's narrative
+  recommendation: State the recommendation to the committee in a sentence or two.
+  summary: >-
+    Describe what the money buys, who runs it and where the income comes from.
+  risks:
+    - Name each risk that could change the figures, one item each.
+  sections:
+    - title: Background
+      text: Any further headed section of the memo.
+
+signoff:                         # optional
+  prepared_by: Your name, your role
+  decision: pending              # pending, approved, declined or deferred
+"#;
+
+/// The starter with dated flows.
+const DATED: &str = r#"# A starter deal file written by `candor new --dated`. The figures below are an
+# invented example: replace them with the deal's own forecast, then run
+#   candor check {FILE}
+#   candor rates {FILE}
+# Every field is described in candor's README, section "The deal file".
+candor: 1                        # format version: this candor reads version 1
+
+deal:
+  name: {NAME}
+  currency: EUR                  # ISO 4217 code in capitals, such as GBP or USD
+  as_of: 2027-01-15              # the date the forecast was made, YYYY-MM-DD
+
+hurdle_rate: 9%                  # the annual return the committee requires
+finance_rate: 6%                 # optional (MIRR): cost of money borrowed; default the hurdle
+reinvestment_rate: 7%            # optional (MIRR): return on money paid back early; default the hurdle
+
+cash_flows:
+  day_count: act/365f            # act/365f, act/360, act/act-isda, 30/360, 30e/360 or 30e/360-isda
+  dated:                         # any order; flows on one date are added together
+    - { date: 2027-03-01, amount: -1800000, note: purchase and fit-out }
+    - { date: 2027-09-30, amount: 140000 }
+    - { date: 2028-03-31, amount: 165000 }
+    - { date: 2028-09-30, amount: 170000 }
+    - { date: 2029-03-31, amount: 175000 }
+    - { date: 2029-09-30, amount: -90000, note: roof repair net of income }
+    - { date: 2030-03-31, amount: 180000 }
+    - { date: 2030-12-31, amount: 1650000, note: sale }
+
+scenarios:                       # optional: named changes to the base case
+  lower_rents:
+    inflows_factor: 0.85         # every inflow 15% lower
+  late_sale:
+    shift_inflows: 90            # every inflow 90 days later
+
+memo:                            # optional: the memo's narrative
+  recommendation: State the recommendation to the committee in a sentence or two.
+  summary: >-
+    Describe what the money buys, who runs it and where the income comes from.
+  risks:
+    - Name each risk that could change the figures, one item each.
+
+signoff:                         # optional
+  prepared_by: Your name, your role
+  decision: pending              # pending, approved, declined or deferred
+"#;
+
+/// A file name from a deal's name: lower-case ASCII letters and digits, every other
+/// run of characters one hyphen. Empty when the name has no ASCII letter or digit.
+pub fn slug(name: &str) -> String {
+    let mut out = String::with_capacity(name.len());
+    let mut gap = false;
+    for c in name.chars() {
+        if c.is_ascii_alphanumeric() {
+            if gap && !out.is_empty() {
+                out.push('-');
+            }
+            gap = false;
+            out.push(c.to_ascii_lowercase());
+        } else {
+            gap = true;
+        }
+    }
+    out
+}
+
+/// The starter text for a deal called `name`, written to a file shown as `file`.
+pub fn starter(name: &str, dated: bool, file: &str) -> String {
+    // A JSON string is a valid YAML double-quoted scalar, so any name (colons, `#`,
+    // quotes, control characters) reads back exactly as given.
+    let quoted = serde_json::Value::String(name.trim().to_string()).to_string();
+    // Shell-quote the file name in the comment only when it needs it.
+    let shown = if file
+        .chars()
+        .all(|c| c.is_ascii_alphanumeric() || "-_./".contains(c))
+    {
+        file.to_string()
+    } else {
+        format!("'{}'", file.replace('\'', "'\\''"))
+    };
+    let shown: String = shown.chars().filter(|c| !c.is_control()).collect();
+    let template = if dated { DATED } else { PERIODIC };
+    template
+        .replace("{FILE}", &shown)
+        .replace("{NAME}", &quoted)
+}
+
+fn write_new(path: &Path, text: &str) -> std::io::Result<()> {
+    let folder = match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let mut tmp = tempfile::Builder::new()
+        .prefix(".candor-new-")
+        .suffix(".tmp")
+        .tempfile_in(&folder)?;
+    tmp.write_all(text.as_bytes())?;
+    tmp.as_file().sync_all()?;
+    // `persist_noclobber` fails rather than replace a file that appeared meanwhile.
+    tmp.persist_noclobber(path).map_err(|e| e.error)?;
+    Ok(())
+}
+
+/// Runs the command and returns its exit code.
+pub fn run(args: &NewArgs) -> u8 {
+    let name = args.name.trim();
+    if name.is_empty() {
+        eprintln!(
+            "error: the deal's name is empty; give it as `candor new \"Harbour Row offices\"`"
+        );
+        return EXIT_INVALID;
+    }
+    let path = match &args.output {
+        Some(p) => p.clone(),
+        None => {
+            let s = slug(name);
+            if s.is_empty() {
+                eprintln!(
+                    "error: `{name}` has no letters or digits to name a file after; choose one with `-o FILE.yaml`"
+                );
+                return EXIT_INVALID;
+            }
+            PathBuf::from(format!("{s}.yaml"))
+        }
+    };
+    let shown = path.display().to_string();
+    if path.exists() || path.is_symlink() {
+        eprintln!("error: {shown} already exists; candor new never writes over a file (choose another with `-o FILE.yaml`)");
+        return EXIT_INVALID;
+    }
+    match write_new(&path, &starter(name, args.dated, &shown)) {
+        Ok(()) => {
+            println!("wrote {shown}");
+            EXIT_OK
+        }
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
+            eprintln!("error: {shown} already exists; candor new never writes over a file");
+            EXIT_INVALID
+        }
+        Err(e) => {
+            eprintln!("error: cannot write {shown}: {e}");
+            EXIT_INTERNAL
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn slugs() {
+        assert_eq!(slug("Harbour Row Offices"), "harbour-row-offices");
+        assert_eq!(slug("  A&B: phase 2!  "), "a-b-phase-2");
+        assert_eq!(slug("Café Müller"), "caf-m-ller");
+        assert_eq!(slug("—"), "");
+    }
+}
