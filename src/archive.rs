@@ -23,10 +23,11 @@
 #![allow(clippy::result_large_err)]
 
 use crate::commands::load::load_deal;
-use crate::commands::memo::{build_memo, sha256_hex, slug, MemoInputs};
+use crate::commands::memo::{build_memo_with_changes, sha256_hex, slug, MemoInputs};
 use crate::diag::Diagnostic;
 use crate::engine::Analysis;
 use crate::model::{Deal, SignoffDecision};
+use crate::report::ChangesSince;
 use chrono::NaiveDateTime;
 use serde::{Deserialize, Serialize};
 use serde_json::Value;
@@ -168,6 +169,11 @@ pub struct Filing<'a> {
     pub memo_created: NaiveDateTime,
     /// The filing time (UTC).
     pub filed_at: NaiveDateTime,
+    /// The version the memo's "changes since" section compares with (`None`: the memo
+    /// has no such section). Filing refuses with [`Filed::Overtaken`] unless this is
+    /// still the latest version, since `verify` rebuilds the section from the version
+    /// just before the one filed.
+    pub previous: Option<&'a str>,
 }
 
 /// The outcome of a filing.
@@ -186,6 +192,13 @@ pub enum Filed {
         version: String,
         /// The latest version's folder.
         path: PathBuf,
+    },
+    /// Another filing took the next number while this memo was made, so its "changes
+    /// since" section compares with the wrong version; nothing was filed, and the memo
+    /// must be made again.
+    Overtaken {
+        /// The latest version's folder name now.
+        latest: String,
     },
 }
 
@@ -489,9 +502,19 @@ pub fn file(archive: &Path, filing: &Filing<'_>) -> Result<Filed, Diagnostic> {
                     path: latest_dir,
                 });
             }
+            if filing.previous != Some(name.as_str()) {
+                return Ok(Filed::Overtaken {
+                    latest: name.clone(),
+                });
+            }
             n.checked_add(1).ok_or_else(|| {
                 archive_error("the archive holds the largest version number", &deal_dir)
             })?
+        }
+        None if filing.previous.is_some() => {
+            return Ok(Filed::Overtaken {
+                latest: String::new(),
+            })
         }
         None => 1,
     };
@@ -566,6 +589,89 @@ pub fn file(archive: &Path, filing: &Filing<'_>) -> Result<Filed, Diagnostic> {
         version,
         path: target,
     })
+}
+
+/// The version a new filing of these inputs compares with, as (folder name, folder):
+/// the latest version, or when the latest already holds exactly these inputs (the
+/// filing will then be reported unchanged) the one before it, so that the memo made
+/// equals the one filed. `None` for a deal not yet filed. Reads without the lock:
+/// [`file`] checks the answer again under it. The filing's PDF is not looked at.
+pub fn predecessor(
+    archive: &Path,
+    filing: &Filing<'_>,
+) -> Result<Option<(String, PathBuf)>, Diagnostic> {
+    let deal_dir = archive.join(slug(&filing.deal.name));
+    if !deal_dir.is_dir() {
+        return Ok(None);
+    }
+    let versions = versions_in(&deal_dir).map_err(|e| {
+        archive_error(
+            format!("cannot list the filed versions: {}", io_words(&e)),
+            &deal_dir,
+        )
+    })?;
+    let Some((_, latest)) = versions.last() else {
+        return Ok(None);
+    };
+    let entries: Vec<FileEntry> = version_files(filing, "memo")?
+        .iter()
+        .map(|(path, role, bytes)| FileEntry {
+            path: path.clone(),
+            role: *role,
+            bytes: bytes.len() as u64,
+            sha256: sha256_hex(bytes),
+        })
+        .collect();
+    let same_as_latest = read_manifest(&deal_dir.join(latest))
+        .map(|m| m.input_key() == input_key(&entries))
+        .unwrap_or(false);
+    let pick = if same_as_latest {
+        versions.len().checked_sub(2).map(|i| &versions[i])
+    } else {
+        versions.last()
+    };
+    Ok(pick.map(|(_, name)| (name.clone(), deal_dir.join(name))))
+}
+
+/// The version filed just before the version folder `dir`, by number, in the same
+/// deal's folder, as (folder name, folder).
+pub fn version_before(dir: &Path) -> Option<(String, PathBuf)> {
+    // `verify .` inside a version folder names it only once resolved.
+    let dir = std::fs::canonicalize(dir).ok()?;
+    let name = dir.file_name()?.to_str()?.to_string();
+    let parent = dir.parent()?;
+    let versions = versions_in(parent).ok()?;
+    let at = versions.iter().position(|(_, n)| *n == name)?;
+    let (_, before) = versions.get(at.checked_sub(1)?)?;
+    Some((before.clone(), parent.join(before)))
+}
+
+/// The "changes since version N" section of a memo: the filed deal of version
+/// `version` (in `dir`) compared with `deal` and its analysis by [`crate::diff::diff`].
+pub fn changes_since(version: &str, dir: &Path, deal: &Deal, analysis: &Analysis) -> ChangesSince {
+    let old = read_manifest(dir)
+        .ok()
+        .and_then(|m| load_deal(&dir.join(&m.deal_file)).ok());
+    let lines = match old {
+        // The earlier deal is analysed again rather than read from its analysis.json:
+        // filing and verifying then take the same path, and `verify` has checked that
+        // the two agree.
+        Some(old) => {
+            let old_analysis = crate::engine::analyse(&old.deal);
+            crate::diff::plain_lines(&crate::diff::diff(
+                (&old.deal, &old_analysis),
+                (deal, analysis),
+            ))
+        }
+        None => vec![format!(
+            "The inputs filed as version {version} can no longer be read, so what changed \
+             since then is not shown."
+        )],
+    };
+    ChangesSince {
+        version: version.to_string(),
+        lines,
+    }
 }
 
 /// Reads and parses a version's manifest.
@@ -846,7 +952,11 @@ pub fn verify_version(dir: &Path, report: &mut VerifyReport) {
         templates,
         created,
     };
-    let rebuilt = match build_memo(&analysis, &loaded.deal, inputs) {
+    // The section on changes is rebuilt from the version before this one by number,
+    // exactly as it was made when this version was filed.
+    let changes = version_before(dir)
+        .map(|(version, before)| changes_since(&version, &before, &loaded.deal, &analysis));
+    let rebuilt = match build_memo_with_changes(&analysis, &loaded.deal, inputs, changes) {
         Ok(m) => m.pdf,
         Err(f) => {
             problems.push(format!(

@@ -557,6 +557,125 @@ pub fn render_text(d: &Diff) -> String {
     out
 }
 
+/// A deal-file field or result figure in words, for the memo.
+fn field_words(field: &str) -> String {
+    let fixed = match field {
+        "deal.name" => Some("Deal name"),
+        "deal.currency" => Some("Currency"),
+        "deal.as_of" => Some("As-of date"),
+        "hurdle_rate" => Some("Hurdle rate"),
+        "finance_rate" => Some("Finance rate"),
+        "reinvestment_rate" => Some("Reinvestment rate"),
+        "cash_flows (clock)" => Some("Cash-flow timing"),
+        "memo.recommendation" => Some("Recommendation"),
+        "memo.summary" => Some("Summary"),
+        "memo.risks" => Some("A risk"),
+        "signoff.decision" => Some("Committee decision"),
+        "signoff.prepared_by" => Some("Prepared by"),
+        "signoff.reviewed_by" => Some("Reviewed by"),
+        "signoff.date" => Some("Decision date"),
+        "IRR count" => Some("number of real IRRs"),
+        "certified" => Some("IRR count certified"),
+        _ => None,
+    };
+    if let Some(words) = fixed {
+        return words.to_string();
+    }
+    if let Some(rest) = field.strip_prefix("memo.sections.") {
+        return format!("Narrative section \"{rest}\"");
+    }
+    if let Some(name) = field
+        .strip_prefix("scenarios.")
+        .and_then(|r| r.strip_suffix(".description"))
+    {
+        return format!("Description of scenario {name}");
+    }
+    field.to_string()
+}
+
+fn change_sentence(c: &Change, subject: &str, quote: bool) -> String {
+    let show = |v: &str| if quote { clip(v) } else { v.to_string() };
+    match (&c.old, &c.new) {
+        (Some(a), Some(b)) => format!("{subject} changed from {} to {}.", show(a), show(b)),
+        (None, Some(b)) => format!("{subject} added: {}.", show(b)),
+        (Some(a), None) => format!("{subject} removed (was {}).", show(a)),
+        (None, None) => format!("{subject} changed."),
+    }
+}
+
+/// Capitalises the first letter, for a scenario label that opens a sentence.
+fn opening(text: &str) -> String {
+    let mut chars = text.chars();
+    match chars.next() {
+        Some(c) => c.to_uppercase().chain(chars).collect(),
+        None => String::new(),
+    }
+}
+
+/// The diff as plain sentences for a memo, one change each, inputs first, then results;
+/// empty when nothing changed. Amounts are shown without a currency code, as the memo's
+/// header names the currency.
+pub fn plain_lines(d: &Diff) -> Vec<String> {
+    let mut out = Vec::new();
+    for c in &d.inputs {
+        let quote = c.field.starts_with("memo.") || c.field.contains(".description");
+        out.push(change_sentence(c, &field_words(&c.field), quote));
+    }
+    for s in &d.scenarios_added {
+        out.push(format!("Scenario {s} added."));
+    }
+    for s in &d.scenarios_removed {
+        out.push(format!("Scenario {s} removed."));
+    }
+    for f in &d.flows {
+        let who = opening(&label(&f.scenario));
+        out.push(match (f.old, f.new) {
+            (Some(a), Some(b)) => format!(
+                "{who}: the flow at {} changed from {} to {}.",
+                f.when,
+                format_money(a),
+                format_money(b)
+            ),
+            (None, Some(b)) => format!("{who}: a flow of {} added at {}.", format_money(b), f.when),
+            (Some(a), None) => format!(
+                "{who}: the flow of {} at {} removed.",
+                format_money(a),
+                f.when
+            ),
+            (None, None) => format!("{who}: the flow at {} changed.", f.when),
+        });
+    }
+    for r in &d.results {
+        let who = opening(&label(&r.scenario));
+        for x in &r.irr_disappeared {
+            out.push(format!("{who}: the IRR of {} disappeared.", x.text));
+        }
+        for x in &r.irr_appeared {
+            out.push(format!("{who}: a new IRR of {} appeared.", x.text));
+        }
+        for m in &r.irr_moved {
+            out.push(format!(
+                "{who}: an IRR moved from {} to {}.",
+                m.old.text, m.new.text
+            ));
+        }
+        for c in &r.figures {
+            out.push(change_sentence(
+                c,
+                &format!("{who}: {}", field_words(&c.field)),
+                false,
+            ));
+        }
+        for c in &r.cautions_added {
+            out.push(format!("{who}: new caution ({c})."));
+        }
+        for c in &r.cautions_removed {
+            out.push(format!("{who}: caution ({c}) no longer raised."));
+        }
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -579,6 +698,50 @@ mod tests {
             vec![(0, 0), (1, 1)]
         );
         assert!(match_roots(&[g(0.1)], &[]).is_empty());
+    }
+
+    #[test]
+    fn memo_sentences_name_fields_in_words() {
+        let d = Diff {
+            inputs: vec![
+                Change {
+                    field: "hurdle_rate".to_string(),
+                    old: Some("9%".to_string()),
+                    new: Some("10%".to_string()),
+                },
+                Change {
+                    field: "memo.sections.Site".to_string(),
+                    old: None,
+                    new: Some("New text".to_string()),
+                },
+            ],
+            scenarios_added: vec!["delay".to_string()],
+            scenarios_removed: Vec::new(),
+            flows: vec![FlowChange {
+                scenario: "base".to_string(),
+                when: "period 3".to_string(),
+                old: Some(Decimal::from(100)),
+                new: None,
+            }],
+            results: Vec::new(),
+        };
+        assert_eq!(
+            plain_lines(&d),
+            vec![
+                "Hurdle rate changed from 9% to 10%.",
+                "Narrative section \"Site\" added: \"New text\".",
+                "Scenario delay added.",
+                "Base case: the flow of 100.00 at period 3 removed.",
+            ]
+        );
+        assert!(plain_lines(&Diff {
+            inputs: Vec::new(),
+            scenarios_added: Vec::new(),
+            scenarios_removed: Vec::new(),
+            flows: Vec::new(),
+            results: Vec::new(),
+        })
+        .is_empty());
     }
 
     #[test]

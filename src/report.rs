@@ -59,6 +59,19 @@ pub struct MemoContext {
     pub charts: Vec<ScenarioCharts>,
     /// Templates that replace built-in ones, by name (a house style).
     pub templates: BTreeMap<String, String>,
+    /// What changed since the previous filed version of this deal; `None` outside the
+    /// archive and for a deal's first version (the memo then has no such section).
+    pub changes: Option<ChangesSince>,
+}
+
+/// The memo's account of what changed since the previous filed version of the deal.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct ChangesSince {
+    /// The previous version's folder name (`001`, ...).
+    pub version: String,
+    /// One plain sentence per change, inputs first, then results; empty when the two
+    /// versions differ only in bytes that change no field (comments, layout).
+    pub lines: Vec<String>,
 }
 
 /// The first 12 hex digits of a SHA-256: short enough for a footer, long enough to
@@ -310,11 +323,7 @@ pub fn format_date_long(date: NaiveDate) -> String {
 }
 
 fn decision_word(d: Decision) -> &'static str {
-    match d {
-        Decision::Accept => "accept",
-        Decision::Reject => "reject",
-        Decision::Indifferent => "indifferent",
-    }
+    d.label()
 }
 
 fn balance_kind_words(k: BalanceKind) -> &'static str {
@@ -406,6 +415,7 @@ struct View {
     has_cautions: bool,
     scenarios: Vec<ScenarioView>,
     version: String,
+    changes: Option<ChangesSince>,
 }
 
 #[derive(Debug, Serialize)]
@@ -802,6 +812,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         has_cautions: scenarios.iter().any(|s| !s.cautions.is_empty()),
         scenarios,
         version: env!("CARGO_PKG_VERSION").to_string(),
+        changes: ctx.changes.clone(),
     }
 }
 

@@ -582,3 +582,84 @@ fn a_house_style_is_filed_and_the_pdf_rebuilt_with_it() {
     let plain = file_memo(&deal, &archive);
     assert!(text(&plain.stdout).trim().ends_with("002"));
 }
+
+/// The text of a PDF by poppler's `pdftotext` (independent of candor's typesetter),
+/// with every run of whitespace made one space so that wrapped lines read whole.
+fn pdf_words(pdf: &Path) -> String {
+    let out = Command::new("pdftotext")
+        .args(["-enc", "UTF-8", s(pdf), "-"])
+        .output()
+        .expect("pdftotext runs");
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    text(&out.stdout)
+        .split_whitespace()
+        .collect::<Vec<_>>()
+        .join(" ")
+}
+
+/// A second version's memo says what changed since the first, from the same
+/// comparison `candor diff` prints (roots 5.60% and 15.65% before, none after: see
+/// `diff_names_the_flow_the_hurdle_and_the_lost_roots`), and `verify` rebuilds both
+/// PDFs byte for byte.
+#[test]
+fn a_new_version_memo_names_the_changes_since_the_previous() {
+    let dir = tempfile::tempdir().unwrap();
+    let (old, new) = quarry_pair(dir.path());
+    let archive = dir.path().join("archive");
+    let first = file_memo(&old, &archive);
+    assert_eq!(first.status.code(), Some(0), "{}", text(&first.stderr));
+    let second = file_memo(&new, &archive);
+    assert_eq!(second.status.code(), Some(0), "{}", text(&second.stderr));
+    let deal_dir = archive.join("corrie-vale-quarry");
+    let v1 = pdf_words(&deal_dir.join("001").join("corrie-vale-quarry.pdf"));
+    let v2 = pdf_words(&deal_dir.join("002").join("corrie-vale-quarry.pdf"));
+
+    assert!(!v1.contains("Changes since version"), "{v1}");
+    for phrase in [
+        "Changes since version 001",
+        "Hurdle rate changed from 9% to 10%.",
+        "Base case: the flow at 2036-04-01 changed from \u{2212}7,000,000.00 to \
+         \u{2212}9,000,000.00.",
+        "Base case: the IRR of 5.60% disappeared.",
+        "Base case: the IRR of 15.65% disappeared.",
+        "Base case: decision at hurdle changed from accept to reject.",
+    ] {
+        assert!(v2.contains(phrase), "`{phrase}` in\n{v2}");
+    }
+    // The section follows the headline figures and comes before the scenarios' pages.
+    let figures = v2.find("The figures at a glance").expect("figures heading");
+    let changes = v2
+        .find("Changes since version 001")
+        .expect("changes heading");
+    let risks = v2.find("Risks and narrative").expect("risks heading");
+    assert!(figures < changes && changes < risks);
+
+    let ok = candor(&["verify", s(&archive)]);
+    assert_eq!(
+        text(&ok.stdout),
+        "ok: 2 versions verified\n",
+        "{}",
+        text(&ok.stderr)
+    );
+    // Verifying the second version alone still finds the first to compare with.
+    let ok = candor(&["verify", s(&deal_dir.join("002"))]);
+    assert_eq!(text(&ok.stdout), "ok: 1 version verified\n");
+
+    // Refiling the new inputs files nothing, and a copy asked for with `--output`
+    // equals the filed memo, section included.
+    let copy = dir.path().join("copy.pdf");
+    let again = candor(&[
+        "memo",
+        s(&new),
+        "--archive",
+        s(&archive),
+        "--output",
+        s(&copy),
+    ]);
+    assert_eq!(again.status.code(), Some(0), "{}", text(&again.stderr));
+    assert!(text(&again.stderr).contains("unchanged: version 002"));
+    assert_eq!(
+        std::fs::read(&copy).unwrap(),
+        std::fs::read(deal_dir.join("002").join("corrie-vale-quarry.pdf")).unwrap()
+    );
+}

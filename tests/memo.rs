@@ -4,7 +4,9 @@
 //! The PDF checks use poppler-utils (`pdftotext`, `pdffonts`, `pdfdetach`, `pdfinfo`)
 //! and `qpdf`, independent readers of the files we write.
 
-use candor::commands::memo::{build_memo, sha256_hex, MemoInputs, MemoOutput};
+use candor::commands::memo::{
+    build_memo, build_memo_with_changes, sha256_hex, MemoInputs, MemoOutput,
+};
 use candor::engine::{
     Analysis, BalanceKind, BalanceRow, Caution, Decision, FlowPoint, FlowRow, Flows, IrrReport,
     Payback, ProfilePoint, Root, ScenarioAnalysis, SignBounds, Stance, Totals,
@@ -531,4 +533,42 @@ fn every_example_deal_builds_a_memo() {
         );
         tool("qpdf", &["--check", &pdf]);
     }
+}
+
+/// The "changes since" section of a filed version prints its sentences literally, even
+/// when a changed narrative field is made of markup characters, and sits after the
+/// headline figures.
+#[test]
+fn changes_since_a_version_print_literally() {
+    let (analysis, deal) = sample("Pump", SignoffDecision::Pending);
+    let line = format!("Summary changed from \"old\" to \"{HOSTILE}\".");
+    let changes = candor::report::ChangesSince {
+        version: "007".to_string(),
+        lines: vec![line.clone()],
+    };
+    let memo = build_memo_with_changes(
+        &analysis,
+        &deal,
+        MemoInputs {
+            source: SOURCE,
+            source_name: "pump.yaml",
+            templates: BTreeMap::new(),
+            created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
+        },
+        Some(changes),
+    )
+    .unwrap_or_else(|f| panic!("memo failed: {}", f.diagnostic));
+    assert!(!memo.markup.contains(HOSTILE), "unescaped in the markup");
+    let dir = tempfile::tempdir().expect("tempdir");
+    let pdf = write_pdf(dir.path(), "memo.pdf", &memo.pdf);
+    let text = normalise(&tool("pdftotext", &["-enc", "UTF-8", &pdf, "-"]));
+    assert!(text.contains(&line), "{line} not literal in:\n{text}");
+    let figures = text.find("The figures at a glance").expect("figures");
+    let changes = text
+        .find("Changes since version 007")
+        .expect("section title");
+    assert!(figures < changes);
+    // Without the section, the memo has no such heading.
+    let plain = memo_of(&analysis, &deal);
+    assert!(!plain.markup.contains("Changes since version"));
 }

@@ -64,8 +64,19 @@ pub fn build_memo(
     deal: &Deal,
     inputs: MemoInputs<'_>,
 ) -> Result<MemoOutput, MemoFailure> {
+    build_memo_with_changes(analysis, deal, inputs, None)
+}
+
+/// Builds the memo of a filed version, with its section on what changed since the
+/// previous version (`None` for a first version, which has no such section).
+pub fn build_memo_with_changes(
+    analysis: &Analysis,
+    deal: &Deal,
+    inputs: MemoInputs<'_>,
+    changes: Option<report::ChangesSince>,
+) -> Result<MemoOutput, MemoFailure> {
     let charts = draw_charts(analysis)?;
-    let markup = render_markup(analysis, deal, &inputs, &charts)?;
+    let markup = render_markup(analysis, deal, &inputs, &charts, changes)?;
     let pdf = typeset_markup(&markup, &charts, &inputs)?;
     Ok(MemoOutput { markup, pdf })
 }
@@ -82,6 +93,7 @@ fn render_markup(
     deal: &Deal,
     inputs: &MemoInputs<'_>,
     charts: &[chart::ScenarioCharts],
+    changes: Option<report::ChangesSince>,
 ) -> Result<String, MemoFailure> {
     let house_style = !inputs.templates.is_empty();
     let ctx = report::MemoContext {
@@ -90,6 +102,7 @@ fn render_markup(
         created: inputs.created,
         charts: charts.to_vec(),
         templates: inputs.templates.clone(),
+        changes,
     };
     report::render(analysis, deal, &ctx).map_err(|diagnostic| MemoFailure {
         diagnostic,
@@ -272,31 +285,35 @@ pub fn run(args: &MemoArgs) -> u8 {
         Ok(c) => c,
         Err(f) => return fail(&f.diagnostic, code_of(&f)),
     };
-    let markup = match render_markup(&analysis, &loaded.deal, &inputs, &charts) {
-        Ok(m) => m,
-        Err(f) => return fail(&f.diagnostic, code_of(&f)),
-    };
-    // The markup is written before typesetting so that a failing house style can be
-    // inspected.
-    if let Some(path) = &emit_typst {
-        if let Err(e) = write_atomically(path, markup.as_bytes()) {
-            let d = Diagnostic::error("write", format!("cannot write the markup: {e}"))
-                .in_file(path.display().to_string());
-            return fail(&d, EXIT_INTERNAL);
+    // The memo is made once, or under `--archive` once per filing attempt, since its
+    // section on changes depends on the version it will follow.
+    let make_pdf = |changes: Option<report::ChangesSince>| -> Result<Vec<u8>, u8> {
+        let markup = render_markup(&analysis, &loaded.deal, &inputs, &charts, changes)
+            .map_err(|f| fail(&f.diagnostic, code_of(&f)))?;
+        // The markup is written before typesetting so that a failing house style can be
+        // inspected.
+        if let Some(path) = &emit_typst {
+            if let Err(e) = write_atomically(path, markup.as_bytes()) {
+                let d = Diagnostic::error("write", format!("cannot write the markup: {e}"))
+                    .in_file(path.display().to_string());
+                return Err(fail(&d, EXIT_INTERNAL));
+            }
         }
-    }
-    let pdf = match typeset_markup(&markup, &charts, &inputs) {
-        Ok(p) => p,
-        Err(f) => return fail(&f.diagnostic, code_of(&f)),
+        typeset_markup(&markup, &charts, &inputs).map_err(|f| fail(&f.diagnostic, code_of(&f)))
     };
     // With `--archive` the memo goes into the archive, and next to the deal only when
     // `--output` asks for a copy.
-    if let Some(dir) = &args.archive {
-        let code = super::verify::file_memo(dir, &loaded, &analysis, &inputs, &pdf);
-        if code != EXIT_OK || args.output.is_none() {
-            return code;
-        }
-    }
+    let pdf = match &args.archive {
+        Some(dir) => match super::verify::file_memo(dir, &loaded, &analysis, &inputs, &make_pdf) {
+            Ok(pdf) if args.output.is_some() => pdf,
+            Ok(_) => return EXIT_OK,
+            Err(code) => return code,
+        },
+        None => match make_pdf(None) {
+            Ok(pdf) => pdf,
+            Err(code) => return code,
+        },
+    };
     let out = args
         .output
         .clone()

@@ -7,55 +7,95 @@ use crate::cli::VerifyArgs;
 use crate::commands::load::LoadedDeal;
 use crate::commands::memo::MemoInputs;
 use crate::engine::Analysis;
+use crate::report::ChangesSince;
 use std::io::Write as _;
 use std::path::Path;
 
-/// Files a finished memo in `dir`, printing the version's path on stdout; returns the
+/// How often a filing is retried when other filings of the same deal keep taking the
+/// next number first; each retry follows a filing that succeeded.
+const FILING_ATTEMPTS: usize = 64;
+
+/// Files a memo in `dir`, printing the version's path on stdout. `make_pdf` makes the
+/// memo given its "changes since" section (it reports its own failures and returns the
+/// exit code); it is called again when another filing takes the next number first.
+/// Returns the PDF that was filed (or that equals the unchanged latest version), or the
 /// exit code.
 pub fn file_memo(
     dir: &Path,
     loaded: &LoadedDeal,
     analysis: &Analysis,
     inputs: &MemoInputs<'_>,
-    pdf: &[u8],
-) -> u8 {
+    make_pdf: &dyn Fn(Option<ChangesSince>) -> Result<Vec<u8>, u8>,
+) -> Result<Vec<u8>, u8> {
     let epoch = std::env::var("SOURCE_DATE_EPOCH").ok();
     let filed_at = match archive::filing_time(epoch.as_deref()) {
         Ok(t) => t,
         Err(d) => {
             eprintln!("{}", d.render(None));
-            return EXIT_INVALID;
+            return Err(EXIT_INVALID);
         }
     };
-    let filing = Filing {
+    // Without a PDF, for finding the version this memo will follow.
+    let plan = Filing {
         deal: &loaded.deal,
         deal_file_name: inputs.source_name,
         source: &loaded.source,
         companions: &loaded.companions,
         templates: &inputs.templates,
         analysis,
-        pdf,
+        pdf: &[],
         memo_created: inputs.created,
         filed_at,
+        previous: None,
     };
-    match archive::file(dir, &filing) {
-        Ok(Filed::New { version, path }) => {
-            eprintln!("filed version {version}");
-            println!("{}", path.display());
-            EXIT_OK
-        }
-        Ok(Filed::Unchanged { version, path }) => {
-            eprintln!(
-                "unchanged: version {version} holds exactly these inputs; nothing new was filed"
-            );
-            println!("{}", path.display());
-            EXIT_OK
-        }
-        Err(d) => {
-            eprintln!("{}", d.render(None));
-            EXIT_INTERNAL
+    let mut latest = String::new();
+    for _ in 0..FILING_ATTEMPTS {
+        let previous = match archive::predecessor(dir, &plan) {
+            Ok(p) => p,
+            Err(d) => {
+                eprintln!("{}", d.render(None));
+                return Err(EXIT_INTERNAL);
+            }
+        };
+        let changes = previous.as_ref().map(|(version, folder)| {
+            archive::changes_since(version, folder, &loaded.deal, analysis)
+        });
+        let pdf = make_pdf(changes)?;
+        let filing = Filing {
+            pdf: &pdf,
+            previous: previous.as_ref().map(|(v, _)| v.as_str()),
+            ..plan.clone()
+        };
+        match archive::file(dir, &filing) {
+            Ok(Filed::New { version, path }) => {
+                eprintln!("filed version {version}");
+                println!("{}", path.display());
+                return Ok(pdf);
+            }
+            Ok(Filed::Unchanged { version, path }) => {
+                eprintln!(
+                    "unchanged: version {version} holds exactly these inputs; nothing new was filed"
+                );
+                println!("{}", path.display());
+                return Ok(pdf);
+            }
+            Ok(Filed::Overtaken { latest: now }) => latest = now,
+            Err(d) => {
+                eprintln!("{}", d.render(None));
+                return Err(EXIT_INTERNAL);
+            }
         }
     }
+    let d = crate::diag::Diagnostic::error(
+        "archive",
+        format!(
+            "other filings of this deal kept taking the next version number (the latest is \
+             {latest}); nothing was filed"
+        ),
+    )
+    .with_hint("run the command again");
+    eprintln!("{}", d.render(None));
+    Err(EXIT_INTERNAL)
 }
 
 /// Runs the command.
