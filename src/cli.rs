@@ -33,6 +33,8 @@ pub enum Command {
     Completions(CompletionsArgs),
     /// Print the man page (roff) on stdout.
     Manpage,
+    /// Print the JSON Schema of deal files, for YAML editors.
+    Schema,
 }
 
 /// Options of `candor check`.
@@ -141,6 +143,7 @@ pub fn run() -> ExitCode {
         Command::New(args) => crate::commands::new::run(&args),
         Command::Completions(args) => crate::commands::completions::run(&args),
         Command::Manpage => crate::commands::completions::manpage(),
+        Command::Schema => crate::commands::schema::run(),
     };
     ExitCode::from(code)
 }

@@ -29,4 +29,5 @@ pub mod input;
 pub mod model;
 pub mod pdf;
 pub mod report;
+pub mod schema;
 pub mod screen;

@@ -8,6 +8,7 @@ pub mod load;
 pub mod memo;
 pub mod new;
 pub mod rates;
+pub mod schema;
 pub mod verify;
 
 /// Exit code: everything held.

@@ -1,0 +1,282 @@
+//! A JSON Schema (draft 2020-12) of deal files, for YAML editors that complete and
+//! check fields as the analyst types.
+//!
+//! The schema is written by hand as a `serde_json` value rather than derived from
+//! types: the validator in [`crate::model::validate`] walks a positioned YAML tree, not
+//! serde types, so there is nothing to derive it from. To keep the two in step, the
+//! word lists come from the model where it exports them (currencies, day counts,
+//! frequencies) and the tests check the schema against the validator's verdict on the
+//! example deals and the malformed fixtures.
+//!
+//! The validator stays the judge: the schema describes the shape of a file after a YAML
+//! reader turns it into JSON (a date or `8%` is a string, `0.08` a number), so it
+//! cannot see limits such as six decimal places or an amount's size.
+
+use crate::model::values::{CURRENCIES, MAX_RATE};
+use crate::model::{DayCount, Frequency, MAX_FLOWS};
+use serde_json::{json, Value};
+
+/// Decisions a sign-off may record, as the validator accepts them.
+pub const DECISIONS: &[&str] = &["pending", "approved", "declined", "deferred"];
+
+/// Largest shift of inflows accepted, in periods or days.
+const MAX_SHIFT: i64 = 100_000;
+
+const FREQUENCIES: [Frequency; 6] = [
+    Frequency::Year,
+    Frequency::HalfYear,
+    Frequency::Quarter,
+    Frequency::Month,
+    Frequency::Week,
+    Frequency::Day,
+];
+
+/// A word the validator accepts in any letter case, surrounding spaces ignored: the
+/// canonical spellings are offered for completion, the pattern accepts the rest.
+fn word(words: &[&str], description: &str) -> Value {
+    let alternatives: Vec<String> = words
+        .iter()
+        .map(|w| {
+            w.chars()
+                .map(|c| {
+                    if c.is_ascii_alphabetic() {
+                        format!("[{}{}]", c.to_ascii_lowercase(), c.to_ascii_uppercase())
+                    } else if c.is_ascii_alphanumeric() {
+                        c.to_string()
+                    } else {
+                        format!("\\{c}")
+                    }
+                })
+                .collect()
+        })
+        .collect();
+    json!({
+        "description": description,
+        "anyOf": [
+            { "enum": words },
+            { "type": "string", "pattern": format!("^\\s*(?:{})\\s*$", alternatives.join("|")) }
+        ]
+    })
+}
+
+/// An optional field: an empty value (`key:` with nothing after it) counts as absent.
+fn optional(schema: Value) -> Value {
+    json!({ "anyOf": [schema, { "type": "null" }] })
+}
+
+/// The JSON Schema of a version 1 deal file.
+pub fn deal_schema() -> Value {
+    let frequencies: Vec<&str> = FREQUENCIES.iter().map(|f| f.as_str()).collect();
+    let day_counts: Vec<&str> = DayCount::ALL.iter().map(|d| d.as_str()).collect();
+    let decimal = "^\\s*[+-]?[0-9]+(\\.[0-9]+)?\\s*$";
+    json!({
+        "$schema": "https://json-schema.org/draft/2020-12/schema",
+        "title": "candor deal file, version 1",
+        "description": "A deal's cash-flow forecast for candor. `candor check` is the final word on validity.",
+        "type": "object",
+        "required": ["candor", "deal", "hurdle_rate", "cash_flows"],
+        "additionalProperties": false,
+        "properties": {
+            "candor": {
+                "description": "Format version; must be 1.",
+                "enum": [1, "1"]
+            },
+            "deal": {
+                "type": "object",
+                "required": ["name", "currency", "as_of"],
+                "additionalProperties": false,
+                "properties": {
+                    "name": {
+                        "description": "The deal's name, shown on the memo.",
+                        "anyOf": [
+                            { "type": "string", "pattern": "\\S" },
+                            { "type": ["number", "boolean"] }
+                        ]
+                    },
+                    "currency": {
+                        "description": "Current ISO 4217 code, in capitals.",
+                        "enum": CURRENCIES
+                    },
+                    "as_of": { "$ref": "#/$defs/date", "description": "The date of the forecast." }
+                }
+            },
+            "hurdle_rate": { "$ref": "#/$defs/rate", "description": "Annual rate the committee requires." },
+            "finance_rate": optional(json!({ "$ref": "#/$defs/rate", "description": "Annual cost of money borrowed (MIRR); default: hurdle_rate." })),
+            "reinvestment_rate": optional(json!({ "$ref": "#/$defs/rate", "description": "Annual return on money paid back early (MIRR); default: hurdle_rate." })),
+            "cash_flows": { "$ref": "#/$defs/cash_flows" },
+            "scenarios": optional(json!({
+                "description": "Named changes to the base case, kept in file order.",
+                "type": "object",
+                "propertyNames": { "not": { "const": "base" }, "pattern": "\\S" },
+                "additionalProperties": { "$ref": "#/$defs/scenario" }
+            })),
+            "memo": optional(json!({
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "recommendation": optional(json!({ "$ref": "#/$defs/text" })),
+                    "summary": optional(json!({ "$ref": "#/$defs/text" })),
+                    "risks": optional(json!({ "type": "array", "items": { "$ref": "#/$defs/text" } })),
+                    "sections": optional(json!({
+                        "type": "array",
+                        "items": {
+                            "type": "object",
+                            "required": ["title", "text"],
+                            "additionalProperties": false,
+                            "properties": {
+                                "title": { "$ref": "#/$defs/text" },
+                                "text": { "$ref": "#/$defs/text" }
+                            }
+                        }
+                    }))
+                }
+            })),
+            "signoff": optional(json!({
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "prepared_by": optional(json!({ "$ref": "#/$defs/text" })),
+                    "reviewed_by": optional(json!({ "$ref": "#/$defs/text" })),
+                    "decision": optional(word(DECISIONS, "Default: pending.")),
+                    "date": optional(json!({ "$ref": "#/$defs/date" }))
+                }
+            }))
+        },
+        "$defs": {
+            "text": {
+                "description": "Text; quote it when it contains `: ` or ` #`.",
+                "type": ["string", "number", "boolean"]
+            },
+            "date": {
+                "description": "A calendar date, YYYY-MM-DD.",
+                "type": "string",
+                "pattern": "^\\s*[0-9]{4}-[0-9]{2}-[0-9]{2}\\s*$"
+            },
+            "rate": {
+                "description": "Annual effective rate: 8%, \"8.25%\" or 0.08; above -100%.",
+                "anyOf": [
+                    { "type": "number", "exclusiveMinimum": -1, "maximum": MAX_RATE },
+                    { "type": "string", "pattern": "^\\s*[+-]?[0-9]+(\\.[0-9]+)?\\s*%?\\s*$" }
+                ]
+            },
+            "amount": {
+                "description": "Exact decimal, negative when paid by the investor; at most 6 decimal places.",
+                "anyOf": [
+                    { "type": "number" },
+                    { "type": "string", "pattern": decimal }
+                ]
+            },
+            "factor": {
+                "description": "A multiplier of 0 or more: 0.85 is 15% less.",
+                "anyOf": [
+                    { "type": "number", "minimum": 0 },
+                    { "type": "string", "pattern": "^\\s*\\+?[0-9]+(\\.[0-9]+)?\\s*$" }
+                ]
+            },
+            "shift": {
+                "description": "Whole number of periods (dated flows: days); negative moves earlier.",
+                "anyOf": [
+                    { "type": "integer", "minimum": -MAX_SHIFT, "maximum": MAX_SHIFT },
+                    { "type": "string", "pattern": "^\\s*[+-]?[0-9]+\\s*$" }
+                ]
+            },
+            "every": word(&frequencies, "Period length of periodic flows."),
+            "day_count": word(&day_counts, "ISDA 2006 day count that turns dates into years."),
+            "cash_flows": cash_flows_schema(),
+            "scenario": {
+                "description": "Changes to the base case.",
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "description": optional(json!({ "$ref": "#/$defs/text" })),
+                    "inflows_factor": optional(json!({ "$ref": "#/$defs/factor", "description": "Multiplies every positive flow; default 1." })),
+                    "outflows_factor": optional(json!({ "$ref": "#/$defs/factor", "description": "Multiplies every negative flow; default 1." })),
+                    "shift_inflows": optional(json!({ "$ref": "#/$defs/shift", "description": "Moves every positive flow later; default 0." })),
+                    "cash_flows": optional(json!({ "$ref": "#/$defs/cash_flows", "description": "Replaces the flows; same every or day_count as the base case." }))
+                }
+            }
+        }
+    })
+}
+
+/// The `cash_flows` block in its four forms: periodic, dated, and either from a CSV file.
+fn cash_flows_schema() -> Value {
+    json!({
+        "description": "Periodic (every + amounts), dated (day_count + dated), or from a CSV file (csv + every or day_count).",
+        "type": "object",
+        "additionalProperties": false,
+        "properties": {
+            "every": { "$ref": "#/$defs/every" },
+            "start": optional(json!({ "$ref": "#/$defs/date", "description": "The date of period 0." })),
+            "amounts": {
+                "description": "One amount per period, from period 0.",
+                "type": "array",
+                "minItems": 1,
+                "maxItems": MAX_FLOWS,
+                "items": { "$ref": "#/$defs/amount" }
+            },
+            "day_count": { "$ref": "#/$defs/day_count" },
+            "dated": {
+                "description": "Flows in any order; flows on one date are netted.",
+                "type": "array",
+                "minItems": 1,
+                "maxItems": MAX_FLOWS,
+                "items": {
+                    "type": "object",
+                    "required": ["date", "amount"],
+                    "additionalProperties": false,
+                    "properties": {
+                        "date": { "$ref": "#/$defs/date" },
+                        "amount": { "$ref": "#/$defs/amount" },
+                        "note": optional(json!({ "$ref": "#/$defs/text" }))
+                    }
+                }
+            },
+            "csv": {
+                "$ref": "#/$defs/text",
+                "description": "CSV file of flows, relative to the deal file's folder."
+            }
+        },
+        "oneOf": [
+            {
+                "title": "periodic",
+                "required": ["every", "amounts"],
+                "not": { "anyOf": [
+                    { "required": ["day_count"] }, { "required": ["dated"] }, { "required": ["csv"] }
+                ] }
+            },
+            {
+                "title": "dated",
+                "required": ["day_count", "dated"],
+                "not": { "anyOf": [
+                    { "required": ["every"] }, { "required": ["amounts"] },
+                    { "required": ["start"] }, { "required": ["csv"] }
+                ] }
+            },
+            {
+                "title": "periodic, from a CSV file with columns period,amount[,note]",
+                "required": ["csv", "every"],
+                "not": { "anyOf": [
+                    { "required": ["day_count"] }, { "required": ["amounts"] }, { "required": ["dated"] }
+                ] }
+            },
+            {
+                "title": "dated, from a CSV file with columns date,amount[,note]",
+                "required": ["csv", "day_count"],
+                "not": { "anyOf": [
+                    { "required": ["every"] }, { "required": ["amounts"] }, { "required": ["dated"] }
+                ] }
+            }
+        ]
+    })
+}
+
+/// The schema as the text `candor schema` prints and `deal.schema.json` holds.
+pub fn deal_schema_text() -> String {
+    // serde_json keeps insertion order here (the crate's `preserve_order` feature), so
+    // the text is the same from run to run.
+    let mut text = serde_json::to_string_pretty(&deal_schema())
+        .expect("a JSON value built in code always serialises");
+    text.push('\n');
+    text
+}
