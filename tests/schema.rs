@@ -66,6 +66,12 @@ fn every_example_deal_validates() {
             continue;
         }
         let text = std::fs::read_to_string(&path).unwrap();
+        // The modeline that points YAML editors at the committed schema.
+        assert!(
+            text.starts_with("# yaml-language-server: $schema=../deal.schema.json\n"),
+            "{} lacks the schema modeline",
+            path.display()
+        );
         let errs = errors(&v, &text);
         assert!(errs.is_empty(), "{}: {errs:#?}", path.display());
         seen += 1;
