@@ -99,6 +99,17 @@ fn a_name_without_letters_needs_an_output_file() {
 }
 
 #[test]
+fn a_missing_folder_is_an_input_error() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = candor(
+        dir.path(),
+        &["new", "Ash Court", "-o", "no/such/folder/a.yaml"],
+    );
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("folder does not exist"));
+}
+
+#[test]
 fn same_name_gives_the_same_bytes() {
     let dir = tempfile::tempdir().unwrap();
     candor(dir.path(), &["new", "Ash Court", "-o", "a.yaml"]);

@@ -105,18 +105,18 @@ signoff:                         # optional
   decision: pending              # pending, approved, declined or deferred
 "#;
 
-/// A file name from a deal's name: lower-case ASCII letters and digits, every other
-/// run of characters one hyphen. Empty when the name has no ASCII letter or digit.
+/// A file name from a deal's name: letters and digits (of any script) in lower case,
+/// every other run of characters one hyphen. Empty when the name has no letter or digit.
 pub fn slug(name: &str) -> String {
     let mut out = String::with_capacity(name.len());
     let mut gap = false;
     for c in name.chars() {
-        if c.is_ascii_alphanumeric() {
+        if c.is_alphanumeric() {
             if gap && !out.is_empty() {
                 out.push('-');
             }
             gap = false;
-            out.push(c.to_ascii_lowercase());
+            out.extend(c.to_lowercase());
         } else {
             gap = true;
         }
@@ -197,6 +197,11 @@ pub fn run(args: &NewArgs) -> u8 {
             eprintln!("error: {shown} already exists; candor new never writes over a file");
             EXIT_INVALID
         }
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
+            // The folder named in `-o` does not exist: a mistake in the input.
+            eprintln!("error: cannot write {shown}: its folder does not exist");
+            EXIT_INVALID
+        }
         Err(e) => {
             eprintln!("error: cannot write {shown}: {e}");
             EXIT_INTERNAL
@@ -212,7 +217,8 @@ mod tests {
     fn slugs() {
         assert_eq!(slug("Harbour Row Offices"), "harbour-row-offices");
         assert_eq!(slug("  A&B: phase 2!  "), "a-b-phase-2");
-        assert_eq!(slug("Café Müller"), "caf-m-ller");
+        assert_eq!(slug("Café Müller"), "café-müller");
+        assert_eq!(slug("Ωmega/Δelta"), "ωmega-δelta");
         assert_eq!(slug("—"), "");
     }
 }
