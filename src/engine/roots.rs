@@ -31,8 +31,10 @@ const ORDERS: usize = 5;
 const EPS: f64 = f64::EPSILON * 0.5;
 /// Point evaluations allowed per series before giving up (keeps the search finite).
 const EVAL_BUDGET: usize = 40_000;
+/// Double-double point evaluations allowed per half-line for undecided pieces.
+const DD_BUDGET: usize = 3_000;
 /// Largest exponent for exact big-integer checks of multiple roots.
-const EXACT_DEGREE_LIMIT: u64 = 4_000;
+const EXACT_DEGREE_LIMIT: u64 = 2_000;
 
 /// One real root of `f`, in `y = ln(1 + rate per step)`.
 #[derive(Debug, Clone, PartialEq)]
@@ -153,6 +155,9 @@ struct Solver<'a> {
     s: &'a Series,
     /// True while subdividing: interval ends then need every order.
     in_search: bool,
+    /// Double-double point evaluations spent on undecided pieces (bounded, so that a
+    /// pathological series ends in "undecided" rather than a long wait).
+    dd_spent: usize,
     evals: usize,
     cache: Vec<(u64, Point)>,
 }
@@ -624,12 +629,14 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         Solver {
             s: &series,
             in_search: false,
+            dd_spent: 0,
             evals: 0,
             cache: Vec::new(),
         },
         Solver {
             s: &reversed,
             in_search: false,
+            dd_spent: 0,
             evals: 0,
             cache: Vec::new(),
         },
@@ -1079,9 +1086,11 @@ fn settle_piece(
     sb: i8,
     depth: u32,
 ) -> Option<Vec<FoundRoot>> {
-    if depth > 10 || a.is_nan() || b.is_nan() || a >= b {
+    if depth > 10 || a.is_nan() || b.is_nan() || a >= b || solver.dd_spent > DD_BUDGET {
         return None;
     }
+    // Each visit may run a grid and a few single evaluations.
+    solver.dd_spent += 70;
     let bound = (1..ORDERS).find(|&d| solver.excludes_zero(a, b, d));
     if let Some(m) = bound {
         if m == 1 {
