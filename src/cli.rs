@@ -23,6 +23,8 @@ pub enum Command {
     Rates(RatesArgs),
     /// Typeset the committee memo as an archival PDF.
     Memo(MemoArgs),
+    /// Gather the memos of several deals into one PDF for a committee meeting.
+    Pack(PackArgs),
     /// Check filed memos: hashes, recomputed figures and rebuilt PDFs.
     Verify(VerifyArgs),
     /// Show what changed between two deals or two filed versions.
@@ -84,6 +86,26 @@ pub struct MemoArgs {
     /// File the memo, its inputs and figures as a new version in this archive folder.
     #[arg(long, value_name = "DIR")]
     pub archive: Option<PathBuf>,
+    /// Keep running: rebuild the memo whenever the deal file or its CSV files change.
+    #[arg(long, conflicts_with = "archive")]
+    pub watch: bool,
+}
+
+/// Options of `candor pack`.
+#[derive(Debug, Args)]
+pub struct PackArgs {
+    /// The deal files, in the order the pack presents them.
+    #[arg(required = true, value_name = "DEAL.yaml")]
+    pub files: Vec<PathBuf>,
+    /// Where to write the pack.
+    #[arg(short, long, value_name = "FILE.pdf")]
+    pub output: PathBuf,
+    /// The meeting's title, printed on the cover.
+    #[arg(long, value_name = "TEXT", default_value = "Investment committee pack")]
+    pub title: String,
+    /// Leave out invalid deals (named on the cover) instead of writing nothing.
+    #[arg(long)]
+    pub skip_invalid: bool,
 }
 
 /// Options of `candor verify`.
@@ -138,6 +160,7 @@ pub fn run() -> ExitCode {
         Command::Check(args) => crate::commands::check::run(&args),
         Command::Rates(args) => crate::commands::rates::run(&args),
         Command::Memo(args) => crate::commands::memo::run(&args),
+        Command::Pack(args) => crate::commands::pack::run(&args),
         Command::Verify(args) => crate::commands::verify::run(&args),
         Command::Diff(args) => crate::commands::diff::run(&args),
         Command::New(args) => crate::commands::new::run(&args),

@@ -92,6 +92,57 @@ pub fn render(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> Result<Str
         .map_err(template_diagnostic)
 }
 
+/// Renders the memo's content without its document-level settings, for a document
+/// that gathers several memos (`candor pack`). Every file the markup reads (charts,
+/// the attached deal file) is looked up under `prefix` (such as `/deals/1`), so that
+/// the memos of one document do not share names.
+pub fn render_body(
+    analysis: &Analysis,
+    deal: &Deal,
+    ctx: &MemoContext,
+    prefix: &str,
+) -> Result<String, Diagnostic> {
+    let mut view = build_view(analysis, deal, ctx);
+    view.body_only = true;
+    view.source_file = format!("{prefix}{}", view.source_file);
+    for s in &mut view.scenarios {
+        for path in [
+            &mut s.charts.npv_profile,
+            &mut s.charts.balance_paths,
+            &mut s.charts.cash_flows,
+        ]
+        .into_iter()
+        .flatten()
+        {
+            *path = format!("{prefix}{path}");
+        }
+    }
+    let env = environment(&ctx.templates)?;
+    let template = env
+        .get_template(MAIN_TEMPLATE)
+        .map_err(template_diagnostic)?;
+    template
+        .render(Value::from_serialize(&view))
+        .map_err(template_diagnostic)
+}
+
+/// Renders a template of candor's own that is not part of the house style (such as the
+/// cover of a pack) with the memo's escaping rules: every printed value is escaped for
+/// Typst markup, and `|str` makes a string literal.
+pub fn render_template(
+    name: &str,
+    source: &str,
+    view: &impl Serialize,
+) -> Result<String, Diagnostic> {
+    let mut env = environment(&BTreeMap::new())?;
+    env.add_template_owned(name.to_string(), source.to_string())
+        .map_err(template_diagnostic)?;
+    let template = env.get_template(name).map_err(template_diagnostic)?;
+    template
+        .render(Value::from_serialize(view))
+        .map_err(template_diagnostic)
+}
+
 fn template_diagnostic(err: TemplateError) -> Diagnostic {
     let mut message = format!("the memo template failed: {}", err.kind());
     if let Some(detail) = err.detail() {
@@ -416,6 +467,9 @@ struct View {
     scenarios: Vec<ScenarioView>,
     version: String,
     changes: Option<ChangesSince>,
+    /// True when the memo is part of a larger document, which owns the document-level
+    /// settings.
+    body_only: bool,
 }
 
 #[derive(Debug, Serialize)]
@@ -813,6 +867,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         scenarios,
         version: env!("CARGO_PKG_VERSION").to_string(),
         changes: ctx.changes.clone(),
+        body_only: false,
     }
 }
 

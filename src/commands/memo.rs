@@ -231,6 +231,9 @@ fn fail(diag: &Diagnostic, code: u8) -> u8 {
 
 /// Runs the command.
 pub fn run(args: &MemoArgs) -> u8 {
+    if args.watch {
+        return super::watch::run(args);
+    }
     let emit_typst = match args.emit.as_deref() {
         None => None,
         Some([kind, file]) if kind == "typst" => Some(PathBuf::from(file)),

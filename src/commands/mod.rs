@@ -7,9 +7,11 @@ pub mod diff;
 pub mod load;
 pub mod memo;
 pub mod new;
+pub mod pack;
 pub mod rates;
 pub mod schema;
 pub mod verify;
+pub mod watch;
 
 /// Exit code: everything held.
 pub const EXIT_OK: u8 = 0;
