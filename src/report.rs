@@ -255,15 +255,8 @@ fn group_thousands(digits: &str) -> String {
 
 /// Money with thousands separators and two decimals: `1,234,567.89`, `−950,000.00`.
 pub fn format_money(amount: Decimal) -> String {
-    let rounded = amount.round_dp(2);
-    let text = format!("{:.2}", rounded.abs());
-    let (int, frac) = text.split_once('.').unwrap_or((text.as_str(), "00"));
-    let sign = if rounded.is_sign_negative() && !rounded.is_zero() {
-        MINUS.to_string()
-    } else {
-        String::new()
-    };
-    format!("{sign}{}.{frac}", group_thousands(int))
+    // The terminal's formatting, with a typographic minus sign for print.
+    crate::format::money(amount).replacen('-', &MINUS.to_string(), 1)
 }
 
 /// Money with the currency code in front: `EUR 1,234.00`.
