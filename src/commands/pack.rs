@@ -136,23 +136,6 @@ fn stance_word(s: Stance) -> &'static str {
     }
 }
 
-/// The pack's date: `SOURCE_DATE_EPOCH` when given, else now (UTC).
-fn pack_time(source_date_epoch: Option<&str>) -> Result<NaiveDateTime, Diagnostic> {
-    match source_date_epoch.map(str::trim) {
-        None | Some("") => {
-            let secs = std::time::SystemTime::now()
-                .duration_since(std::time::UNIX_EPOCH)
-                .map(|d| d.as_secs())
-                .unwrap_or(0);
-            let secs = i64::try_from(secs).unwrap_or(0);
-            Ok(chrono::DateTime::from_timestamp(secs, 0)
-                .map(|t| t.naive_utc())
-                .unwrap_or_default())
-        }
-        Some(_) => pdf::creation_time(chrono::NaiveDate::default(), source_date_epoch),
-    }
-}
-
 /// Files the typesetter can read, as (virtual path, bytes).
 pub type Files = Vec<(String, Vec<u8>)>;
 
@@ -249,13 +232,14 @@ pub fn run(args: &PackArgs) -> u8 {
     if progress {
         eprintln!("candor pack: analysing {} deals", args.files.len());
     }
-    let created = match pack_time(std::env::var("SOURCE_DATE_EPOCH").ok().as_deref()) {
-        Ok(c) => c,
-        Err(d) => {
-            eprintln!("{}", d.render(None));
-            return EXIT_INVALID;
-        }
-    };
+    let created =
+        match crate::archive::filing_time(std::env::var("SOURCE_DATE_EPOCH").ok().as_deref()) {
+            Ok(c) => c,
+            Err(d) => {
+                eprintln!("{}", d.render(None));
+                return EXIT_INVALID;
+            }
+        };
     type Loaded = Result<Result<PackedDeal, Diagnostic>, LoadFailure>;
     let results: Vec<(PathBuf, Loaded)> = args
         .files
