@@ -251,6 +251,19 @@ fn io_words(e: &std::io::Error) -> String {
 }
 
 /// The files of a version besides the manifest, as (path inside the version, role, bytes).
+/// Manifest entries (path, role, size, SHA-256) for files about to be filed.
+fn file_entries(files: &[(String, Role, Vec<u8>)]) -> Vec<FileEntry> {
+    files
+        .iter()
+        .map(|(path, role, bytes)| FileEntry {
+            path: path.clone(),
+            role: *role,
+            bytes: bytes.len() as u64,
+            sha256: sha256_hex(bytes),
+        })
+        .collect()
+}
+
 fn version_files(
     filing: &Filing<'_>,
     slug: &str,
@@ -474,15 +487,7 @@ pub fn file(archive: &Path, filing: &Filing<'_>) -> Result<Filed, Diagnostic> {
             &deal_dir,
         )
     })?;
-    let mut entries: Vec<FileEntry> = files
-        .iter()
-        .map(|(path, role, bytes)| FileEntry {
-            path: path.clone(),
-            role: *role,
-            bytes: bytes.len() as u64,
-            sha256: sha256_hex(bytes),
-        })
-        .collect();
+    let mut entries: Vec<FileEntry> = file_entries(&files);
     entries.sort_by(|a, b| a.path.cmp(&b.path));
     let next = match versions.last() {
         Some((n, name)) => {
@@ -613,15 +618,7 @@ pub fn predecessor(
     let Some((_, latest)) = versions.last() else {
         return Ok(None);
     };
-    let entries: Vec<FileEntry> = version_files(filing, "memo")?
-        .iter()
-        .map(|(path, role, bytes)| FileEntry {
-            path: path.clone(),
-            role: *role,
-            bytes: bytes.len() as u64,
-            sha256: sha256_hex(bytes),
-        })
-        .collect();
+    let entries: Vec<FileEntry> = file_entries(&version_files(filing, "memo")?);
     let same_as_latest = read_manifest(&deal_dir.join(latest))
         .map(|m| m.input_key() == input_key(&entries))
         .unwrap_or(false);
