@@ -82,13 +82,17 @@ pub fn short_hash(sha256_hex: &str) -> String {
 
 /// Renders the memo's Typst markup.
 pub fn render(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> Result<String, Diagnostic> {
-    let view = build_view(analysis, deal, ctx);
+    render_view(&build_view(analysis, deal, ctx), ctx)
+}
+
+/// The memo template (built in, or the house style's) applied to a view.
+fn render_view(view: &View, ctx: &MemoContext) -> Result<String, Diagnostic> {
     let env = environment(&ctx.templates)?;
     let template = env
         .get_template(MAIN_TEMPLATE)
         .map_err(template_diagnostic)?;
     template
-        .render(Value::from_serialize(&view))
+        .render(Value::from_serialize(view))
         .map_err(template_diagnostic)
 }
 
@@ -117,13 +121,7 @@ pub fn render_body(
             *path = format!("{prefix}{path}");
         }
     }
-    let env = environment(&ctx.templates)?;
-    let template = env
-        .get_template(MAIN_TEMPLATE)
-        .map_err(template_diagnostic)?;
-    template
-        .render(Value::from_serialize(&view))
-        .map_err(template_diagnostic)
+    render_view(&view, ctx)
 }
 
 /// Renders a template of candor's own that is not part of the house style (such as the
@@ -465,14 +463,29 @@ struct View {
     body_only: bool,
 }
 
+/// A creation time split into the fields of Typst's `datetime(...)`.
 #[derive(Debug, Serialize)]
-struct CreatedView {
+pub struct CreatedView {
     year: i32,
     month: u32,
     day: u32,
     hour: u32,
     minute: u32,
     second: u32,
+}
+
+impl CreatedView {
+    /// The fields of `t`.
+    pub fn of(t: NaiveDateTime) -> Self {
+        Self {
+            year: t.year(),
+            month: t.month(),
+            day: t.day(),
+            hour: t.hour(),
+            minute: t.minute(),
+            second: t.second(),
+        }
+    }
 }
 
 #[derive(Debug, Serialize)]
@@ -815,14 +828,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         source_name: ctx.source_name.clone(),
         attachment_name: attachment_name(&ctx.source_name),
         source_file: SOURCE_FILE.to_string(),
-        created: CreatedView {
-            year: c.year(),
-            month: c.month(),
-            day: c.day(),
-            hour: c.hour(),
-            minute: c.minute(),
-            second: c.second(),
-        },
+        created: CreatedView::of(c),
         author: deal.signoff.as_ref().and_then(|s| s.prepared_by.clone()),
         recommendation: deal
             .memo

@@ -9,10 +9,14 @@ use crate::cli::NewArgs;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-/// The starter with yearly flows; `{NAME}` becomes the deal's name as a quoted YAML string.
-const PERIODIC: &str = r#"# A starter deal file written by `candor new`. The figures below are an invented
+/// The opening of the starter with yearly flows; in every part `{NAME}` becomes the
+/// deal's name as a quoted YAML string and `{FILE}` the file's name.
+const PERIODIC_HEAD: &str = r#"# A starter deal file written by `candor new`. The figures below are an invented
 # example: replace them with the deal's own forecast, then run
-#   candor check {FILE}
+"#;
+
+/// The lines both starters share, from the commands to run down to `cash_flows:`.
+const COMMON: &str = r#"#   candor check {FILE}
 #   candor rates {FILE}
 # Every field is described in candor's README, section "The deal file".
 candor: 1                        # format version: this candor reads version 1
@@ -27,7 +31,10 @@ finance_rate: 6%                 # optional (MIRR): cost of money borrowed; defa
 reinvestment_rate: 7%            # optional (MIRR): return on money paid back early; default the hurdle
 
 cash_flows:
-  every: year                    # year, half-year, quarter, month, week or day
+"#;
+
+/// The periodic starter's flows, scenarios, memo and sign-off.
+const PERIODIC_BODY: &str = r#"  every: year                    # year, half-year, quarter, month, week or day
   start: 2027-04-01              # optional: the date of period 0
   amounts: [-2400000,            # period 0: the investment (negative = paid by the investor)
             310000, 420000,      # periods 1-2: ramping up
@@ -58,25 +65,13 @@ signoff:                         # optional
   decision: pending              # pending, approved, declined or deferred
 "#;
 
-/// The starter with dated flows.
-const DATED: &str = r#"# A starter deal file written by `candor new --dated`. The figures below are an
+/// The opening of the starter with dated flows.
+const DATED_HEAD: &str = r#"# A starter deal file written by `candor new --dated`. The figures below are an
 # invented example: replace them with the deal's own forecast, then run
-#   candor check {FILE}
-#   candor rates {FILE}
-# Every field is described in candor's README, section "The deal file".
-candor: 1                        # format version: this candor reads version 1
+"#;
 
-deal:
-  name: {NAME}
-  currency: EUR                  # ISO 4217 code in capitals, such as GBP or USD
-  as_of: 2027-01-15              # the date the forecast was made, YYYY-MM-DD
-
-hurdle_rate: 9%                  # the annual return the committee requires
-finance_rate: 6%                 # optional (MIRR): cost of money borrowed; default the hurdle
-reinvestment_rate: 7%            # optional (MIRR): return on money paid back early; default the hurdle
-
-cash_flows:
-  day_count: act/365f            # act/365f, act/360, act/act-isda, 30/360, 30e/360 or 30e/360-isda
+/// The dated starter's flows, scenarios, memo and sign-off.
+const DATED_BODY: &str = r#"  day_count: act/365f            # act/365f, act/360, act/act-isda, 30/360, 30e/360 or 30e/360-isda
   dated:                         # any order; flows on one date are added together
     - { date: 2027-03-01, amount: -1800000, note: purchase and fit-out }
     - { date: 2027-09-30, amount: 140000 }
@@ -139,7 +134,12 @@ pub fn starter(name: &str, dated: bool, file: &str) -> String {
         format!("'{}'", file.replace('\'', "'\\''"))
     };
     let shown: String = shown.chars().filter(|c| !c.is_control()).collect();
-    let template = if dated { DATED } else { PERIODIC };
+    let (head, body) = if dated {
+        (DATED_HEAD, DATED_BODY)
+    } else {
+        (PERIODIC_HEAD, PERIODIC_BODY)
+    };
+    let template = [head, COMMON, body].concat();
     template
         .replace("{FILE}", &shown)
         .replace("{NAME}", &quoted)

@@ -44,12 +44,7 @@ pub struct PackedDeal {
 struct PackView {
     title: String,
     date: String,
-    year: i32,
-    month: u32,
-    day: u32,
-    hour: u32,
-    minute: u32,
-    second: u32,
+    created: report::CreatedView,
     deal_count: usize,
     skipped: Vec<String>,
     rows: Vec<RowView>,
@@ -146,16 +141,10 @@ pub fn pack_markup(
     deals: &[PackedDeal],
     skipped: &[String],
 ) -> Result<(String, Files), Diagnostic> {
-    use chrono::{Datelike, Timelike};
     let view = PackView {
         title: title.to_string(),
         date: report::format_date_long(created.date()),
-        year: created.year(),
-        month: created.month(),
-        day: created.day(),
-        hour: created.hour(),
-        minute: created.minute(),
-        second: created.second(),
+        created: report::CreatedView::of(created),
         deal_count: deals.len(),
         skipped: skipped.to_vec(),
         rows: deals
