@@ -10,6 +10,9 @@ use std::path::{Path, PathBuf};
 /// stray multi-gigabyte file is refused at once.
 pub const MAX_FILE_BYTES: u64 = 10 * 1024 * 1024;
 
+/// The UTF-8 byte-order mark, which `input::decode` drops.
+const BOM: &[u8] = b"\xEF\xBB\xBF";
+
 /// A deal read from disk together with the exact bytes it came from.
 #[derive(Debug, Clone)]
 pub struct LoadedDeal {
@@ -70,20 +73,6 @@ fn io_words(e: &std::io::Error) -> String {
     }
 }
 
-/// Decodes UTF-8; on failure gives the line and column of the first byte that is not.
-fn utf8(bytes: &[u8]) -> Result<String, (usize, usize)> {
-    match std::str::from_utf8(bytes) {
-        Ok(s) => Ok(s.to_string()),
-        Err(e) => {
-            let good = &bytes[..e.valid_up_to()];
-            let line = good.iter().filter(|b| **b == b'\n').count() + 1;
-            let line_start = good.iter().rposition(|b| *b == b'\n').map_or(0, |i| i + 1);
-            let column = String::from_utf8_lossy(&good[line_start..]).chars().count() + 1;
-            Err((line, column))
-        }
-    }
-}
-
 /// Reads, parses and validates a deal file.
 pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
     let shown = path.display().to_string();
@@ -98,12 +87,19 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
             return Err(fail(d, None));
         }
     };
-    let text = utf8(&source).map_err(|(line, column)| {
-        let d = Diagnostic::error("not-utf8", "the file is not UTF-8 text")
-            .at(line, column)
-            .with_hint("save the file as UTF-8");
-        fail(d, None)
-    })?;
+    let text = match crate::input::decode(&source) {
+        Ok(t) => t.to_string(),
+        Err(e) => {
+            // Before a bad byte the lines are shown as they are, the byte itself as a
+            // replacement character under the caret; a file in another encoding has no
+            // lines worth showing.
+            let lines = e.position().map(|_| {
+                let body = source.strip_prefix(BOM).unwrap_or(&source);
+                String::from_utf8_lossy(body).into_owned()
+            });
+            return Err(fail(e.diagnostic(), lines));
+        }
+    };
     let with_file = |diags: Vec<Diagnostic>| -> Vec<Diagnostic> {
         diags
             .into_iter()
@@ -120,8 +116,16 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
     let mut read = |name: &str| -> Result<String, String> {
         let full = folder.join(name);
         let bytes = read_limited(&full).map_err(|(why, _)| why)?;
-        let text = std::str::from_utf8(&bytes)
-            .map_err(|_| "it is not UTF-8 text".to_string())?
+        let text = crate::input::decode(&bytes)
+            .map_err(|e| {
+                let at = e
+                    .position()
+                    .map(|p| format!(" at line {}, column {}", p.line, p.column))
+                    .unwrap_or_default();
+                let what = e.message();
+                let what = what.trim_start_matches("the file ");
+                format!("it {what}{at}; {}", e.hint())
+            })?
             .to_string();
         if !companions.iter().any(|(n, _)| n == name) {
             companions.push((name.to_string(), bytes));

@@ -23,9 +23,15 @@ pub struct CsvError {
 }
 
 /// Splits CSV text into rows of cells. Blank lines are skipped; a leading byte-order
-/// mark is ignored.
+/// mark is ignored; a control character (such as NUL) is an error.
 pub fn read(text: &str) -> Result<Vec<Vec<Cell>>, CsvError> {
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    if let Some(d) = super::first_control(text) {
+        return Err(CsvError {
+            message: d.message,
+            position: d.position.unwrap_or(Position { line: 1, column: 1 }),
+        });
+    }
     let mut rows = Vec::new();
     let mut row: Vec<Cell> = Vec::new();
     let mut chars = text.chars().peekable();

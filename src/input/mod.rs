@@ -4,7 +4,9 @@
 //! every later problem can point at the exact place in the file.
 //!
 //! The reader also holds the limits that keep hostile input harmless: a bound on
-//! aliases and on what they expand to, and on nesting depth.
+//! aliases and on what they expand to, and on nesting depth; and [`decode`], which
+//! turns a file's bytes into text (UTF-8 only, a leading byte-order mark dropped) and
+//! says plainly when a file is in another encoding.
 
 use crate::diag::{Diagnostic, Position};
 use saphyr_parser::{Event, Parser, ScalarStyle, Span};
@@ -106,10 +108,177 @@ enum Frame {
     Mapping(Vec<(Node, Node)>, Option<Node>, Position, usize),
 }
 
+/// The UTF-8 byte-order mark as a character.
+const BOM: char = '\u{feff}';
+
+/// Byte-order marks of encodings other than UTF-8, longest first: UTF-32's
+/// little-endian mark begins with UTF-16's (Unicode 15, section 23.8).
+const OTHER_MARKS: [(&[u8], &str); 4] = [
+    (&[0xFF, 0xFE, 0, 0], "UTF-32LE"),
+    (&[0, 0, 0xFE, 0xFF], "UTF-32BE"),
+    (&[0xFF, 0xFE], "UTF-16LE"),
+    (&[0xFE, 0xFF], "UTF-16BE"),
+];
+
+/// Why a file's bytes are not text candor can read.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum DecodeError {
+    /// The file is in another Unicode encoding.
+    OtherEncoding {
+        /// The encoding's name, as IANA registers it (`UTF-16LE`).
+        name: &'static str,
+        /// True when a byte-order mark says so; false when zero bytes suggest it.
+        marked: bool,
+    },
+    /// A byte that is not valid UTF-8.
+    NotUtf8 {
+        /// The first such byte.
+        byte: u8,
+        /// Where it is, counting characters of the valid text before it.
+        position: Position,
+    },
+}
+
+impl DecodeError {
+    /// The problem in words, for the file it concerns (`the file ...`).
+    pub fn message(&self) -> String {
+        match self {
+            DecodeError::OtherEncoding { name, marked: true } => {
+                format!("the file is {name} text (its byte-order mark says so); candor reads UTF-8 only")
+            }
+            DecodeError::OtherEncoding {
+                name,
+                marked: false,
+            } => {
+                format!("the file looks like {name} text (zero bytes between the letters); candor reads UTF-8 only")
+            }
+            DecodeError::NotUtf8 { byte, .. } => {
+                format!("the file is not UTF-8 text: the byte 0x{byte:02X} is not valid UTF-8")
+            }
+        }
+    }
+
+    /// How to mend it.
+    pub fn hint(&self) -> String {
+        let save = "save the file as UTF-8 (most editors offer the encoding when saving)";
+        match self {
+            DecodeError::NotUtf8 { byte, .. } if *byte >= 0x80 => format!(
+                "{save}; a lone byte such as 0x{byte:02X} where an accented letter or a dash belongs means the file was saved as Latin-1 or Windows-1252"
+            ),
+            _ => save.to_string(),
+        }
+    }
+
+    /// Where the problem is, when it is at a place rather than the whole file.
+    pub fn position(&self) -> Option<Position> {
+        match self {
+            DecodeError::NotUtf8 { position, .. } => Some(*position),
+            DecodeError::OtherEncoding { .. } => None,
+        }
+    }
+
+    /// The problem as a diagnostic (code `not-utf8`), without a file name.
+    pub fn diagnostic(&self) -> Diagnostic {
+        let d = Diagnostic::error("not-utf8", self.message()).with_hint(self.hint());
+        match self.position() {
+            Some(p) => d.at(p.line, p.column),
+            None => d,
+        }
+    }
+}
+
+/// The text of a deal or CSV file: its bytes as UTF-8, without a leading byte-order
+/// mark (editors on Windows add one; positions then count from the character after
+/// it, as the editor shows them). A file in UTF-16 or UTF-32 is named as such; for
+/// bytes that are not UTF-8 the error gives the line and column of the first.
+pub fn decode(bytes: &[u8]) -> Result<&str, DecodeError> {
+    for (mark, name) in OTHER_MARKS {
+        if bytes.starts_with(mark) {
+            return Err(DecodeError::OtherEncoding { name, marked: true });
+        }
+    }
+    // Without a mark, text in UTF-16 or UTF-32 shows itself by zero bytes beside its
+    // first character when that is below U+0100, as `candor`, `date` or `#` are.
+    // (In UTF-8 a zero byte is NUL, refused anyway, so only the words can be wrong.)
+    let guess = match bytes {
+        [a, 0, 0, 0, ..] if *a != 0 => Some("UTF-32LE"),
+        [0, 0, 0, b, ..] if *b != 0 => Some("UTF-32BE"),
+        [a, 0, ..] if *a != 0 => Some("UTF-16LE"),
+        [0, b, ..] if *b != 0 => Some("UTF-16BE"),
+        _ => None,
+    };
+    if let Some(name) = guess {
+        return Err(DecodeError::OtherEncoding {
+            name,
+            marked: false,
+        });
+    }
+    let bytes = bytes.strip_prefix("\u{feff}".as_bytes()).unwrap_or(bytes);
+    std::str::from_utf8(bytes).map_err(|e| {
+        let good = &bytes[..e.valid_up_to()];
+        let line = good.iter().filter(|b| **b == b'\n').count() + 1;
+        let line_start = good.iter().rposition(|b| *b == b'\n').map_or(0, |i| i + 1);
+        // The prefix is valid UTF-8, so this counts characters, not bytes.
+        let column = String::from_utf8_lossy(&good[line_start..]).chars().count() + 1;
+        DecodeError::NotUtf8 {
+            byte: bytes.get(e.valid_up_to()).copied().unwrap_or_default(),
+            position: Position { line, column },
+        }
+    })
+}
+
+/// True for a character that YAML 1.2 (section 5.1, `c-printable`) allows in a file:
+/// tab, line feed, carriage return, the printable ASCII range, next-line (U+0085) and
+/// everything from U+00A0 on except surrogates, U+FFFE and U+FFFF.
+fn printable(c: char) -> bool {
+    matches!(c, '\t' | '\n' | '\r' | ' '..='~' | '\u{85}')
+        || (c >= '\u{a0}' && c != '\u{fffe}' && c != '\u{ffff}')
+}
+
+/// The first character a text file should not hold (a control character such as NUL,
+/// which appears when binary data or another encoding is pasted in), with where it is.
+/// Positions count characters from 1; a leading byte-order mark is not counted.
+pub fn first_control(text: &str) -> Option<Diagnostic> {
+    let text = text.strip_prefix(BOM).unwrap_or(text);
+    let (mut line, mut column) = (1usize, 1usize);
+    for c in text.chars() {
+        if !printable(c) {
+            let name = match c {
+                '\0' => " (NUL)".to_string(),
+                '\u{7f}' => " (DEL)".to_string(),
+                _ => String::new(),
+            };
+            return Some(
+                Diagnostic::error(
+                    "control-character",
+                    format!(
+                        "the file holds a control character, U+{:04X}{name}",
+                        u32::from(c)
+                    ),
+                )
+                .at(line, column)
+                .with_hint("delete it: it usually comes from pasting out of another program or from a file in another encoding"),
+            );
+        }
+        if c == '\n' {
+            line += 1;
+            column = 1;
+        } else {
+            column += 1;
+        }
+    }
+    None
+}
+
 /// Parses the text of a deal file into a positioned tree. On failure returns every
 /// problem found (a syntax error stops the reading, so there is usually one).
+/// A leading byte-order mark is ignored, and positions count characters after it.
 /// Diagnostics carry positions but no file name; the caller adds it.
 pub fn parse(text: &str) -> Result<RawDeal, Vec<Diagnostic>> {
+    let text = text.strip_prefix(BOM).unwrap_or(text);
+    if let Some(d) = first_control(text) {
+        return Err(vec![d]);
+    }
     let mut stack: Vec<Frame> = Vec::new();
     let mut anchors: HashMap<usize, Node> = HashMap::new();
     let mut aliases = 0usize;
@@ -300,6 +469,83 @@ mod tests {
         }
         let err = parse(&text).unwrap_err();
         assert_eq!(err[0].code, "alias-limit");
+    }
+
+    #[test]
+    fn byte_order_mark_is_dropped_and_positions_follow_the_editor() {
+        let raw = parse("\u{feff}candor: 1\nb: x\n").unwrap();
+        let Some(Node {
+            value: Value::Mapping(entries),
+            ..
+        }) = raw.root
+        else {
+            panic!("not a mapping")
+        };
+        assert_eq!(entries[0].0.scalar(), Some("candor"));
+        assert_eq!(entries[0].1.position, Position { line: 1, column: 9 });
+        assert_eq!(decode(b"\xEF\xBB\xBFa: 1\n"), Ok("a: 1\n"));
+    }
+
+    #[test]
+    fn columns_count_characters_not_bytes() {
+        // Two-, three- and four-byte characters before the value.
+        let raw = parse("a: { n: \"é–😀\", c: x }\n").unwrap();
+        let Some(Node {
+            value: Value::Mapping(entries),
+            ..
+        }) = raw.root
+        else {
+            panic!("not a mapping")
+        };
+        let Value::Mapping(inner) = &entries[0].1.value else {
+            panic!("not a mapping")
+        };
+        assert_eq!(
+            inner[1].1.position,
+            Position {
+                line: 1,
+                column: 19
+            }
+        );
+        let err = parse("m: { s: \"ééé\" \"x\" }\n").unwrap_err();
+        assert_eq!(
+            err[0].position,
+            Some(Position {
+                line: 1,
+                column: 15
+            })
+        );
+        let bad = decode(b"a: \xC3\xA9\xC3\xA9\xE9\n").unwrap_err();
+        assert_eq!(bad.position(), Some(Position { line: 1, column: 6 }));
+    }
+
+    #[test]
+    fn other_encodings_are_named() {
+        let name = |b: &[u8]| match decode(b) {
+            Err(DecodeError::OtherEncoding { name, marked }) => (name, marked),
+            other => panic!("{other:?}"),
+        };
+        assert_eq!(name(b"\xFF\xFEc\x00"), ("UTF-16LE", true));
+        assert_eq!(name(b"\xFE\xFF\x00c"), ("UTF-16BE", true));
+        assert_eq!(name(b"\xFF\xFE\x00\x00c\x00\x00\x00"), ("UTF-32LE", true));
+        assert_eq!(name(b"\x00\x00\xFE\xFF\x00\x00\x00c"), ("UTF-32BE", true));
+        assert_eq!(name(b"c\x00a\x00"), ("UTF-16LE", false));
+        assert_eq!(name(b"\x00c\x00a"), ("UTF-16BE", false));
+        assert_eq!(name(b"c\x00\x00\x00"), ("UTF-32LE", false));
+        let d = decode(b"\xFF\xFEc\x00").unwrap_err().diagnostic();
+        assert_eq!(d.code, "not-utf8");
+        assert!(d.message.contains("UTF-16LE") && d.position.is_none());
+    }
+
+    #[test]
+    fn control_characters_are_refused_with_their_place() {
+        let err = parse("a: 1\nb: x\u{1}y\n").unwrap_err();
+        assert_eq!(err[0].code, "control-character");
+        assert_eq!(err[0].position, Some(Position { line: 2, column: 5 }));
+        assert!(parse("a: x\u{0}\n").is_err());
+        assert!(parse("a: x\u{7f}\n").is_err());
+        // Tabs, carriage returns, next-line and everything printable are fine.
+        assert!(first_control("a:\t\"x\"\r\nb: \u{85}é\u{2028}\n").is_none());
     }
 
     #[test]

@@ -299,7 +299,8 @@ impl Ctx<'_, '_> {
         let rate = values::parse_rate(text)
             .map_err(|e| self.value_error("bad-number", e, path, node.position))
             .ok()?;
-        values::check_rate(rate)
+        values::check_rate_form(text, rate)
+            .and_then(|()| values::check_rate(rate))
             .map_err(|e| self.value_error("rate-range", e, path, node.position))
             .ok()?;
         Some(rate)
@@ -605,13 +606,16 @@ impl Ctx<'_, '_> {
         let text = match (self.read)(&name) {
             Ok(t) => t,
             Err(why) => {
-                self.hint(
+                let d = self.report(
                     "csv-missing",
                     format!("cannot read the CSV file `{name}`: {why}"),
                     &csv_path,
                     csv_node.position,
-                    "the path is relative to the deal file's folder",
                 );
+                // Other reasons (size, encoding) carry their own advice.
+                if why == "no such file" {
+                    d.hint = Some("the path is relative to the deal file's folder".to_string());
+                }
                 return None;
             }
         };

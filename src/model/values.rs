@@ -12,6 +12,10 @@ pub const MAX_AMOUNT: i64 = 1_000_000_000_000_000;
 pub const MAX_SCALE: u32 = 6;
 /// Largest rate accepted, as a fraction (10000 = 1,000,000%).
 pub const MAX_RATE: i64 = 10_000;
+/// Earliest year of a date accepted: earlier years are typing slips (`0207` for `2027`).
+pub const MIN_YEAR: i32 = 1900;
+/// Latest year of a date accepted: a century of flows from today fits with room to spare.
+pub const MAX_YEAR: i32 = 2299;
 
 /// Why a scalar could not be read, in words for the user.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -67,6 +71,13 @@ pub fn parse_decimal(text: &str) -> Result<Decimal, ValueError> {
         return Err(ValueError::new(
             format!("`{t}` is not a number"),
             Some(hint),
+        ));
+    }
+    if int.len() > 1 && int.starts_with('0') {
+        // `[-1,000,000, 600]` is the list -1, 0, 0, 600 in YAML: the zeros give it away.
+        return Err(ValueError::new(
+            format!("`{t}` starts with a zero"),
+            Some("write the number without leading zeros; in a list, a comma used as a thousands separator splits one number into several (write 1000000, not 1,000,000)"),
         ));
     }
     let scale = frac.map_or(0, str::len);
@@ -125,6 +136,25 @@ pub fn parse_rate(text: &str) -> Result<Decimal, ValueError> {
     })
 }
 
+/// Refuses a rate of 100% or more written without a percent sign: `hurdle_rate: 9`
+/// reads as 900%, and is almost always meant as 9%.
+pub fn check_rate_form(text: &str, rate: Decimal) -> Result<(), ValueError> {
+    let t = text.trim();
+    if t.ends_with('%') || rate.abs() < Decimal::ONE {
+        return Ok(());
+    }
+    Err(ValueError::new(
+        format!(
+            "`{t}` without a percent sign is a fraction, so it means {}%",
+            percent(rate)
+        ),
+        Some(&format!(
+            "write `{t}%` for {t} percent; a rate of 100% or more needs the percent sign, such as `{}%`",
+            percent(rate)
+        )),
+    ))
+}
+
 /// Checks that an annual rate lies in (-100%, 1,000,000%].
 pub fn check_rate(rate: Decimal) -> Result<(), ValueError> {
     if rate <= -Decimal::ONE {
@@ -164,12 +194,19 @@ pub fn parse_date(text: &str) -> Result<NaiveDate, ValueError> {
     }
     let field = |r: std::ops::Range<usize>| t[r].parse::<u32>().unwrap_or(0);
     let (y, m, d) = (field(0..4), field(5..7), field(8..10));
-    NaiveDate::from_ymd_opt(y as i32, m, d).ok_or_else(|| {
+    let date = NaiveDate::from_ymd_opt(y as i32, m, d).ok_or_else(|| {
         ValueError::new(
             format!("{t} is not a day of the calendar"),
             Some("check the month (01-12) and the day of that month"),
         )
-    })
+    })?;
+    if !(MIN_YEAR..=MAX_YEAR).contains(&(y as i32)) {
+        return Err(ValueError::new(
+            format!("{t} lies outside the years {MIN_YEAR} to {MAX_YEAR} that candor accepts"),
+            Some("check the year"),
+        ));
+    }
+    Ok(date)
 }
 
 /// ISO 4217 codes in current use, including funds and precious-metal codes, but not
@@ -275,6 +312,37 @@ mod tests {
         assert!(parse_date("2027-13-01").is_err());
         assert!(parse_date("2027-1-01").is_err());
         assert!(parse_date("15/01/2027").is_err());
+        // Outside the accepted years: typing slips, refused with their own words.
+        let e = parse_date("0207-01-15").unwrap_err();
+        assert!(e.message.contains("1900 to 2299"), "{}", e.message);
+        assert!(parse_date("2300-01-01").is_err());
+        assert!(parse_date("1900-01-01").is_ok());
+        assert!(parse_date("2299-12-31").is_ok());
+    }
+
+    #[test]
+    fn leading_zeros_are_refused() {
+        // `[-1,000, 600]` reaches the reader as `-1`, `000`, `600`.
+        let e = parse_decimal("000").unwrap_err();
+        assert!(e.hint.unwrap().contains("1,000,000"));
+        assert!(parse_decimal("-0600").is_err());
+        assert!(parse_decimal("00.5").is_err());
+        assert_eq!(parse_decimal("0").unwrap(), Decimal::ZERO);
+        assert_eq!(parse_decimal("-0.25").unwrap(), d("-0.25"));
+    }
+
+    #[test]
+    fn a_rate_of_100_percent_or_more_needs_the_sign() {
+        assert!(check_rate_form("0.09", d("0.09")).is_ok());
+        assert!(check_rate_form("-0.5", d("-0.5")).is_ok());
+        assert!(check_rate_form("900%", d("9")).is_ok());
+        let e = check_rate_form("9", d("9")).unwrap_err();
+        assert_eq!(
+            e.message,
+            "`9` without a percent sign is a fraction, so it means 900%"
+        );
+        assert!(check_rate_form("1", d("1")).is_err());
+        assert!(check_rate_form("-1.5", d("-1.5")).is_err());
     }
 
     #[test]
