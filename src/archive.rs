@@ -16,7 +16,10 @@
 //!
 //! A version is built in a hidden temporary folder beside the versions and renamed into
 //! place while an exclusive lock on `DIR/<deal-slug>/.lock` is held, so a failed run
-//! leaves nothing and two runs never take the same number.
+//! leaves nothing and two runs never take the same number. A run stopped by Ctrl-C
+//! removes its unfinished folder and its lock; a run killed outright leaves both, and
+//! the next filing of the deal removes them (the lock only once its process has ended)
+//! and says so.
 
 // Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
 // cold path, so their size does not matter.
@@ -24,6 +27,7 @@
 
 use crate::commands::load::load_deal;
 use crate::commands::memo::{build_memo_with_changes, sha256_hex, slug, MemoInputs};
+use crate::commands::output::{self, Disk, Kind, Sink, Unfinished};
 use crate::diag::Diagnostic;
 use crate::engine::Analysis;
 use crate::model::{Deal, SignoffDecision};
@@ -244,9 +248,8 @@ fn archive_error(message: impl Into<String>, path: &Path) -> Diagnostic {
 
 fn io_words(e: &std::io::Error) -> String {
     match e.kind() {
-        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
         std::io::ErrorKind::NotFound => "no such file or folder".to_string(),
-        _ => e.to_string(),
+        _ => output::cause(e),
     }
 }
 
@@ -367,13 +370,12 @@ fn versions_in(deal_dir: &Path) -> std::io::Result<Vec<(u32, String)>> {
     Ok(out)
 }
 
-fn write_file(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+fn write_file(path: &Path, bytes: &[u8], sink: &mut dyn Sink) -> std::io::Result<()> {
     if let Some(parent) = path.parent() {
         std::fs::create_dir_all(parent)?;
     }
     let mut f = std::fs::File::create(path)?;
-    f.write_all(bytes)?;
-    f.sync_all()?;
+    sink.put(&mut f, bytes)?;
     // Read-only: a filed version is never modified, and an editor should say so.
     #[cfg(unix)]
     {
@@ -387,40 +389,57 @@ fn write_file(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
 const LOCK_WAIT: std::time::Duration = std::time::Duration::from_secs(120);
 
 /// An exclusive claim on a deal's folder: a lock file created with `create_new` (atomic
-/// on every file system candor targets), holding the owner's process id, removed on drop.
-/// `File::lock` would need Rust 1.89, above the crate's minimum.
+/// on every file system candor targets), holding the owner's process id and host name,
+/// removed on drop (and by the interrupt handler). `File::lock` would need Rust 1.89,
+/// above the crate's minimum.
 struct ArchiveLock {
     path: PathBuf,
+    _pending: Unfinished,
+}
+
+/// This machine's name, so that a lock taken on another machine sharing the archive
+/// is never judged by this machine's processes.
+fn host_name() -> String {
+    std::fs::read_to_string("/proc/sys/kernel/hostname")
+        .map(|h| h.trim().to_string())
+        .unwrap_or_default()
+}
+
+fn create_lock_file(path: &Path) -> std::io::Result<()> {
+    let mut f = std::fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(path)?;
+    writeln!(f, "{} {}", std::process::id(), host_name())
 }
 
 impl ArchiveLock {
-    fn acquire(path: &Path) -> Result<ArchiveLock, Diagnostic> {
+    /// Takes the lock, waiting for another filer to finish. A lock whose process has
+    /// ended (a filing killed outright) is removed, with a sentence in `notes`.
+    fn acquire(path: &Path, notes: &mut Vec<String>) -> Result<ArchiveLock, Diagnostic> {
         let started = std::time::Instant::now();
         loop {
-            match std::fs::OpenOptions::new()
-                .write(true)
-                .create_new(true)
-                .open(path)
-            {
-                Ok(mut f) => {
-                    let lock = ArchiveLock {
+            // Registered before it exists, so that Ctrl-C between the two cannot leave it.
+            let pending = Unfinished::register(path, Kind::Lock, path);
+            match create_lock_file(path) {
+                Ok(()) => {
+                    return Ok(ArchiveLock {
                         path: path.to_path_buf(),
-                    };
-                    let _ = writeln!(f, "{}", std::process::id());
-                    return Ok(lock);
+                        _pending: pending,
+                    })
                 }
                 Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
+                    // Not ours: the handler must not remove it.
+                    drop(pending);
                     if let Some(pid) = dead_owner(path) {
-                        // Removing it here could remove a newer filer's lock taken in
-                        // between; a person must decide.
-                        return Err(archive_error(
-                            format!(
-                                "the archive is locked by process {pid}, which is no longer \
-                                 running (a filing was interrupted)"
-                            ),
-                            path,
-                        )
-                        .with_hint("if no candor is filing this deal, remove the lock file"));
+                        if break_stale_lock(path, pid)? {
+                            notes.push(format!(
+                                "removed the lock {} left by candor process {pid}, which was \
+                                 stopped while filing",
+                                path.display()
+                            ));
+                        }
+                        continue;
                     }
                     if started.elapsed() > LOCK_WAIT {
                         return Err(archive_error(
@@ -436,10 +455,11 @@ impl ArchiveLock {
                     std::thread::sleep(std::time::Duration::from_millis(25));
                 }
                 Err(e) => {
+                    drop(pending);
                     return Err(archive_error(
                         format!("cannot write in the archive folder: {}", io_words(&e)),
                         path,
-                    ))
+                    ));
                 }
             }
         }
@@ -452,22 +472,113 @@ impl Drop for ArchiveLock {
     }
 }
 
-/// The process id in a lock file when that process is known to have ended (Linux
-/// `/proc`; elsewhere a lock is never declared dead and the wait times out instead).
+/// Removes the lock at `path` if it still names the ended process `pid`; true when it
+/// did. Two runs may find the same dead lock: each removal happens while holding a
+/// second lock, `.lock.break`, and after reading the lock again, so a run never removes
+/// a lock that another run has just taken.
+fn break_stale_lock(path: &Path, pid: u32) -> Result<bool, Diagnostic> {
+    let breaker = path.with_file_name(format!("{LOCK}.break"));
+    let pending = Unfinished::register(&breaker, Kind::Lock, &breaker);
+    match create_lock_file(&breaker) {
+        Ok(()) => {
+            let removed = dead_owner(path) == Some(pid) && std::fs::remove_file(path).is_ok();
+            let _ = std::fs::remove_file(&breaker);
+            drop(pending);
+            Ok(removed)
+        }
+        Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
+            drop(pending);
+            match dead_owner(&breaker) {
+                Some(other) => Err(archive_error(
+                    format!(
+                        "candor process {other} was stopped while removing a stale lock of \
+                         this deal's archive, and left {} behind",
+                        breaker.display()
+                    ),
+                    &breaker,
+                )
+                .with_hint(format!(
+                    "if no candor is filing this deal, remove {} and {}",
+                    breaker.display(),
+                    path.display()
+                ))),
+                // Another run is removing it right now.
+                None => {
+                    std::thread::sleep(std::time::Duration::from_millis(25));
+                    Ok(false)
+                }
+            }
+        }
+        Err(e) => {
+            drop(pending);
+            Err(archive_error(
+                format!("cannot write in the archive folder: {}", io_words(&e)),
+                &breaker,
+            ))
+        }
+    }
+}
+
+/// The process id in a lock file when that process is known to have ended: it ran on
+/// this machine (same host name, or a lock that names none) and Linux `/proc` no longer
+/// shows it. Elsewhere a lock is never declared dead and the wait times out instead.
 fn dead_owner(path: &Path) -> Option<u32> {
     let text = std::fs::read_to_string(path).ok()?;
-    let pid: u32 = text.trim().parse().ok()?;
-    let proc_root = Path::new("/proc/self");
-    if proc_root.exists() && !Path::new("/proc").join(pid.to_string()).exists() {
-        Some(pid)
-    } else {
-        None
+    let mut words = text.split_whitespace();
+    let pid: u32 = words.next()?.parse().ok()?;
+    if let Some(host) = words.next() {
+        if host != host_name() {
+            return None;
+        }
+    }
+    output::process_ended(pid).then_some(pid)
+}
+
+/// Removes the unfinished version folders (`.filing-*`) that interrupted filings left
+/// in `deal_dir`. Called with the lock held: a live filing builds its folder only
+/// under the lock, so every such folder found then is a leftover.
+fn sweep_unfinished(deal_dir: &Path, notes: &mut Vec<String>) {
+    let Ok(entries) = std::fs::read_dir(deal_dir) else {
+        return;
+    };
+    let mut stale: Vec<PathBuf> = entries
+        .filter_map(Result::ok)
+        .filter(|e| e.file_name().to_string_lossy().starts_with(".filing-"))
+        .map(|e| e.path())
+        .collect();
+    stale.sort();
+    for dir in stale {
+        match std::fs::remove_dir_all(&dir) {
+            Ok(()) => notes.push(format!(
+                "removed {}, a version left unfinished by an interrupted filing (never a \
+                 filed version)",
+                dir.display()
+            )),
+            Err(e) => notes.push(format!(
+                "{} is a version left unfinished by an interrupted filing; it cannot be removed \
+                 ({}): remove it by hand",
+                dir.display(),
+                io_words(&e)
+            )),
+        }
     }
 }
 
 /// Files a memo in `archive/<deal-slug>/<next version>/`, or reports that the latest
 /// version already holds the same inputs.
 pub fn file(archive: &Path, filing: &Filing<'_>) -> Result<Filed, Diagnostic> {
+    file_with(archive, filing, &mut Disk).map(|(filed, _)| filed)
+}
+
+/// [`file`], writing every file through `sink` (the disk, or in tests one that fails on
+/// purpose), and returning besides the outcome one sentence for each leftover of an
+/// interrupted filing that was removed (a lock, an unfinished version folder).
+pub fn file_with(
+    archive: &Path,
+    filing: &Filing<'_>,
+    sink: &mut dyn Sink,
+) -> Result<(Filed, Vec<String>), Diagnostic> {
+    let mut notes = Vec::new();
     let slug = slug(&filing.deal.name);
     let files = version_files(filing, &slug)?;
     let deal_dir = archive.join(&slug);
@@ -479,7 +590,8 @@ pub fn file(archive: &Path, filing: &Filing<'_>) -> Result<Filed, Diagnostic> {
     })?;
     let lock_path = deal_dir.join(LOCK);
     // Held until dropped: one filer at a time chooses a number and renames.
-    let lock = ArchiveLock::acquire(&lock_path)?;
+    let lock = ArchiveLock::acquire(&lock_path, &mut notes)?;
+    sweep_unfinished(&deal_dir, &mut notes);
 
     let versions = versions_in(&deal_dir).map_err(|e| {
         archive_error(
@@ -502,24 +614,33 @@ pub fn file(archive: &Path, filing: &Filing<'_>) -> Result<Filed, Diagnostic> {
                 )
             })?;
             if latest.input_key() == input_key(&entries) {
-                return Ok(Filed::Unchanged {
-                    version: name.clone(),
-                    path: latest_dir,
-                });
+                return Ok((
+                    Filed::Unchanged {
+                        version: name.clone(),
+                        path: latest_dir,
+                    },
+                    notes,
+                ));
             }
             if filing.previous != Some(name.as_str()) {
-                return Ok(Filed::Overtaken {
-                    latest: name.clone(),
-                });
+                return Ok((
+                    Filed::Overtaken {
+                        latest: name.clone(),
+                    },
+                    notes,
+                ));
             }
             n.checked_add(1).ok_or_else(|| {
                 archive_error("the archive holds the largest version number", &deal_dir)
             })?
         }
         None if filing.previous.is_some() => {
-            return Ok(Filed::Overtaken {
-                latest: String::new(),
-            })
+            return Ok((
+                Filed::Overtaken {
+                    latest: String::new(),
+                },
+                notes,
+            ))
         }
         None => 1,
     };
@@ -556,30 +677,60 @@ pub fn file(archive: &Path, filing: &Filing<'_>) -> Result<Filed, Diagnostic> {
                 &deal_dir,
             )
         })?;
-    let write_all = || -> std::io::Result<()> {
+    let pending = Unfinished::register(tmp.path(), Kind::Folder, &deal_dir);
+    let mut write_all = || -> Result<(), (String, std::io::Error)> {
+        let mut put = |rel: &str, bytes: &[u8]| {
+            write_file(&tmp.path().join(rel), bytes, sink).map_err(|e| (rel.to_string(), e))
+        };
         for (path, _, bytes) in &files {
-            write_file(&tmp.path().join(path), bytes)?;
+            put(path, bytes)?;
         }
-        write_file(&tmp.path().join(MANIFEST), &manifest_bytes)?;
-        write_file(&tmp.path().join(MANIFEST_HASH), manifest_hash.as_bytes())?;
+        put(MANIFEST, &manifest_bytes)?;
+        put(MANIFEST_HASH, manifest_hash.as_bytes())?;
         // A temporary folder is private (0700); a filed version is readable by all.
         #[cfg(unix)]
         {
             use std::os::unix::fs::PermissionsExt as _;
-            std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(0o755))?;
+            std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(0o755))
+                .map_err(|e| (String::new(), e))?;
         }
         Ok(())
     };
-    write_all().map_err(|e| {
-        archive_error(
-            format!("cannot write the version: {}", io_words(&e)),
-            tmp.path(),
+    if let Err((rel, e)) = write_all() {
+        // The folder goes before its registration, so an interruption in between still
+        // finds it.
+        let _ = tmp.close();
+        drop(pending);
+        let what = if rel.is_empty() {
+            format!("version {version}")
+        } else {
+            format!("`{rel}` of version {version}")
+        };
+        let hint = if output::cause(&e) == "the disk is full" {
+            "free some space on the archive's disk, then file again"
+        } else {
+            "file into an archive folder you may write in, or ask for write access"
+        };
+        return Err(archive_error(
+            format!(
+                "cannot write {what}: {}; nothing was filed, and the versions already filed \
+                 are unchanged",
+                io_words(&e)
+            ),
+            &deal_dir,
         )
-    })?;
+        .with_hint(hint));
+    }
     let target = deal_dir.join(&version);
     let built = tmp.keep();
-    if let Err(e) = std::fs::rename(&built, &target) {
-        let _ = std::fs::remove_dir_all(&built);
+    let moved = pending.finish(|| {
+        let moved = std::fs::rename(&built, &target);
+        if moved.is_err() {
+            let _ = std::fs::remove_dir_all(&built);
+        }
+        moved
+    });
+    if let Err(e) = moved {
         return Err(archive_error(
             format!("cannot move the version into place: {}", io_words(&e)),
             &target,
@@ -590,10 +741,13 @@ pub fn file(archive: &Path, filing: &Filing<'_>) -> Result<Filed, Diagnostic> {
         let _ = dir.sync_all();
     }
     drop(lock);
-    Ok(Filed::New {
-        version,
-        path: target,
-    })
+    Ok((
+        Filed::New {
+            version,
+            path: target,
+        },
+        notes,
+    ))
 }
 
 /// The version a new filing of these inputs compares with, as (folder name, folder):
@@ -1082,11 +1236,13 @@ mod tests {
     fn a_second_filer_waits_for_the_lock() {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join(LOCK);
-        let first = ArchiveLock::acquire(&path).unwrap();
+        let first = ArchiveLock::acquire(&path, &mut Vec::new()).unwrap();
         let (tx, rx) = std::sync::mpsc::channel();
         let p2 = path.clone();
         let waiter = std::thread::spawn(move || {
-            let second = ArchiveLock::acquire(&p2).map(|_| ()).map_err(|d| d.message);
+            let second = ArchiveLock::acquire(&p2, &mut Vec::new())
+                .map(|_| ())
+                .map_err(|d| d.message);
             tx.send(second).unwrap();
         });
         // The waiter cannot get the lock while the first holder keeps it.
@@ -1101,25 +1257,64 @@ mod tests {
     }
 
     #[test]
-    fn a_lock_left_by_a_dead_process_is_named() {
+    fn a_lock_left_by_a_dead_process_is_removed_and_named() {
         if !Path::new("/proc/self").exists() {
             return;
         }
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join(LOCK);
-        // Above Linux's largest process id (2^22), so no process has it.
+        // Above Linux's largest process id (2^22), so no process has it; the old form
+        // without a host name, and the new form with this machine's.
+        for content in [
+            "4194305\n".to_string(),
+            format!("4194305 {}\n", host_name()),
+        ] {
+            std::fs::write(&path, content).unwrap();
+            let mut notes = Vec::new();
+            let lock = ArchiveLock::acquire(&path, &mut notes).unwrap();
+            assert_eq!(notes.len(), 1, "{notes:?}");
+            assert!(
+                notes[0].contains("left by candor process 4194305, which was stopped"),
+                "{notes:?}"
+            );
+            let held = std::fs::read_to_string(&path).unwrap();
+            assert!(
+                held.starts_with(&format!("{} ", std::process::id())),
+                "{held}"
+            );
+            drop(lock);
+            assert!(!path.exists());
+            assert!(!dir.path().join(".lock.break").exists());
+        }
+    }
+
+    #[test]
+    fn a_lock_from_another_machine_is_never_judged_dead_here() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join(LOCK);
+        std::fs::write(&path, "4194305 some-other-machine-name\n").unwrap();
+        assert_eq!(dead_owner(&path), None);
+    }
+
+    #[test]
+    fn a_breaker_left_by_a_dead_process_is_reported_not_removed() {
+        if !Path::new("/proc/self").exists() {
+            return;
+        }
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join(LOCK);
+        let breaker = dir.path().join(".lock.break");
         std::fs::write(&path, "4194305\n").unwrap();
-        let err = ArchiveLock::acquire(&path).map(|_| ()).unwrap_err();
+        std::fs::write(&breaker, "4194304\n").unwrap();
+        let err = ArchiveLock::acquire(&path, &mut Vec::new())
+            .map(|_| ())
+            .unwrap_err();
         assert!(
-            err.message
-                .contains("locked by process 4194305, which is no longer running"),
+            err.message.contains("candor process 4194304 was stopped"),
             "{}",
             err.message
         );
-        assert!(
-            path.exists(),
-            "a lock is never removed behind a person's back"
-        );
+        assert!(path.exists() && breaker.exists());
     }
 
     #[test]

@@ -5,6 +5,7 @@
 // cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
+use super::output::{self, WriteFailure};
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::MemoArgs;
 use crate::commands::load::load_deal;
@@ -15,7 +16,6 @@ use crate::{chart, pdf, report};
 use chrono::NaiveDateTime;
 use sha2::{Digest, Sha256};
 use std::collections::BTreeMap;
-use std::io::Write as _;
 use std::path::{Path, PathBuf};
 
 /// A finished memo: the markup and the PDF typeset from it.
@@ -161,26 +161,9 @@ pub fn default_output(deal_path: &Path, deal_name: &str) -> PathBuf {
 }
 
 /// Writes bytes to `path` through a temporary file in the same folder, so the file
-/// appears only when complete.
+/// appears only when complete (see [`super::output::write_atomically_with`]).
 pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
-    let folder = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".candor-")
-        .suffix(".part")
-        .tempfile_in(&folder)?;
-    tmp.write_all(bytes)?;
-    tmp.as_file().sync_all()?;
-    // A temporary file is private (0600); the memo is an ordinary document.
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::PermissionsExt as _;
-        std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(0o644))?;
-    }
-    tmp.persist(path).map_err(|e| e.error)?;
-    Ok(())
+    output::write_atomically_with(path, bytes, &mut output::Disk)
 }
 
 /// Reads every `*.j2` file of a house-style folder, by file name.
@@ -231,6 +214,8 @@ fn fail(diag: &Diagnostic, code: u8) -> u8 {
 
 /// Runs the command.
 pub fn run(args: &MemoArgs) -> u8 {
+    // Ctrl-C removes the unfinished files instead of leaving them behind.
+    output::clean_up_on_interrupt();
     if args.watch {
         return super::watch::run(args);
     }
@@ -260,6 +245,34 @@ pub fn run(args: &MemoArgs) -> u8 {
             return EXIT_INVALID;
         }
     };
+    // Every destination is checked before the memo is made, which takes a while.
+    let out = match (&args.output, &args.archive) {
+        (Some(o), _) => Some(o.clone()),
+        (None, None) => Some(default_output(&args.file, &loaded.deal.name)),
+        (None, Some(_)) => None,
+    };
+    let mut destinations: Vec<(&Path, &str, &str)> = Vec::new();
+    if let Some(o) = &out {
+        destinations.push((o, "memo", "-o FILE.pdf"));
+    }
+    if let Some(e) = &emit_typst {
+        destinations.push((e, "markup", "--emit typst FILE"));
+    }
+    for (path, what, option) in destinations {
+        if let Err(f) = output::check_destination(path, what, option) {
+            return fail(&f.diagnostic, f.code);
+        }
+        for note in output::sweep_leftovers(&output::folder_of(path)) {
+            eprintln!("note: {note}");
+        }
+    }
+    if let Some(dir) = &args.archive {
+        match super::verify::prepare_archive(dir) {
+            Ok(Some(note)) => eprintln!("{note}"),
+            Ok(None) => {}
+            Err(f) => return fail(&f.diagnostic, f.code),
+        }
+    }
     let epoch = std::env::var("SOURCE_DATE_EPOCH").ok();
     let created = match pdf::creation_time(loaded.deal.as_of, epoch.as_deref()) {
         Ok(c) => c,
@@ -296,10 +309,15 @@ pub fn run(args: &MemoArgs) -> u8 {
         // The markup is written before typesetting so that a failing house style can be
         // inspected.
         if let Some(path) = &emit_typst {
-            if let Err(e) = write_atomically(path, markup.as_bytes()) {
-                let d = Diagnostic::error("write", format!("cannot write the markup: {e}"))
-                    .in_file(path.display().to_string());
-                return Err(fail(&d, EXIT_INTERNAL));
+            let written = output::write_output(
+                path,
+                markup.as_bytes(),
+                "markup",
+                "--emit typst FILE",
+                &mut output::Disk,
+            );
+            if let Err(f) = written {
+                return Err(fail(&f.diagnostic, f.code));
             }
         }
         typeset_markup(&markup, &charts, &inputs).map_err(|f| fail(&f.diagnostic, code_of(&f)))
@@ -317,15 +335,22 @@ pub fn run(args: &MemoArgs) -> u8 {
             Err(code) => return code,
         },
     };
-    let out = args
-        .output
-        .clone()
-        .unwrap_or_else(|| default_output(&args.file, &loaded.deal.name));
-    if let Err(e) = write_atomically(&out, &pdf) {
-        let d = Diagnostic::error("write", format!("cannot write the memo: {e}"))
-            .in_file(out.display().to_string());
-        return fail(&d, EXIT_INTERNAL);
+    let Some(out) = out else {
+        return EXIT_OK;
+    };
+    if let Err(f) = write_memo(&out, &pdf, &mut output::Disk) {
+        return fail(&f.diagnostic, f.code);
     }
     eprintln!("wrote {}", out.display());
     EXIT_OK
+}
+
+/// Writes a memo's PDF at `path` through `sink` (the disk, or in tests one that fails
+/// on purpose), with the message the user sees when that fails.
+pub fn write_memo(
+    path: &Path,
+    pdf: &[u8],
+    sink: &mut dyn output::Sink,
+) -> Result<(), WriteFailure> {
+    output::write_output(path, pdf, "memo", "-o FILE.pdf", sink)
 }

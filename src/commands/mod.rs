@@ -7,6 +7,7 @@ pub mod diff;
 pub mod load;
 pub mod memo;
 pub mod new;
+pub mod output;
 pub mod pack;
 pub mod rates;
 pub mod schema;

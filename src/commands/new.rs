@@ -199,7 +199,12 @@ pub fn run(args: &NewArgs) -> u8 {
         }
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
             // The folder named in `-o` does not exist: a mistake in the input.
-            eprintln!("error: cannot write {shown}: its folder does not exist");
+            let folder = super::output::folder_of(&path);
+            eprintln!(
+                "error: cannot write {shown}: its folder does not exist; create it first \
+                 (`mkdir -p {}`) or choose another path with `-o FILE.yaml`",
+                folder.display()
+            );
             EXIT_INVALID
         }
         Err(e) => {

@@ -9,7 +9,8 @@
 // cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
-use super::memo::{sha256_hex, write_atomically};
+use super::memo::sha256_hex;
+use super::output;
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::PackArgs;
 use crate::commands::load::{load_deal, LoadFailure, LoadedDeal};
@@ -217,6 +218,15 @@ fn analyse(loaded: LoadedDeal, source_name: String) -> Result<PackedDeal, Diagno
 
 /// Runs the command.
 pub fn run(args: &PackArgs) -> u8 {
+    output::clean_up_on_interrupt();
+    // Checked first: a pack of many deals takes a while to make.
+    if let Err(f) = output::check_destination(&args.output, "pack", "-o FILE.pdf") {
+        eprintln!("{}", f.diagnostic.render(None));
+        return f.code;
+    }
+    for note in output::sweep_leftovers(&output::folder_of(&args.output)) {
+        eprintln!("note: {note}");
+    }
     let progress = std::io::stderr().is_terminal();
     if progress {
         eprintln!("candor pack: analysing {} deals", args.files.len());
@@ -295,11 +305,11 @@ pub fn run(args: &PackArgs) -> u8 {
             return EXIT_INTERNAL;
         }
     };
-    if let Err(e) = write_atomically(&args.output, &pdf) {
-        let d = Diagnostic::error("write", format!("cannot write the pack: {e}"))
-            .in_file(args.output.display().to_string());
-        eprintln!("{}", d.render(None));
-        return EXIT_INTERNAL;
+    let written =
+        output::write_output(&args.output, &pdf, "pack", "-o FILE.pdf", &mut output::Disk);
+    if let Err(f) = written {
+        eprintln!("{}", f.diagnostic.render(None));
+        return f.code;
     }
     for s in &skipped {
         eprintln!("skipped {s}");

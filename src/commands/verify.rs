@@ -1,11 +1,17 @@
 //! `candor verify`: check filed memo versions (see [`crate::archive`]), and the filing
 //! step `candor memo --archive` calls.
 
+// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
+// cold path, so their size does not matter.
+#![allow(clippy::result_large_err)]
+
+use super::output::{self, WriteFailure};
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::archive::{self, Filed, Filing};
 use crate::cli::VerifyArgs;
 use crate::commands::load::LoadedDeal;
 use crate::commands::memo::MemoInputs;
+use crate::diag::Diagnostic;
 use crate::engine::Analysis;
 use crate::report::ChangesSince;
 use std::io::Write as _;
@@ -66,7 +72,13 @@ pub fn file_memo(
             previous: previous.as_ref().map(|(v, _)| v.as_str()),
             ..plan.clone()
         };
-        match archive::file(dir, &filing) {
+        let filed = archive::file_with(dir, &filing, &mut output::Disk).map(|(filed, notes)| {
+            for note in notes {
+                eprintln!("note: {note}");
+            }
+            filed
+        });
+        match filed {
             Ok(Filed::New { version, path }) => {
                 eprintln!("filed version {version}");
                 println!("{}", path.display());
@@ -96,6 +108,65 @@ pub fn file_memo(
     .with_hint("run the command again");
     eprintln!("{}", d.render(None));
     Err(EXIT_INTERNAL)
+}
+
+/// Makes sure the archive folder `dir` of `memo --archive` is there before the memo is
+/// made. An archive is started by filing into it, so a missing archive folder is
+/// created, but only inside a folder that exists: a mistyped path does not silently
+/// grow a tree of folders. Returns the sentence to show when the folder was created.
+pub fn prepare_archive(dir: &Path) -> Result<Option<String>, WriteFailure> {
+    let shown = dir.display().to_string();
+    let fail = |message: String, hint: &str, code: u8| WriteFailure {
+        diagnostic: Diagnostic::error("archive", message)
+            .in_file(shown.clone())
+            .with_hint(hint),
+        code,
+    };
+    if dir.is_dir() {
+        return Ok(None);
+    }
+    let parent = output::folder_of(dir);
+    match std::fs::metadata(&parent) {
+        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Err(fail(
+            format!(
+                "cannot create the archive folder: the folder `{}` it would go in does not \
+                 exist",
+                parent.display()
+            ),
+            "check the `--archive` path, or create the folders above the archive first",
+            EXIT_INVALID,
+        )),
+        Err(e) => Err(fail(
+            format!(
+                "cannot create the archive folder: `{}` cannot be read: {}",
+                parent.display(),
+                output::cause(&e)
+            ),
+            "check the `--archive` path",
+            EXIT_INTERNAL,
+        )),
+        Ok(m) if !m.is_dir() => Err(fail(
+            format!(
+                "cannot create the archive folder: `{}` is a file, not a folder",
+                parent.display()
+            ),
+            "check the `--archive` path",
+            EXIT_INTERNAL,
+        )),
+        Ok(_) => match std::fs::create_dir(dir) {
+            Ok(()) => Ok(Some(format!("created the archive folder {shown}"))),
+            Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => Err(fail(
+                format!("cannot file the memo: `{shown}` is a file, not an archive folder"),
+                "give the archive's folder with `--archive DIR`",
+                EXIT_INTERNAL,
+            )),
+            Err(e) => Err(fail(
+                format!("cannot create the archive folder: {}", output::cause(&e)),
+                "file into a folder you may write in, or ask for write access",
+                EXIT_INTERNAL,
+            )),
+        },
+    }
 }
 
 /// Runs the command.

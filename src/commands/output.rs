@@ -1,0 +1,495 @@
+//! Getting output files onto disk without ever losing an earlier one: the atomic writer
+//! every command uses, the checks made on a destination before any work is done, plain
+//! messages for write failures (missing folder, read-only folder, full disk), the
+//! removal of unfinished files on Ctrl-C or termination, and the sweep of temporary
+//! files that a killed run left behind.
+//!
+//! A file appears at its destination only complete: it is written to a temporary file
+//! `.candor-<process id>-<random>.part` in the same folder, synced, and renamed over
+//! the destination. The process id in the name lets a later run tell a file left by a
+//! killed run from one that another candor is writing at that moment.
+
+// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
+// cold path, so their size does not matter.
+#![allow(clippy::result_large_err)]
+
+use super::{EXIT_INTERNAL, EXIT_INVALID};
+use crate::diag::Diagnostic;
+use std::fs::File;
+use std::io::{self, ErrorKind, Write as _};
+use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::{Mutex, MutexGuard, Once};
+
+/// Test-only hook (an environment variable, not part of the user interface): when it
+/// holds a number of seconds, [`Disk`] writes half of each file, syncs it and sleeps that
+/// long before writing the rest, so that a test can kill candor in the middle of a
+/// write. See DEVELOPERS.md, "Fault tests".
+pub const PAUSE_HOOK: &str = "CANDOR_TEST_PAUSE_MID_WRITE";
+
+/// Exit code after Ctrl-C or termination (128 + SIGINT, as shells report it).
+pub const EXIT_INTERRUPTED: i32 = 130;
+
+/// How bytes reach an open file. [`Disk`] is the real thing; tests put in their own
+/// sink to make a write fail the way a full disk does, at a chosen byte.
+pub trait Sink {
+    /// Writes all of `bytes` to `file` and makes them durable.
+    fn put(&mut self, file: &mut File, bytes: &[u8]) -> io::Result<()>;
+}
+
+/// Writes to the file system and syncs.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Disk;
+
+impl Sink for Disk {
+    fn put(&mut self, file: &mut File, bytes: &[u8]) -> io::Result<()> {
+        let pause = std::env::var(PAUSE_HOOK)
+            .ok()
+            .and_then(|s| s.trim().parse::<u64>().ok());
+        if let Some(seconds) = pause {
+            let half = bytes.len() / 2;
+            file.write_all(&bytes[..half])?;
+            file.sync_all()?;
+            std::thread::sleep(std::time::Duration::from_secs(seconds));
+            file.write_all(&bytes[half..])?;
+        } else {
+            file.write_all(bytes)?;
+        }
+        file.sync_all()
+    }
+}
+
+/// A failure to write an output file: the message and the exit code it calls for.
+#[derive(Debug, Clone)]
+pub struct WriteFailure {
+    /// What happened, to which file, and what to do.
+    pub diagnostic: Diagnostic,
+    /// [`EXIT_INVALID`] when the path given is wrong (its folder does not exist),
+    /// [`EXIT_INTERNAL`] when candor cannot write there.
+    pub code: u8,
+}
+
+/// The folder a file is written in (`.` for a bare file name).
+pub fn folder_of(path: &Path) -> PathBuf {
+    match path.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    }
+}
+
+fn temp_prefix() -> String {
+    format!(".candor-{}-", std::process::id())
+}
+
+/// The cause of an I/O error in plain words.
+pub fn cause(e: &io::Error) -> String {
+    // ENOSPC and EDQUOT (Linux numbers) also arrive through paths that do not map them.
+    if e.kind() == ErrorKind::StorageFull || matches!(e.raw_os_error(), Some(28 | 122)) {
+        return "the disk is full".to_string();
+    }
+    match e.kind() {
+        ErrorKind::PermissionDenied => "permission denied".to_string(),
+        ErrorKind::ReadOnlyFilesystem => "the file system is read-only".to_string(),
+        ErrorKind::NotFound => "its folder does not exist".to_string(),
+        ErrorKind::IsADirectory => "a folder of that name is in the way".to_string(),
+        ErrorKind::NotADirectory => "a part of the path is a file, not a folder".to_string(),
+        _ => e.to_string(),
+    }
+}
+
+fn hint_for(e: &io::Error, option: &str) -> String {
+    match cause(e).as_str() {
+        "the disk is full" => {
+            format!("free some space on that disk, or write elsewhere with `{option}`")
+        }
+        "permission denied" | "the file system is read-only" => {
+            format!("write to a folder you may write in with `{option}`, or ask for write access")
+        }
+        _ => format!("check the path, or write elsewhere with `{option}`"),
+    }
+}
+
+/// Checks, before any work is done, that `what` (for example "memo") can be written at
+/// `path`: its folder exists and is a folder, the path is not a folder, and a file can
+/// be created in the folder (a probe file, removed at once). `option` is how the user
+/// chooses another path, named in the hint.
+pub fn check_destination(path: &Path, what: &str, option: &str) -> Result<(), WriteFailure> {
+    let folder = folder_of(path);
+    let shown = path.display().to_string();
+    let fail = |message: String, hint: String, code: u8| WriteFailure {
+        diagnostic: Diagnostic::error("write", format!("cannot write the {what}: {message}"))
+            .in_file(shown.clone())
+            .with_hint(hint),
+        code,
+    };
+    match std::fs::metadata(&folder) {
+        Err(e) if e.kind() == ErrorKind::NotFound => {
+            return Err(fail(
+                format!("the folder `{}` does not exist", folder.display()),
+                format!(
+                    "create it first (`mkdir -p {}`), or write elsewhere with `{option}`",
+                    folder.display()
+                ),
+                EXIT_INVALID,
+            ))
+        }
+        Err(e) => {
+            return Err(fail(
+                format!(
+                    "the folder `{}` cannot be read: {}",
+                    folder.display(),
+                    cause(&e)
+                ),
+                hint_for(&e, option),
+                EXIT_INTERNAL,
+            ))
+        }
+        Ok(m) if !m.is_dir() => {
+            return Err(fail(
+                format!("`{}` is a file, not a folder", folder.display()),
+                format!("write inside a folder with `{option}`"),
+                EXIT_INTERNAL,
+            ))
+        }
+        Ok(_) => {}
+    }
+    if path.is_dir() {
+        return Err(fail(
+            format!("`{shown}` is a folder"),
+            format!("give a file name, such as `{option} {shown}/{what}.pdf`"),
+            EXIT_INTERNAL,
+        ));
+    }
+    // Permission bits do not tell the whole story (root, access lists, read-only
+    // mounts): only creating a file does.
+    match tempfile::Builder::new()
+        .prefix(&temp_prefix())
+        .suffix(".part")
+        .tempfile_in(&folder)
+    {
+        Ok(probe) => {
+            let _ = probe.close();
+            Ok(())
+        }
+        Err(e) => Err(fail(
+            format!(
+                "cannot create a file in `{}`: {}",
+                folder.display(),
+                cause(&e)
+            ),
+            hint_for(&e, option),
+            EXIT_INTERNAL,
+        )),
+    }
+}
+
+/// Writes `bytes` to `path` through a temporary file in the same folder, so the file
+/// appears only when complete; on any failure, and on Ctrl-C, the temporary file is
+/// removed and whatever was at `path` before is left as it was.
+pub fn write_atomically_with(path: &Path, bytes: &[u8], sink: &mut dyn Sink) -> io::Result<()> {
+    let folder = folder_of(path);
+    let mut tmp = tempfile::Builder::new()
+        .prefix(&temp_prefix())
+        .suffix(".part")
+        .tempfile_in(&folder)?;
+    let pending = Unfinished::register(tmp.path(), Kind::File, path);
+    let written = sink.put(tmp.as_file_mut(), bytes).and_then(|()| {
+        // A temporary file is private (0600); the output is an ordinary document.
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt as _;
+            std::fs::set_permissions(tmp.path(), std::fs::Permissions::from_mode(0o644))?;
+        }
+        Ok(())
+    });
+    if let Err(e) = written {
+        // The file goes before its registration, so an interruption in between still
+        // finds it.
+        drop(tmp);
+        drop(pending);
+        return Err(e);
+    }
+    pending.finish(|| tmp.persist(path).map(|_| ()).map_err(|e| e.error))?;
+    // Make the rename itself durable (best effort: not every system opens folders).
+    if let Ok(dir) = File::open(&folder) {
+        let _ = dir.sync_all();
+    }
+    Ok(())
+}
+
+/// [`write_atomically_with`] to the real disk, with a message naming what happened,
+/// the file and what to do when it fails. `what` names the file for the reader ("memo"),
+/// `option` how to choose another path.
+pub fn write_output(
+    path: &Path,
+    bytes: &[u8],
+    what: &str,
+    option: &str,
+    sink: &mut dyn Sink,
+) -> Result<(), WriteFailure> {
+    write_atomically_with(path, bytes, sink).map_err(|e| {
+        let code = if e.kind() == ErrorKind::NotFound {
+            EXIT_INVALID
+        } else {
+            EXIT_INTERNAL
+        };
+        WriteFailure {
+            diagnostic: Diagnostic::error(
+                "write",
+                format!(
+                    "cannot write the {what}: {}; nothing was written, and a file already at \
+                     this path is unchanged",
+                    cause(&e)
+                ),
+            )
+            .in_file(path.display().to_string())
+            .with_hint(hint_for(&e, option)),
+            code,
+        }
+    })
+}
+
+/// True when process `pid` is known to have ended: Linux `/proc` shows no such
+/// process. Elsewhere nothing is known and the answer is false.
+pub fn process_ended(pid: u32) -> bool {
+    pid != std::process::id()
+        && Path::new("/proc/self").exists()
+        && !Path::new("/proc").join(pid.to_string()).exists()
+}
+
+/// Removes the temporary files that killed candor runs left in `folder`, and returns
+/// one sentence per file removed or left (when its writer may still be running).
+pub fn sweep_leftovers(folder: &Path) -> Vec<String> {
+    let mut notes = Vec::new();
+    let Ok(entries) = std::fs::read_dir(folder) else {
+        return notes;
+    };
+    let mut names: Vec<String> = entries
+        .filter_map(Result::ok)
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .filter(|n| n.starts_with(".candor-") && n.ends_with(".part"))
+        .collect();
+    names.sort();
+    for name in names {
+        let path = folder.join(&name);
+        let owner = name
+            .trim_start_matches(".candor-")
+            .split_once('-')
+            .and_then(|(pid, _)| pid.parse::<u32>().ok());
+        match owner {
+            Some(pid) if process_ended(pid) => match std::fs::remove_file(&path) {
+                Ok(()) => notes.push(format!(
+                    "removed {}, an unfinished file left by candor process {pid}, which was \
+                     stopped before it finished writing",
+                    path.display()
+                )),
+                Err(e) => notes.push(format!(
+                    "{} is an unfinished file left by candor process {pid}, which was stopped; \
+                     it cannot be removed ({}): remove it by hand",
+                    path.display(),
+                    cause(&e)
+                )),
+            },
+            Some(pid) if pid == std::process::id() => {}
+            _ => notes.push(format!(
+                "{} looks like an unfinished file of another candor run; remove it if no \
+                 candor is writing in this folder",
+                path.display()
+            )),
+        }
+    }
+    notes
+}
+
+/// What an unfinished path is, for the clean-up after an interruption.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Kind {
+    /// A temporary file about to be renamed over the destination.
+    File,
+    /// A folder being built into an archive version.
+    Folder,
+    /// An archive lock held by this process.
+    Lock,
+}
+
+#[derive(Debug)]
+struct Pending {
+    id: u64,
+    path: PathBuf,
+    kind: Kind,
+    destination: PathBuf,
+}
+
+static PENDING: Mutex<Vec<Pending>> = Mutex::new(Vec::new());
+static NEXT_ID: AtomicU64 = AtomicU64::new(0);
+
+fn pending() -> MutexGuard<'static, Vec<Pending>> {
+    PENDING
+        .lock()
+        .unwrap_or_else(|poisoned| poisoned.into_inner())
+}
+
+/// A path that must not outlive an interruption: registered while it exists
+/// unfinished, removed by the interrupt handler, forgotten when dropped.
+#[derive(Debug)]
+pub struct Unfinished {
+    id: u64,
+}
+
+impl Unfinished {
+    /// Registers `path` (of `kind`, on its way to `destination`) for removal should
+    /// candor be interrupted before [`Unfinished::finish`] or the guard is dropped.
+    pub fn register(path: &Path, kind: Kind, destination: &Path) -> Unfinished {
+        let id = NEXT_ID.fetch_add(1, Ordering::Relaxed);
+        pending().push(Pending {
+            id,
+            path: path.to_path_buf(),
+            kind,
+            destination: destination.to_path_buf(),
+        });
+        Unfinished { id }
+    }
+
+    /// Runs the step that completes the path (a rename), with the interrupt handler
+    /// held off, and forgets the path: an interruption then finds either the
+    /// unfinished path or the finished result, never a half-removed one.
+    pub fn finish<R>(self, step: impl FnOnce() -> R) -> R {
+        let mut list = pending();
+        let out = step();
+        list.retain(|p| p.id != self.id);
+        out
+    }
+}
+
+impl Drop for Unfinished {
+    fn drop(&mut self) {
+        pending().retain(|p| p.id != self.id);
+    }
+}
+
+/// Installs, once per process, the handler that on Ctrl-C (SIGINT), SIGTERM or SIGHUP
+/// removes every unfinished file and folder, then releases archive locks, says so,
+/// and exits with [`EXIT_INTERRUPTED`].
+pub fn clean_up_on_interrupt() {
+    static ONCE: Once = Once::new();
+    ONCE.call_once(|| {
+        // Without a handler the default applies: candor stops, and the next run removes
+        // or reports what was left.
+        let _ = ctrlc::set_handler(on_interrupt);
+    });
+}
+
+fn on_interrupt() {
+    // Held until the process exits, so no rename can start during the clean-up.
+    let list = pending();
+    let mut lines = Vec::new();
+    // Locks last: no other filer may start while a half-built version is still there.
+    for p in list.iter().filter(|p| p.kind != Kind::Lock) {
+        let removed = match p.kind {
+            Kind::Folder => remove_folder(&p.path),
+            _ => std::fs::remove_file(&p.path).or_else(|e| {
+                if e.kind() == ErrorKind::NotFound {
+                    Ok(())
+                } else {
+                    Err(e)
+                }
+            }),
+        };
+        let what = if p.kind == Kind::Folder {
+            "version being filed"
+        } else {
+            "file"
+        };
+        lines.push(match removed {
+            Ok(()) => format!(
+                "removed the unfinished {what} {}; {} is as it was before",
+                p.path.display(),
+                p.destination.display()
+            ),
+            Err(e) => format!(
+                "could not remove the unfinished {what} {} ({}): remove it by hand",
+                p.path.display(),
+                cause(&e)
+            ),
+        });
+    }
+    for p in list.iter().filter(|p| p.kind == Kind::Lock) {
+        match std::fs::remove_file(&p.path) {
+            Ok(()) => lines.push(format!("released the archive lock {}", p.path.display())),
+            Err(e) => lines.push(format!(
+                "could not release the archive lock {} ({}): remove it by hand",
+                p.path.display(),
+                cause(&e)
+            )),
+        }
+    }
+    let mut err = io::stderr().lock();
+    let _ = writeln!(err, "candor: interrupted; nothing was written");
+    for line in lines {
+        let _ = writeln!(err, "  {line}");
+    }
+    let _ = writeln!(err, "  run the command again to write it");
+    std::process::exit(EXIT_INTERRUPTED);
+}
+
+/// Removes a folder that files may still be appearing in (the main thread may be
+/// writing into it while the handler runs).
+fn remove_folder(path: &Path) -> io::Result<()> {
+    let mut last = Ok(());
+    for _ in 0..5 {
+        last = std::fs::remove_dir_all(path);
+        match &last {
+            Ok(()) => return Ok(()),
+            Err(e) if e.kind() == ErrorKind::NotFound => return Ok(()),
+            Err(_) => std::thread::sleep(std::time::Duration::from_millis(20)),
+        }
+    }
+    last
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn leftovers_of_a_dead_process_are_removed_and_others_reported() {
+        if !Path::new("/proc/self").exists() {
+            return;
+        }
+        let dir = tempfile::tempdir().unwrap();
+        // Above Linux's largest process id (2^22), so no process has it.
+        let dead = dir.path().join(".candor-4194305-abcdef.part");
+        let mine = dir.path().join(format!("{}abcdef.part", temp_prefix()));
+        let unknown = dir.path().join(".candor-abcdef.part");
+        for p in [&dead, &mine, &unknown] {
+            std::fs::write(p, "half").unwrap();
+        }
+        let notes = sweep_leftovers(dir.path());
+        assert!(!dead.exists());
+        assert!(mine.exists(), "this process's own file is being written");
+        assert!(unknown.exists(), "a file of unknown owner is only reported");
+        assert_eq!(notes.len(), 2, "{notes:?}");
+        assert!(notes[0].contains("candor process 4194305"), "{notes:?}");
+        assert!(
+            notes[1].contains("remove it if no candor is writing"),
+            "{notes:?}"
+        );
+    }
+
+    #[test]
+    fn a_finished_path_is_forgotten() {
+        let count = || {
+            pending()
+                .iter()
+                .filter(|p| p.path == Path::new("/x/a"))
+                .count()
+        };
+        let a = Unfinished::register(Path::new("/x/a"), Kind::File, Path::new("/x/b"));
+        assert_eq!(count(), 1);
+        a.finish(|| ());
+        assert_eq!(count(), 0);
+        let b = Unfinished::register(Path::new("/x/a"), Kind::File, Path::new("/x/b"));
+        drop(b);
+        assert_eq!(count(), 0);
+    }
+}
