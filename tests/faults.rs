@@ -755,7 +755,7 @@ fn ctrl_c_or_sigterm_while_writing_removes_the_unfinished_memo() {
         let err = text(&done.stderr);
         assert_eq!(done.status.code(), Some(130), "SIG{sig}: {err}");
         assert!(
-            err.contains("candor: interrupted; nothing was written"),
+            err.contains("candor: interrupted before it finished writing"),
             "{err}"
         );
         assert!(err.contains("removed the unfinished file"), "{err}");
@@ -763,7 +763,7 @@ fn ctrl_c_or_sigterm_while_writing_removes_the_unfinished_memo() {
             err.contains(&format!("{} is as it was before", out.display())),
             "{err}"
         );
-        assert!(err.contains("run the command again"), "{err}");
+        assert!(err.contains("run the command again to finish"), "{err}");
         assert!(
             leftovers(dir.path()).is_empty(),
             "SIG{sig}: {:?}",

@@ -424,11 +424,16 @@ fn on_interrupt() {
         }
     }
     let mut err = io::stderr().lock();
-    let _ = writeln!(err, "candor: interrupted; nothing was written");
-    for line in lines {
-        let _ = writeln!(err, "  {line}");
+    if lines.is_empty() {
+        // Between writes (while a memo is made, or `--watch` waits): nothing half-done.
+        let _ = writeln!(err, "candor: interrupted");
+    } else {
+        let _ = writeln!(err, "candor: interrupted before it finished writing");
+        for line in lines {
+            let _ = writeln!(err, "  {line}");
+        }
+        let _ = writeln!(err, "  run the command again to finish");
     }
-    let _ = writeln!(err, "  run the command again to write it");
     std::process::exit(EXIT_INTERRUPTED);
 }
 
