@@ -33,7 +33,7 @@ pub fn render_failure(failure: &LoadFailure, deal_file: &str) -> String {
         let source = match d.file.as_deref() {
             Some(f) if f != deal_file => {
                 // A CSV file's lines, read again only to show them.
-                other = std::fs::read_to_string(f).ok();
+                other = std::fs::read(f).ok().map(|b| super::load::shown_text(&b));
                 other.as_deref()
             }
             _ => failure.source.as_deref(),

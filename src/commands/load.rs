@@ -2,6 +2,8 @@
 //! Every subcommand that takes a deal file goes through [`load_deal`].
 
 use crate::diag::Diagnostic;
+use crate::input::DecodeError;
+use crate::model::values::grouped;
 use crate::model::Deal;
 use std::io::Read;
 use std::path::{Path, PathBuf};
@@ -44,8 +46,9 @@ fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
     if meta.len() > MAX_FILE_BYTES {
         return Err((
             format!(
-                "it is {} bytes, more than the {MAX_FILE_BYTES} accepted",
-                meta.len()
+                "it is {} bytes, more than the {} (10 MiB) accepted",
+                grouped(meta.len()),
+                grouped(MAX_FILE_BYTES)
             ),
             "file-too-large",
         ));
@@ -58,11 +61,32 @@ fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
         .map_err(|e| (io_words(&e), "file-unreadable"))?;
     if bytes.len() as u64 > MAX_FILE_BYTES {
         return Err((
-            format!("it is more than the {MAX_FILE_BYTES} bytes accepted"),
+            format!(
+                "it is more than the {} bytes (10 MiB) accepted",
+                grouped(MAX_FILE_BYTES)
+            ),
             "file-too-large",
         ));
     }
     Ok(bytes)
+}
+
+/// A file's bytes as lines to show under a diagnostic: invalid UTF-8 as replacement
+/// characters, a leading byte-order mark dropped (positions count from after it), and
+/// control characters as their visible pictures (U+2400 on), one character for one,
+/// so that columns stay where they were.
+pub fn shown_text(bytes: &[u8]) -> String {
+    let body = bytes.strip_prefix(BOM).unwrap_or(bytes);
+    String::from_utf8_lossy(body)
+        .chars()
+        .map(|c| match c {
+            '\t' | '\n' | '\r' => c,
+            '\0'..='\u{1f}' => char::from_u32(0x2400 + u32::from(c)).unwrap_or('\u{fffd}'),
+            '\u{7f}' => '\u{2421}',
+            '\u{80}'..='\u{9f}' if c != '\u{85}' => '\u{fffd}',
+            _ => c,
+        })
+        .collect()
 }
 
 fn io_words(e: &std::io::Error) -> String {
@@ -83,7 +107,12 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
     let source = match read_limited(path) {
         Ok(b) => b,
         Err((why, code)) => {
-            let d = Diagnostic::error(code, format!("cannot read the deal file: {why}"));
+            let mut d = Diagnostic::error(code, format!("cannot read the deal file: {why}"));
+            if code == "file-too-large" {
+                d.hint = Some(
+                    "a deal file is a few kilobytes, and 100,000 flows fit in about 1 MB: check that this is the file meant".to_string(),
+                );
+            }
             return Err(fail(d, None));
         }
     };
@@ -93,10 +122,7 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
             // Before a bad byte the lines are shown as they are, the byte itself as a
             // replacement character under the caret; a file in another encoding has no
             // lines worth showing.
-            let lines = e.position().map(|_| {
-                let body = source.strip_prefix(BOM).unwrap_or(&source);
-                String::from_utf8_lossy(body).into_owned()
-            });
+            let lines = e.position().map(|_| shown_text(&source));
             return Err(fail(e.diagnostic(), lines));
         }
     };
@@ -108,25 +134,24 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
     };
     let raw = crate::input::parse(&text).map_err(|diags| LoadFailure {
         diagnostics: with_file(diags),
-        source: Some(text.clone()),
+        source: Some(shown_text(text.as_bytes())),
     })?;
 
     let folder = path.parent().map(Path::to_path_buf).unwrap_or_default();
     let mut companions: Vec<(String, Vec<u8>)> = Vec::new();
+    // CSV files that are not UTF-8: reported in the CSV file itself, at the bad byte.
+    let mut undecodable: Vec<(String, DecodeError)> = Vec::new();
     let mut read = |name: &str| -> Result<String, String> {
         let full = folder.join(name);
         let bytes = read_limited(&full).map_err(|(why, _)| why)?;
-        let text = crate::input::decode(&bytes)
-            .map_err(|e| {
-                let at = e
-                    .position()
-                    .map(|p| format!(" at line {}, column {}", p.line, p.column))
-                    .unwrap_or_default();
-                let what = e.message();
-                let what = what.trim_start_matches("the file ");
-                format!("it {what}{at}; {}", e.hint())
-            })?
-            .to_string();
+        let text = match crate::input::decode(&bytes) {
+            Ok(t) => t.to_string(),
+            Err(e) => {
+                let why = e.message().replacen("the file ", "it ", 1);
+                undecodable.push((name.to_string(), e));
+                return Err(why);
+            }
+        };
         if !companions.iter().any(|(n, _)| n == name) {
             companions.push((name.to_string(), bytes));
         }
@@ -142,13 +167,27 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
         Err(diags) => Err(LoadFailure {
             diagnostics: diags
                 .into_iter()
-                .map(|d| match d.file.clone() {
-                    // A diagnostic about a CSV file names it relative to the deal file.
-                    Some(f) => d.in_file(folder.join(f).display().to_string()),
-                    None => d.in_file(shown.clone()),
+                .map(|d| {
+                    let bad_csv = undecodable.iter().find(|(name, _)| {
+                        d.code == "csv-missing"
+                            && d.message
+                                .starts_with(&format!("cannot read the CSV file `{name}`:"))
+                    });
+                    match (bad_csv, d.file.clone()) {
+                        (Some((name, e)), _) => {
+                            let mut csv = e
+                                .diagnostic()
+                                .in_file(folder.join(name).display().to_string());
+                            csv.field = d.field;
+                            csv
+                        }
+                        // A diagnostic about a CSV file names it relative to the deal file.
+                        (None, Some(f)) => d.in_file(folder.join(f).display().to_string()),
+                        (None, None) => d.in_file(shown.clone()),
+                    }
                 })
                 .collect(),
-            source: Some(text),
+            source: Some(shown_text(text.as_bytes())),
         }),
     }
 }

@@ -296,7 +296,7 @@ pub fn parse(text: &str) -> Result<RawDeal, Vec<Diagnostic>> {
                     format!("the file is not valid YAML: {}", e.info()),
                 )
                 .at(m.line(), m.col() + 1)
-                .with_hint(syntax_hint(text, m.line()))]);
+                .with_hint(syntax_hint(text, m.line(), e.info()))]);
             }
         };
         let pos = position(&span);
@@ -406,8 +406,8 @@ pub fn parse(text: &str) -> Result<RawDeal, Vec<Diagnostic>> {
     Ok(RawDeal { root })
 }
 
-/// A hint for the commonest cause of a syntax error on a line.
-fn syntax_hint(text: &str, line: usize) -> String {
+/// A hint for the commonest cause of a syntax error on a line, given the parser's words.
+fn syntax_hint(text: &str, line: usize, info: &str) -> String {
     let around = text
         .lines()
         .skip(line.saturating_sub(2))
@@ -415,6 +415,10 @@ fn syntax_hint(text: &str, line: usize) -> String {
         .any(|l| l.trim_end().starts_with(|c: char| c.is_whitespace()) && l.contains('\t'));
     if around {
         "YAML indents with spaces only; replace the tab characters with spaces".to_string()
+    } else if info.contains("unknown anchor") {
+        "an alias `*name` repeats a value marked `&name` earlier in the file; mark it, or write the value out".to_string()
+    } else if info.contains("quoted scalar") {
+        "check that every quoted text has its closing quote, and that a line break inside one is indented".to_string()
     } else {
         "check the indentation and that every `key: value` pair has a colon followed by a space"
             .to_string()

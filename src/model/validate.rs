@@ -228,6 +228,10 @@ impl Ctx<'_, '_> {
             }
             if !known.contains(&name) {
                 let hint = match nearest(name, known) {
+                    _ if name == "<<" => format!(
+                        "candor does not apply YAML merge keys (`<<`); write the fields out here: {}",
+                        choices(known)
+                    ),
                     Some(n) => format!("did you mean `{n}`?"),
                     None => format!("the fields here are {}", choices(known)),
                 };
@@ -330,7 +334,11 @@ impl Ctx<'_, '_> {
             Ok(_) => {
                 self.report(
                     "number-range",
-                    format!("`{}` is beyond {MAX_SHIFT} in size", text.trim()),
+                    format!(
+                        "a shift of {} is more than the {} periods or days accepted",
+                        text.trim(),
+                        values::grouped(MAX_SHIFT.unsigned_abs())
+                    ),
                     path,
                     node.position,
                 );
@@ -388,8 +396,9 @@ impl Ctx<'_, '_> {
                     self.hint(
                         "too-many-flows",
                         format!(
-                            "`{path}` holds {} flows; at most {MAX_FLOWS} are accepted",
-                            items.len()
+                            "`{path}` holds {} flows; at most {} are accepted",
+                            values::grouped(items.len() as u64),
+                            values::grouped(MAX_FLOWS as u64)
                         ),
                         path,
                         node.position,
@@ -554,6 +563,24 @@ impl Ctx<'_, '_> {
     }
 
     fn dated_flow(&mut self, node: &Node, path: &str) -> Option<RawFlow<NaiveDate>> {
+        // `- 2027-01-15: -1000` reads as a mapping keyed by the date: say so once,
+        // rather than as an unknown field and two missing ones.
+        if let Value::Mapping(entries) = &node.value {
+            if let [(k, v)] = entries.as_slice() {
+                let key = k.scalar().unwrap_or_default();
+                if key.starts_with(|c: char| c.is_ascii_digit()) {
+                    let amount = v.scalar().unwrap_or("-1000");
+                    self.hint(
+                        "wrong-type",
+                        format!("`{path}` gives its date as a key, not as `date:`"),
+                        path,
+                        k.position,
+                        format!("write the flow as `- {{ date: {key}, amount: {amount} }}`"),
+                    );
+                    return None;
+                }
+            }
+        }
         let f = self.fields(node, path, DATED)?;
         let date = self.required(&f, path, "date", "2027-01-15");
         let amount = self.required(&f, path, "amount", "-1000");
@@ -623,14 +650,16 @@ impl Ctx<'_, '_> {
         let before = self.diags.len();
         let rows = self.csv_rows(&name, &text, first_column)?;
         if rows.len() > MAX_FLOWS {
-            self.report(
+            self.hint(
                 "too-many-flows",
                 format!(
-                    "`{name}` holds {} flows; at most {MAX_FLOWS} are accepted",
-                    rows.len()
+                    "`{name}` holds {} flows; at most {} are accepted",
+                    values::grouped(rows.len() as u64),
+                    values::grouped(MAX_FLOWS as u64)
                 ),
                 &csv_path,
                 csv_node.position,
+                "aggregate the flows to a coarser period",
             );
             return None;
         }
@@ -788,15 +817,19 @@ impl Ctx<'_, '_> {
         for row in body {
             if row.len() != header.len() {
                 let at = row.first().map_or(start, |c| c.position);
+                let cells = if row.len() == 1 { "cell" } else { "cells" };
                 self.diags.push(in_csv(
                     "csv-format",
                     format!(
-                        "this row has {} cells, the header names {}",
+                        "this row has {} {cells} but the header names {} columns",
                         row.len(),
                         header.len()
                     ),
                     at,
-                    None,
+                    Some(format!(
+                        "give every row the columns {}, in that order; an empty note is a trailing comma",
+                        names.join(",")
+                    )),
                 ));
                 continue;
             }

@@ -14,8 +14,9 @@ pub const MAX_SCALE: u32 = 6;
 pub const MAX_RATE: i64 = 10_000;
 /// Earliest year of a date accepted: earlier years are typing slips (`0207` for `2027`).
 pub const MIN_YEAR: i32 = 1900;
-/// Latest year of a date accepted: a century of flows from today fits with room to spare.
-pub const MAX_YEAR: i32 = 2299;
+/// Latest year of a date accepted: a series of daily dates as long as the flow limit
+/// allows (100,000 days, 274 years) fits when it starts today.
+pub const MAX_YEAR: i32 = 2399;
 
 /// Why a scalar could not be read, in words for the user.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -176,6 +177,19 @@ fn percent(rate: Decimal) -> String {
     (rate * Decimal::ONE_HUNDRED).normalize().to_string()
 }
 
+/// A count with thousands separators, for messages: `200,000`.
+pub fn grouped(n: u64) -> String {
+    let digits = n.to_string();
+    let mut out = String::with_capacity(digits.len() + digits.len() / 3);
+    for (i, ch) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i) % 3 == 0 {
+            out.push(',');
+        }
+        out.push(ch);
+    }
+    out
+}
+
 /// Reads a calendar date written `YYYY-MM-DD`.
 pub fn parse_date(text: &str) -> Result<NaiveDate, ValueError> {
     let t = text.trim();
@@ -314,10 +328,18 @@ mod tests {
         assert!(parse_date("15/01/2027").is_err());
         // Outside the accepted years: typing slips, refused with their own words.
         let e = parse_date("0207-01-15").unwrap_err();
-        assert!(e.message.contains("1900 to 2299"), "{}", e.message);
-        assert!(parse_date("2300-01-01").is_err());
+        assert!(e.message.contains("1900 to 2399"), "{}", e.message);
+        assert!(parse_date("2400-01-01").is_err());
         assert!(parse_date("1900-01-01").is_ok());
-        assert!(parse_date("2299-12-31").is_ok());
+        assert!(parse_date("2399-12-31").is_ok());
+    }
+
+    #[test]
+    fn counts_are_grouped_by_thousands() {
+        assert_eq!(grouped(0), "0");
+        assert_eq!(grouped(999), "999");
+        assert_eq!(grouped(100_000), "100,000");
+        assert_eq!(grouped(50_000_026), "50,000,026");
     }
 
     #[test]
