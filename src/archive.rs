@@ -419,18 +419,17 @@ impl ArchiveLock {
     fn acquire(path: &Path, notes: &mut Vec<String>) -> Result<ArchiveLock, Diagnostic> {
         let started = std::time::Instant::now();
         loop {
-            // Registered before it exists, so that Ctrl-C between the two cannot leave it.
-            let pending = Unfinished::register(path, Kind::Lock, path);
             match create_lock_file(path) {
+                // Registered only once it is ours, so the handler never removes another
+                // filer's lock; a Ctrl-C in between leaves a lock of an ended process,
+                // which the next filing removes.
                 Ok(()) => {
                     return Ok(ArchiveLock {
                         path: path.to_path_buf(),
-                        _pending: pending,
+                        _pending: Unfinished::register(path, Kind::Lock, path),
                     })
                 }
                 Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
-                    // Not ours: the handler must not remove it.
-                    drop(pending);
                     if let Some(pid) = dead_owner(path) {
                         if break_stale_lock(path, pid)? {
                             notes.push(format!(
@@ -455,7 +454,6 @@ impl ArchiveLock {
                     std::thread::sleep(std::time::Duration::from_millis(25));
                 }
                 Err(e) => {
-                    drop(pending);
                     return Err(archive_error(
                         format!("cannot write in the archive folder: {}", io_words(&e)),
                         path,
@@ -478,16 +476,15 @@ impl Drop for ArchiveLock {
 /// a lock that another run has just taken.
 fn break_stale_lock(path: &Path, pid: u32) -> Result<bool, Diagnostic> {
     let breaker = path.with_file_name(format!("{LOCK}.break"));
-    let pending = Unfinished::register(&breaker, Kind::Lock, &breaker);
     match create_lock_file(&breaker) {
         Ok(()) => {
+            let pending = Unfinished::register(&breaker, Kind::Lock, &breaker);
             let removed = dead_owner(path) == Some(pid) && std::fs::remove_file(path).is_ok();
             let _ = std::fs::remove_file(&breaker);
             drop(pending);
             Ok(removed)
         }
         Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
-            drop(pending);
             match dead_owner(&breaker) {
                 Some(other) => Err(archive_error(
                     format!(
@@ -509,13 +506,10 @@ fn break_stale_lock(path: &Path, pid: u32) -> Result<bool, Diagnostic> {
                 }
             }
         }
-        Err(e) => {
-            drop(pending);
-            Err(archive_error(
-                format!("cannot write in the archive folder: {}", io_words(&e)),
-                &breaker,
-            ))
-        }
+        Err(e) => Err(archive_error(
+            format!("cannot write in the archive folder: {}", io_words(&e)),
+            &breaker,
+        )),
     }
 }
 
