@@ -202,6 +202,22 @@ fn a_csv_of_exactly_the_limit_is_accepted() {
 }
 
 #[test]
+fn scenarios_copying_a_long_base_series_are_bounded() {
+    // Fifty one-line scenarios over 100,000 base flows would be 5.1 million flows from
+    // a 0.6 MB file; the total is bounded at 1,000,000 (MAX_TOTAL_FLOWS).
+    let dir = tempfile::tempdir().expect("temp dir");
+    let mut deal = daily_deal(100_000);
+    deal.push_str("scenarios:\n");
+    for i in 0..50 {
+        deal.push_str(&format!("  copy-{i}: {{ inflows_factor: 1 }}\n"));
+    }
+    std::fs::write(dir.path().join("copies.yaml"), deal).expect("write");
+    let (code, _, stderr) = check_in(dir.path(), "copies.yaml");
+    assert_eq!(code, Some(1));
+    insta::assert_snapshot!("generated__scenarios_beyond_the_total", stderr);
+}
+
+#[test]
 fn an_oversized_csv_is_refused_before_reading() {
     let dir = tempfile::tempdir().expect("temp dir");
     let big = std::fs::File::create(dir.path().join("big.csv")).expect("create");

@@ -16,6 +16,12 @@ use rust_decimal::Decimal;
 pub const MAX_FLOWS: usize = 100_000;
 /// Most diagnostics reported for one file; past this the list ends with a note.
 pub const MAX_DIAGNOSTICS: usize = 100;
+/// Most scenarios accepted besides the base case: a committee reads a handful.
+pub const MAX_SCENARIOS: usize = 100;
+/// Most flows accepted over the base case and every scenario together, so that a
+/// short file of scenarios that each copy a long base series cannot take the memory
+/// and the time of a hundred million flows.
+pub const MAX_TOTAL_FLOWS: usize = 1_000_000;
 /// Largest shift accepted, in periods or days.
 const MAX_SHIFT: i64 = 100_000;
 
@@ -1236,8 +1242,21 @@ fn build(ctx: &mut Ctx<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     }
     if let Some(s) = top.get("scenarios") {
         match &s.value {
+            Value::Mapping(entries) if entries.len() > MAX_SCENARIOS => {
+                ctx.hint(
+                    "too-many-scenarios",
+                    format!(
+                        "`scenarios` holds {} scenarios; at most {MAX_SCENARIOS} are accepted",
+                        values::grouped(entries.len() as u64)
+                    ),
+                    "scenarios",
+                    s.position,
+                    "keep the scenarios the committee needs, and analyse the others in files of their own",
+                );
+            }
             Value::Mapping(entries) => {
                 let mut seen: Vec<&str> = Vec::new();
+                let mut total: usize = scenarios.iter().map(|s| s.flows.points.len()).sum();
                 for (k, v) in entries {
                     let Some(name) = k.scalar() else {
                         ctx.wrong_type(k, "scenarios", "a scenario name");
@@ -1277,6 +1296,20 @@ fn build(ctx: &mut Ctx<'_, '_>, raw: &RawDeal) -> Option<Deal> {
                     }
                     if let Some((series, description)) = ctx.scenario(name, v, base.as_ref()) {
                         if let Some(flows) = ctx.resolve(&series, &path, v.position) {
+                            total = total.saturating_add(flows.points.len());
+                            if total > MAX_TOTAL_FLOWS {
+                                ctx.hint(
+                                    "too-many-flows",
+                                    format!(
+                                        "the base case and the scenarios up to `{name}` hold more than {} flows in all",
+                                        values::grouped(MAX_TOTAL_FLOWS as u64)
+                                    ),
+                                    &path,
+                                    k.position,
+                                    "aggregate the flows to a coarser period, or keep fewer scenarios",
+                                );
+                                break;
+                            }
                             if flows.points.iter().all(|p| p.amount.is_zero()) {
                                 ctx.report(
                                     "all-zero-flows",
