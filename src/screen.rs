@@ -19,8 +19,9 @@ struct Line<'a> {
     #[serde(borrow)]
     id: Option<&'a RawValue>,
     every: Option<String>,
+    /// The whole array, read by [`amounts_of`] (a fast path for plain numbers).
     #[serde(borrow)]
-    amounts: Option<Vec<&'a RawValue>>,
+    amounts: Option<&'a RawValue>,
     day_count: Option<String>,
     #[serde(borrow)]
     dated: Option<Vec<DatedFlow<'a>>>,
@@ -44,6 +45,171 @@ struct DatedFlow<'a> {
 
 /// An error for one line: (code, message).
 type LineError = (&'static str, String);
+
+/// Plain JSON numbers (`-123.45`: no exponent, at most 18 digits, within the
+/// deal-file limits) separated by commas, read in one pass straight into exact
+/// decimals; `None` as soon as anything else appears, for the general reader.
+fn plain_numbers(body: &[u8]) -> Option<Vec<Decimal>> {
+    const POW10: [i64; 7] = [1, 10, 100, 1_000, 10_000, 100_000, 1_000_000];
+    let mut out = Vec::with_capacity(body.len() / 8 + 1);
+    let mut i = 0;
+    let len = body.len();
+    let skip_space = |i: &mut usize| {
+        while *i < len && is_json_space(body[*i]) {
+            *i += 1;
+        }
+    };
+    skip_space(&mut i);
+    if i == len {
+        return Some(out);
+    }
+    loop {
+        let negative = body[i] == b'-';
+        if negative {
+            i += 1;
+        }
+        // JSON's grammar: an integer part without leading zeros, then optionally a
+        // point and at least one digit (exponents go to the general reader).
+        let (mut mantissa, mut digits, mut scale) = (0i64, 0u32, 0u32);
+        let int_start = i;
+        while i < len && body[i].is_ascii_digit() {
+            mantissa = mantissa * 10 + i64::from(body[i] - b'0');
+            digits += 1;
+            i += 1;
+            if digits > 18 {
+                return None;
+            }
+        }
+        if i == int_start || (body[int_start] == b'0' && i - int_start > 1) {
+            return None;
+        }
+        if i < len && body[i] == b'.' {
+            i += 1;
+            let frac_start = i;
+            while i < len && body[i].is_ascii_digit() {
+                mantissa = mantissa * 10 + i64::from(body[i] - b'0');
+                digits += 1;
+                scale += 1;
+                i += 1;
+                if digits > 18 {
+                    return None;
+                }
+            }
+            if i == frac_start {
+                return None;
+            }
+        }
+        if digits == 0 || scale > MAX_SCALE || mantissa > MAX_AMOUNT * POW10[scale as usize] {
+            return None;
+        }
+        out.push(Decimal::new(
+            if negative { -mantissa } else { mantissa },
+            scale,
+        ));
+        skip_space(&mut i);
+        if i == len {
+            return Some(out);
+        }
+        if body[i] != b',' {
+            return None;
+        }
+        i += 1;
+        skip_space(&mut i);
+        if i == len {
+            return None;
+        }
+    }
+}
+
+/// White space as JSON defines it.
+fn is_json_space(b: u8) -> bool {
+    matches!(b, b' ' | b'\t' | b'\n' | b'\r')
+}
+
+/// Finds the top-level `"amounts"` array of a batch line and reads it with
+/// [`plain_numbers`]: the line comes back with that array emptied (for the JSON parser,
+/// which then has little left to do) together with the amounts. `None` when the line
+/// has no such array or it holds anything but plain numbers: the general path then
+/// reads the whole line, and words any error.
+fn split_amounts(text: &str) -> Option<(String, Vec<Decimal>)> {
+    let b = text.as_bytes();
+    let (mut i, mut depth) = (0usize, 0i32);
+    while i < b.len() {
+        match b[i] {
+            b'"' => {
+                let start = i;
+                i += 1;
+                while i < b.len() && b[i] != b'"' {
+                    i += if b[i] == b'\\' { 2 } else { 1 };
+                }
+                i += 1;
+                if depth != 1 || b.get(start..i) != Some(&b"\"amounts\""[..]) {
+                    continue;
+                }
+                let mut j = i;
+                while j < b.len() && is_json_space(b[j]) {
+                    j += 1;
+                }
+                if b.get(j) != Some(&b':') {
+                    continue;
+                }
+                j += 1;
+                while j < b.len() && is_json_space(b[j]) {
+                    j += 1;
+                }
+                if b.get(j) != Some(&b'[') {
+                    return None;
+                }
+                let open = j;
+                let close = open + b[open..].iter().position(|&c| c == b']')?;
+                let body = &b[open + 1..close];
+                if body.iter().any(|&c| matches!(c, b'[' | b'{' | b'"')) {
+                    return None;
+                }
+                let amounts = plain_numbers(body)?;
+                let mut rest = String::with_capacity(text.len() - body.len());
+                rest.push_str(&text[..=open]);
+                rest.push_str(&text[close..]);
+                return Some((rest, amounts));
+            }
+            b'{' | b'[' => {
+                depth += 1;
+                i += 1;
+            }
+            b'}' | b']' => {
+                depth -= 1;
+                i += 1;
+            }
+            _ => i += 1,
+        }
+    }
+    None
+}
+
+/// The amounts of a periodic series: plain numbers are read straight from the array's
+/// text (the JSON parser has already checked its grammar); anything else (strings,
+/// exponents, long numbers) goes through the general reader.
+fn amounts_of(raw: &RawValue) -> Result<Vec<Decimal>, LineError> {
+    let text = raw.get().as_bytes().trim_ascii();
+    if let Some(body) = text.strip_prefix(b"[").and_then(|t| t.strip_suffix(b"]")) {
+        if let Some(amounts) = plain_numbers(body) {
+            return Ok(amounts);
+        }
+    }
+    let items: Vec<&RawValue> = serde_json::from_str(raw.get()).map_err(|e| {
+        (
+            "bad-line",
+            format!("`amounts` must be a list of numbers: {e}"),
+        )
+    })?;
+    items
+        .iter()
+        .enumerate()
+        .map(|(i, raw)| {
+            exact_decimal(raw).map_err(|m| ("bad-number", format!("amounts[{i}]: {m}")))
+        })
+        .collect()
+}
 
 /// Reads a JSON number or a decimal string exactly (the text, never a binary float).
 fn exact_decimal(raw: &RawValue) -> Result<Decimal, String> {
@@ -91,14 +257,19 @@ fn frequency(name: &str) -> Option<Frequency> {
     .find(|f| f.as_str() == name)
 }
 
-fn flows_of(line: &Line<'_>) -> Result<Flows, LineError> {
+/// The series of a line; `amounts`, when given, were read ahead by [`split_amounts`].
+fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, LineError> {
     match (&line.amounts, &line.dated) {
         (Some(_), Some(_)) => Err((
             "flows-conflict",
             "give either `amounts` or `dated`, not both".into(),
         )),
         (None, None) => Err(("missing-field", "no `amounts` or `dated` flows".into())),
-        (Some(amounts), None) => {
+        (Some(raw), None) => {
+            let amounts = match amounts {
+                Some(a) => a,
+                None => amounts_of(raw)?,
+            };
             let every = line.every.as_deref().unwrap_or("year");
             let freq = frequency(every).ok_or((
                 "unknown-value",
@@ -113,19 +284,16 @@ fn flows_of(line: &Line<'_>) -> Result<Flows, LineError> {
                 ));
             }
             let points = amounts
-                .iter()
+                .into_iter()
                 .enumerate()
-                .map(|(i, raw)| {
-                    Ok(FlowPoint {
-                        offset: i as i64,
-                        amount: exact_decimal(raw)
-                            .map_err(|m| ("bad-number", format!("amounts[{i}]: {m}")))?,
-                        date: None,
-                        period: Some(i as u32),
-                        note: None,
-                    })
+                .map(|(i, amount)| FlowPoint {
+                    offset: i as i64,
+                    amount,
+                    date: None,
+                    period: Some(i as u32),
+                    note: None,
                 })
-                .collect::<Result<Vec<_>, LineError>>()?;
+                .collect();
             Ok(Flows {
                 points,
                 units_per_year: freq.per_year() as u64,
@@ -180,7 +348,21 @@ fn flows_of(line: &Line<'_>) -> Result<Flows, LineError> {
 
 /// Screens one line; always returns one JSON object.
 pub fn screen_line(text: &str, index: usize) -> Value {
-    let line: Line<'_> = match serde_json::from_str(text) {
+    // Most lines are a short object around one long list of plain numbers: read that
+    // list directly and leave the parser only the rest.
+    let (rest, mut amounts) = match split_amounts(text) {
+        Some((rest, amounts)) => (Some(rest), Some(amounts)),
+        None => (None, None),
+    };
+    let parsed = match &rest {
+        Some(r) => serde_json::from_str(r).or_else(|_| {
+            // Errors are worded (with their columns) from the line as written.
+            amounts = None;
+            serde_json::from_str(text)
+        }),
+        None => serde_json::from_str(text),
+    };
+    let line: Line<'_> = match parsed {
         Ok(l) => l,
         Err(e) => {
             // Still name the series when its id can be read.
@@ -195,7 +377,7 @@ pub fn screen_line(text: &str, index: usize) -> Value {
         .id
         .and_then(|r| serde_json::from_str(r.get()).ok())
         .unwrap_or(json!(format!("line {}", index + 1)));
-    match screen(&line) {
+    match screen(&line, amounts) {
         Ok(mut v) => {
             if let Value::Object(map) = &mut v {
                 map.insert("id".into(), id);
@@ -211,8 +393,8 @@ pub fn screen_line(text: &str, index: usize) -> Value {
     }
 }
 
-fn screen(line: &Line<'_>) -> Result<Value, LineError> {
-    let flows = flows_of(line)?.normalised();
+fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Value, LineError> {
+    let flows = flows_of(line, amounts)?.into_normalised();
     let hurdle = line
         .hurdle_rate
         .map(exact_rate)
@@ -288,4 +470,82 @@ pub fn screen_all(text: &str) -> Vec<String> {
         .par_iter()
         .map(|(i, l)| screen_line(l, *i).to_string())
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rust_decimal_macros::dec;
+
+    #[test]
+    fn plain_numbers_follow_the_json_grammar() {
+        // RFC 8259 section 6: no leading zeros, digits on both sides of a point.
+        assert_eq!(
+            plain_numbers(b" -1.50, 0, 2\n,\t0.25 "),
+            Some(vec![dec!(-1.50), dec!(0), dec!(2), dec!(0.25)])
+        );
+        assert_eq!(plain_numbers(b""), Some(vec![]));
+        for bad in [
+            &b"01"[..],
+            b".5",
+            b"5.",
+            b"-",
+            b"1,",
+            b",1",
+            b"1 2",
+            b"1e3",
+            b"+1",
+            b"1\x0c",
+            b"1234567890123456789",
+        ] {
+            assert_eq!(plain_numbers(bad), None, "{}", String::from_utf8_lossy(bad));
+        }
+        // Beyond the deal-file limits: left to the general reader, which words the error.
+        assert_eq!(plain_numbers(b"1000000000000000.01"), None);
+        assert_eq!(plain_numbers(b"1.0000001"), None);
+        assert_eq!(plain_numbers(b"1000000000000000"), Some(vec![dec!(1e15)]));
+    }
+
+    #[test]
+    fn the_read_ahead_list_gives_what_the_general_reader_gives() {
+        let lines = [
+            r#"{"id": "a", "every": "quarter", "amounts": [-100, 30.5, 40, 50.25], "hurdle_rate": "8%"}"#,
+            r#"{"amounts":[-1000,0,1200], "id": 7}"#,
+            r#"{"id": "x\"amounts\": [1]", "amounts": [-5, 6]}"#,
+            r#"{"id": "n", "amounts": [-5, 6], "amounts": [1]}"#,
+            r#"{"id": "e", "amounts": [-5, 6e0]}"#,
+            r#"{"id": "s", "amounts": ["-5", 6]}"#,
+        ];
+        for text in lines {
+            let fast = screen_line(text, 0);
+            // The general reader alone: the list read element by element.
+            let line: Result<Line<'_>, _> = serde_json::from_str(text);
+            let slow = match line {
+                Ok(line) => {
+                    let id: Value = line
+                        .id
+                        .and_then(|r| serde_json::from_str(r.get()).ok())
+                        .unwrap_or(json!("line 1"));
+                    match screen(&line, None) {
+                        Ok(v) => v.get("roots").cloned().unwrap_or(Value::Null),
+                        Err((code, _)) => json!({"id": id, "code": code}),
+                    }
+                }
+                Err(_) => json!("bad-line"),
+            };
+            let fast_part = if fast.get("error").is_some() {
+                if fast["error"]["code"] == "bad-line" {
+                    json!("bad-line")
+                } else {
+                    json!({"id": fast["id"], "code": fast["error"]["code"]})
+                }
+            } else {
+                fast.get("roots").cloned().unwrap_or(Value::Null)
+            };
+            assert_eq!(fast_part, slow, "{text}");
+        }
+        // The key inside a string is not the list; a duplicate list is still refused.
+        assert_eq!(screen_line(lines[2], 0)["count"], 1);
+        assert_eq!(screen_line(lines[3], 0)["error"]["code"], "bad-line");
+    }
 }

@@ -12,7 +12,21 @@ pub fn amount_f64(d: Decimal) -> f64 {
         1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
         1e17, 1e18, 1e19, 1e20, 1e21, 1e22, 1e23, 1e24, 1e25, 1e26, 1e27, 1e28,
     ];
-    d.mantissa() as f64 / POW10[(d.scale() as usize).min(28)]
+    // The hardware converts a 64-bit integer; a 128-bit one goes through a slow
+    // software routine, needed only when the mantissa's top word is in use.
+    let bytes = d.serialize();
+    let word = |i: usize| u32::from_le_bytes([bytes[i], bytes[i + 1], bytes[i + 2], bytes[i + 3]]);
+    let magnitude = if word(12) == 0 {
+        ((u64::from(word(8)) << 32) | u64::from(word(4))) as f64
+    } else {
+        d.mantissa().unsigned_abs() as f64
+    };
+    let m = if d.is_sign_negative() {
+        -magnitude
+    } else {
+        magnitude
+    };
+    m / POW10[(d.scale() as usize).min(28)]
 }
 
 /// One cash flow. Its time is `offset / Flows::units_per_year` years after the
@@ -50,7 +64,18 @@ impl Flows {
     /// The same flows sorted by offset, with flows at one offset netted (notes joined
     /// with "; ") and zero flows dropped, as the sign-change counts require.
     pub fn normalised(&self) -> Flows {
-        let mut pts = self.points.clone();
+        self.clone().into_normalised()
+    }
+
+    /// [`Flows::normalised`] without the copy; free when the flows are already in
+    /// order, one to an offset and non-zero (as batch series usually are).
+    pub fn into_normalised(self) -> Flows {
+        let ready = self.points.windows(2).all(|w| w[0].offset < w[1].offset)
+            && self.points.iter().all(|p| !p.amount.is_zero());
+        if ready {
+            return self;
+        }
+        let mut pts = self.points;
         pts.sort_by_key(|p| p.offset);
         let mut out: Vec<FlowPoint> = Vec::with_capacity(pts.len());
         for p in pts {

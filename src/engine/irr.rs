@@ -59,16 +59,14 @@ pub fn report_from_set(
         Some(h) if !set.roots.is_empty() => figures::npv_sign(flows, h),
         _ => 0,
     };
-    let pts: Vec<(f64, f64)> = if with_paths {
+    // Batch screening classifies the balance path without building its rows.
+    let pts: Vec<(i64, f64)> = if with_paths {
         Vec::new()
     } else {
-        (0..flows.points.len())
-            .map(|i| {
-                (
-                    flows.years(i),
-                    super::flows::amount_f64(flows.points[i].amount),
-                )
-            })
+        flows
+            .points
+            .iter()
+            .map(|p| (p.offset, super::flows::amount_f64(p.amount)))
             .collect()
     };
     let roots = set
@@ -87,7 +85,10 @@ pub fn report_from_set(
                 let kind = figures::balance_kind(&path);
                 (path, kind)
             } else {
-                (Vec::new(), balance_kind_f64(&pts, log_annual))
+                (
+                    Vec::new(),
+                    balance_kind_f64(&pts, flows.units_per_year, log_annual),
+                )
             };
             let (stance, decision) = match hurdle {
                 Some(h) => {
@@ -178,12 +179,54 @@ fn stance_and_decision(
 }
 
 /// The balance-path classification without building the rows (batch screening): the
-/// same rule as [`figures::balance_kind`], on binary-float balances.
-fn balance_kind_f64(pts: &[(f64, f64)], log_growth: f64) -> BalanceKind {
+/// rule of [`figures::balance_kind`] on binary-float balances, computed in the stable
+/// direction as [`figures::balances_at_root`] does (backwards above 0%, forwards at or
+/// below it). Times are integer clock offsets, so the growth factor of each distinct
+/// gap is computed once.
+fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) -> BalanceKind {
+    let n = pts.len();
+    if n == 0 {
+        return BalanceKind::PureInvestment;
+    }
     let scale = pts.iter().map(|p| p.1.abs()).fold(0.0, f64::max);
     let tol = scale * 1e-9;
-    let bals = figures::balances_at_root(pts, log_growth);
-    let body = &bals[..bals.len().saturating_sub(1)];
+    let per_unit = log_growth / units_per_year.max(1) as f64;
+    let mut cached = (i64::MIN, 1.0f64);
+    let mut factor = |gap: i64, sign: f64| {
+        if cached.0 != gap {
+            cached = (gap, (sign * per_unit * gap as f64).exp());
+        }
+        cached.1
+    };
+    let mut bals = vec![0.0f64; n];
+    if log_growth.is_nan() || log_growth <= 0.0 {
+        let mut bal = 0.0f64;
+        for k in 0..n {
+            let grown = if k > 0 && bal != 0.0 {
+                bal * factor(pts[k].0 - pts[k - 1].0, 1.0)
+            } else {
+                0.0
+            };
+            bal = grown + pts[k].1;
+            if bal.is_nan()
+                || (bal.is_finite() && bal.abs() <= 1e-9 * (grown.abs() + pts[k].1.abs()))
+            {
+                bal = 0.0;
+            }
+            bals[k] = bal;
+        }
+    } else {
+        for k in (1..n).rev() {
+            let shrink = factor(pts[k].0 - pts[k - 1].0, -1.0);
+            let shrunk = (bals[k] - pts[k].1) * shrink;
+            bals[k - 1] = if shrunk.abs() <= 1e-9 * (bals[k].abs() + pts[k].1.abs()) * shrink {
+                0.0
+            } else {
+                shrunk
+            };
+        }
+    }
+    let body = &bals[..n - 1];
     let positive = body.iter().any(|&b| b > tol);
     let negative = body.iter().any(|&b| b < -tol);
     match (positive, negative) {

@@ -82,7 +82,7 @@ impl RootSet {
 }
 
 /// The series prepared for evaluation.
-struct Series {
+struct Series<'a> {
     /// True for the time-reversed series (variable u = -y), used for rates below 0%.
     reversed: bool,
     /// Coefficients as f64 (rounded once from the exact decimals).
@@ -92,15 +92,11 @@ struct Series {
     /// Exponents as integers.
     n_int: Vec<u64>,
     /// The exact coefficients (turned into integers only for exact checks).
-    amounts: Vec<Decimal>,
+    amounts: std::borrow::Cow<'a, [Decimal]>,
     /// Index into `gap_vals` of the gap before term k (k >= 1).
-    gap_idx: Vec<usize>,
+    gap_idx: Vec<u32>,
     /// The distinct gaps between consecutive exponents.
     gap_vals: Vec<f64>,
-    /// |c_k|.
-    abs_c: Vec<f64>,
-    /// c_k < 0.
-    negative: Vec<bool>,
     /// n_K^d for d in 0..ORDERS.
     npow_last: [f64; ORDERS],
     /// Sum of |c_k|.
@@ -119,6 +115,8 @@ struct Point {
     a: [f64; ORDERS],
     /// Sum over negative coefficients of |c_k| n_k^d w_k.
     b: [f64; ORDERS],
+    /// The signed sums c_k n_k^d w_k (as summed, not as a - b).
+    s: [f64; ORDERS],
     /// Error bounds of a and b together.
     err: [f64; ORDERS],
 }
@@ -136,7 +134,7 @@ impl Point {
     /// Certified sign of f^(d) at this point: Some(+1/-1), or None when within error.
     fn sign(&self, d: usize) -> Option<i8> {
         let (p, m) = self.parts(d);
-        let v = p - m;
+        let v = self.value(d);
         if v.abs() > self.err[d] + 2.0 * EPS * (p + m) {
             Some(if v > 0.0 { 1 } else { -1 })
         } else {
@@ -146,13 +144,16 @@ impl Point {
 
     /// Value of the scaled f^(d) (for Newton steps only).
     fn value(&self, d: usize) -> f64 {
-        let (p, m) = self.parts(d);
-        p - m
+        if d % 2 == 0 {
+            self.s[d]
+        } else {
+            -self.s[d]
+        }
     }
 }
 
 struct Solver<'a> {
-    s: &'a Series,
+    s: &'a Series<'a>,
     /// True while subdividing: interval ends then need every order.
     in_search: bool,
     /// Double-double point evaluations spent on undecided pieces (bounded, so that a
@@ -162,23 +163,63 @@ struct Solver<'a> {
     cache: Vec<(u64, Point)>,
 }
 
-impl Series {
-    fn new(amounts: &[Decimal], exps: &[u64], reversed: bool) -> Series {
-        let c: Vec<f64> = amounts
-            .iter()
-            .map(|a| super::flows::amount_f64(*a))
-            .collect();
+/// Adds `c w n^d` to the signed sums and `|c w| n^d` to the absolute sums, d < M
+/// (n >= 0, so the absolute term of each order is the absolute value of the signed one).
+#[inline(always)]
+fn accumulate<const M: usize>(s: &mut [f64; M], t: &mut [f64; M], cw: f64, nk: f64) {
+    let mut v = cw;
+    for d in 0..M {
+        s[d] += v;
+        t[d] += v.abs();
+        v *= nk;
+    }
+}
+
+/// [`accumulate`] for two terms at once, laid out so that the compiler can keep each
+/// pair of sums in one vector register.
+#[inline(always)]
+fn accumulate2<const M: usize>(
+    s: &mut [[f64; 2]; M],
+    t: &mut [[f64; 2]; M],
+    cw: [f64; 2],
+    nk: [f64; 2],
+) {
+    let mut v = cw;
+    for d in 0..M {
+        for l in 0..2 {
+            s[d][l] += v[l];
+            t[d][l] += v[l].abs();
+            v[l] *= nk[l];
+        }
+    }
+}
+
+impl<'a> Series<'a> {
+    fn new(
+        amounts: std::borrow::Cow<'a, [Decimal]>,
+        c: Vec<f64>,
+        exps: &[u64],
+        reversed: bool,
+    ) -> Series<'a> {
         let n: Vec<f64> = exps.iter().map(|&e| e as f64).collect();
         let mut gap_vals: Vec<f64> = Vec::new();
-        let mut gap_idx = vec![0usize; exps.len()];
+        let mut gap_idx = vec![0u32; exps.len()];
+        let mut last_gap = (u64::MAX, 0u32);
         for k in 1..exps.len() {
-            let g = (exps[k] - exps[k - 1]) as f64;
-            let idx = match gap_vals.iter().position(|&v| v == g) {
-                Some(i) => i,
-                None => {
-                    gap_vals.push(g);
-                    gap_vals.len() - 1
-                }
+            let g = exps[k] - exps[k - 1];
+            let idx = if g == last_gap.0 {
+                last_gap.1
+            } else {
+                let gf = g as f64;
+                let i = match gap_vals.iter().position(|&v| v == gf) {
+                    Some(i) => i,
+                    None => {
+                        gap_vals.push(gf);
+                        gap_vals.len() - 1
+                    }
+                } as u32;
+                last_gap = (g, i);
+                i
             };
             gap_idx[k] = idx;
         }
@@ -188,49 +229,114 @@ impl Series {
             npow_last[d] = npow_last[d - 1] * last;
         }
         let abs_sum = c.iter().map(|x| x.abs()).sum();
-        let abs_c = c.iter().map(|x| x.abs()).collect();
-        let negative = c.iter().map(|x| *x < 0.0).collect();
         Series {
             reversed,
             c,
             n,
             n_int: exps.to_vec(),
-            amounts: amounts.to_vec(),
+            amounts,
             gap_idx,
             gap_vals,
-            abs_c,
-            negative,
             npow_last,
             abs_sum,
         }
+    }
+
+    /// Laguerre's bound on the roots above `a >= 0`: the sign changes of the partial
+    /// sums of the discounted coefficients `c_k exp(-a n_k)` (with `x = exp(a - y)`
+    /// the roots above `a` are those of `sum (c_k exp(-a n_k)) x^(n_k)` in (0, 1)). At
+    /// `a = 0` this is Norstrom's count. `None` when a partial sum is too close to
+    /// zero for its sign to be certain, or the total is.
+    fn tail_bound(&self, a: f64) -> Option<u32> {
+        let (c, n) = (&self.c[..], &self.n[..]);
+        // The same error model as [`Series::eval`]: each term's relative error grows
+        // by at most `per_unit` a unit of exponent, and summation adds two roundings'
+        // worth of the running absolute sum per term.
+        let fixed = 2.0 * EPS * (ORDERS + 6) as f64;
+        let per_unit = 4.0 * EPS + 2.0 * EPS * a.abs();
+        let floor = 1e-290 * self.abs_sum;
+        let mut z = [0.0f64; 64];
+        let zs: Vec<f64>;
+        let factors: &[f64] = if self.gap_vals.len() <= z.len() {
+            for (slot, g) in z.iter_mut().zip(&self.gap_vals) {
+                *slot = (-a * g).exp();
+            }
+            &z[..self.gap_vals.len()]
+        } else {
+            zs = self.gap_vals.iter().map(|g| (-a * g).exp()).collect();
+            &zs
+        };
+        let (mut sum, mut size) = (0.0f64, 0.0f64);
+        let (mut last, mut changes) = (0i8, 0u32);
+        let mut w = 1.0f64;
+        for k in 0..c.len() {
+            if k > 0 {
+                w *= factors[self.gap_idx[k] as usize];
+            }
+            let term = c[k] * w;
+            sum += term;
+            size += term.abs();
+            let err = (fixed + per_unit * n[k] + (k as f64 + 2.0) * 2.0 * EPS) * size + floor;
+            if sum.abs() <= err {
+                // A partial sum within rounding of zero may be zero or of either sign;
+                // only the last one must be certain (it is f(a)), the others may be
+                // skipped only when they cannot add a change: keep it simple and give up.
+                return None;
+            }
+            let sg = if sum > 0.0 { 1 } else { -1 };
+            changes += u32::from(last != 0 && sg != last);
+            last = sg;
+        }
+        Some(changes)
     }
 
     fn last_n(&self) -> f64 {
         *self.n.last().unwrap_or(&0.0)
     }
 
-    /// Sums of |c_k| w_k n_k^d over positive (index 0) and negative (index 1)
-    /// coefficients for d < M, with w_k = exp(-y n_k).
-    fn sums<const M: usize>(&self, factors: &[f64]) -> [[f64; M]; 2] {
-        let mut acc = [[0.0f64; M]; 2];
-        let k_len = self.c.len();
-        let mut w = 1.0f64;
-        let mut term = |k: usize, w: f64| {
-            let nk = self.n[k];
-            let mut v = self.abs_c[k] * w;
-            let row = &mut acc[usize::from(self.negative[k])];
-            for slot in row.iter_mut() {
-                *slot += v;
-                v *= nk;
+    /// Signed sums `c_k w_k n_k^d` and absolute sums `|c_k| w_k n_k^d` for d < M, with
+    /// w_k = exp(-y n_k) built from the gap factors.
+    fn sums<const M: usize>(&self, factors: &[f64]) -> ([f64; M], [f64; M]) {
+        let (c, n) = (&self.c[..], &self.n[..]);
+        if factors.len() == 1 && c.len() >= 2 {
+            // Evenly spaced exponents (every period present): two interleaved chains of
+            // powers, w_k = w_(k-2) z^2, so that the multiplications do not wait on one
+            // another. Each w_k still takes at most one rounding per unit of exponent
+            // (z^2 carries one, the product another, for every two units).
+            let z = factors[0];
+            let z2 = z * z;
+            let (mut s2, mut t2) = ([[0.0; 2]; M], [[0.0; 2]; M]);
+            let mut w = [1.0f64, z];
+            let mut pairs = c.chunks_exact(2).zip(n.chunks_exact(2));
+            for (cc, nn) in &mut pairs {
+                accumulate2(
+                    &mut s2,
+                    &mut t2,
+                    [cc[0] * w[0], cc[1] * w[1]],
+                    [nn[0], nn[1]],
+                );
+                w = [w[0] * z2, w[1] * z2];
             }
-        };
-        for k in 0..k_len {
-            if k > 0 {
-                w *= factors[self.gap_idx[k]];
+            let (mut s0, mut t0) = ([0.0; M], [0.0; M]);
+            for d in 0..M {
+                s0[d] = s2[d][0] + s2[d][1];
+                t0[d] = t2[d][0] + t2[d][1];
             }
-            term(k, w);
+            if c.len() % 2 == 1 {
+                let k = c.len() - 1;
+                accumulate(&mut s0, &mut t0, c[k] * w[0], n[k]);
+            }
+            return (s0, t0);
         }
-        acc
+        let (mut s, mut t) = ([0.0; M], [0.0; M]);
+        let mut w = 1.0f64;
+        for k in 0..c.len() {
+            if k > 0 {
+                w *= factors[self.gap_idx[k] as usize];
+            }
+            accumulate(&mut s, &mut t, c[k] * w, n[k]);
+        }
+        (s, t)
     }
 
     /// Evaluates derivative orders `0..orders` at `y >= 0`.
@@ -250,14 +356,22 @@ impl Series {
             zs = self.gap_vals.iter().map(|g| factor(*g)).collect();
             &zs
         };
-        // One order more than asked: it bounds the rounding error (below).
+        // One order more than asked: it bounds the rounding error (below). The parts
+        // are a = (t + s) / 2 and b = (t - s) / 2: one more rounding each, which the
+        // summation allowance below covers with room to spare.
         let mut a = [0.0f64; ORDERS + 1];
         let mut b = [0.0f64; ORDERS + 1];
+        let mut signed = [0.0f64; ORDERS];
         macro_rules! run {
             ($m:literal) => {{
-                let [p, q] = self.sums::<$m>(factors);
-                a[..$m].copy_from_slice(&p);
-                b[..$m].copy_from_slice(&q);
+                let (sv, tv) = self.sums::<$m>(factors);
+                for d in 0..$m {
+                    a[d] = 0.5 * (tv[d] + sv[d]).max(0.0);
+                    b[d] = 0.5 * (tv[d] - sv[d]).max(0.0);
+                    if d < ORDERS {
+                        signed[d] = sv[d];
+                    }
+                }
             }};
         }
         match orders {
@@ -294,6 +408,7 @@ impl Series {
             orders,
             a: pa,
             b: pb,
+            s: signed,
             err,
         }
     }
@@ -395,11 +510,14 @@ impl<'a> Solver<'a> {
     /// Narrows a bracket [lo, hi] of f^(d) with certified opposite end signs to a tight
     /// certified interval around its single root (safeguarded Newton plus bisection).
     fn refine(&mut self, d: usize, mut lo: f64, mut hi: f64, sign_lo: i8) -> (f64, f64, f64) {
+        // Newton steps need f^(d) and its slope: evaluations of order d + 1 carry both
+        // (the slope's own error bound is not needed to steer).
+        let orders = d + 1;
         // Start from the better Newton step taken from either end.
         let mut x = 0.5 * (lo + hi);
         let mut best = f64::INFINITY;
         for end in [lo, hi] {
-            let p = self.point(end, d + 2);
+            let p = self.point(end, orders);
             let n = self.newton(&p, d);
             if n > lo && n < hi && (n - end).abs() < best {
                 best = (n - end).abs();
@@ -407,6 +525,10 @@ impl<'a> Solver<'a> {
             }
         }
         let mut prev_step = f64::INFINITY;
+        // Newton steps that did not halve the previous one, in a row. A few are allowed
+        // (far from a root of a convex function Newton creeps, but safely inside the
+        // bracket); halving a wide bracket instead would throw the iterate far away.
+        let mut slow = 0;
         for _ in 0..300 {
             if self.exhausted() {
                 break;
@@ -417,14 +539,14 @@ impl<'a> Solver<'a> {
             if !(x > lo && x < hi) {
                 x = 0.5 * (lo + hi);
             }
-            let p = self.point(x, d + 2);
+            let p = self.point(x, orders);
             match p.sign(d) {
                 Some(s) if s == sign_lo => lo = x,
                 Some(_) => hi = x,
                 None => {
                     // Inside the error band: tighten from both sides around it, and go
                     // on if that left the root on one side of the band.
-                    let (l2, h2) = self.tighten(d, lo, hi, x, sign_lo);
+                    let (l2, h2) = self.tighten(d, lo, hi, x, sign_lo, &p);
                     let stuck = l2 <= x && h2 >= x;
                     lo = l2;
                     hi = h2;
@@ -438,26 +560,33 @@ impl<'a> Solver<'a> {
             }
             let newton = self.newton(&p, d);
             let step = (newton - x).abs();
-            if newton.is_finite() && newton > lo && newton < hi && step < 0.5 * prev_step {
-                if step <= 2.0 * f64::EPSILON * newton.abs().max(1e-300) {
-                    // Converged: find the nearest certain signs on both sides.
-                    let (l2, h2) = self.tighten(d, lo, hi, newton, sign_lo);
-                    if l2 <= newton && h2 >= newton {
-                        return (l2, h2, newton);
-                    }
-                    lo = l2;
-                    hi = h2;
-                    x = 0.5 * (lo + hi);
-                    prev_step = f64::INFINITY;
-                    continue;
-                }
-                prev_step = step;
-                x = newton;
+            let inside = newton.is_finite() && newton > lo && newton < hi;
+            if inside && step < 0.5 * prev_step {
+                slow = 0;
+            } else if inside && slow < 4 {
+                slow += 1;
             } else {
                 // Newton left the bracket or stalled: bisect once.
                 prev_step = 0.5 * (hi - lo);
                 x = 0.5 * (lo + hi);
+                slow = 0;
+                continue;
             }
+            // Convergence is quadratic: once a step is this small the next iterate is
+            // as good as floats allow, so certify around it straight away.
+            if step <= 1e-9 * newton.abs().max(1e-300) {
+                let (l2, h2) = self.tighten(d, lo, hi, newton, sign_lo, &p);
+                if l2 <= newton && h2 >= newton {
+                    return (l2, h2, newton);
+                }
+                lo = l2;
+                hi = h2;
+                x = 0.5 * (lo + hi);
+                prev_step = f64::INFINITY;
+                continue;
+            }
+            prev_step = step;
+            x = newton;
         }
         (lo, hi, 0.5 * (lo + hi))
     }
@@ -487,15 +616,26 @@ impl<'a> Solver<'a> {
 
     /// The sign at `mid` is uncertain: walk outwards from it to the nearest points on
     /// either side whose signs are certain, keeping inside [lo, hi].
-    fn tighten(&mut self, d: usize, lo: f64, hi: f64, mid: f64, sign_lo: i8) -> (f64, f64) {
+    ///
+    /// `near` is an evaluation at or next to `mid` (of order d + 1 at least): its error
+    /// bound over its slope estimates the width of the band of uncertain signs.
+    fn tighten(
+        &mut self,
+        d: usize,
+        lo: f64,
+        hi: f64,
+        mid: f64,
+        sign_lo: i8,
+        near: &Point,
+    ) -> (f64, f64) {
         let mut new_lo = lo;
         let mut new_hi = hi;
         // First step: the width of the band where the error bound hides the sign, as
         // the value's error over the slope suggests.
-        let p = self.point(mid, d + 2);
+        let p = near;
         let slope = p.value(d + 1);
-        let band =
-            1.5 * (p.err[d] + 2.0 * EPS * (p.a[d] + p.b[d]) + p.value(d).abs()) / slope.abs();
+        let off = if p.y == mid { p.value(d).abs() } else { 0.0 };
+        let band = 1.5 * (p.err[d] + 2.0 * EPS * (p.a[d] + p.b[d]) + off) / slope.abs();
         let first = (8.0 * f64::EPSILON * mid.abs().max(1e-300)).max(if band.is_finite() {
             band
         } else {
@@ -563,8 +703,103 @@ fn gcd(a: u64, b: u64) -> u64 {
     }
 }
 
+/// [`sign_bounds`] on the amounts as integers at one common scale (exact, and far
+/// cheaper than decimal additions); `None` when an amount or a sum would leave `i128`.
+fn sign_bounds_int(amounts: &[Decimal]) -> Option<(u32, Option<u32>, Option<u32>)> {
+    let scale = amounts.iter().map(|a| a.scale()).max().unwrap_or(0);
+    if amounts.len() < (1 << 30) && amounts.iter().all(|a| a.scale() == scale) {
+        return Some(sign_bounds_same_scale(amounts));
+    }
+    let mut ints = Vec::with_capacity(amounts.len());
+    for a in amounts {
+        let m = a.mantissa();
+        ints.push(if a.scale() == scale {
+            m
+        } else {
+            m.checked_mul(10i128.checked_pow(scale - a.scale())?)?
+        });
+    }
+    // One pass: the signs of the amounts and of the forward sums.
+    let (mut v, mut last_v) = (0u32, 0i128);
+    let (mut f, mut last_f) = (0u32, 0i128);
+    let mut acc = 0i128;
+    for &x in &ints {
+        let s = x.signum();
+        if s != 0 {
+            v += u32::from(last_v != 0 && s != last_v);
+            last_v = s;
+        }
+        acc = acc.checked_add(x)?;
+        let s = acc.signum();
+        if s != 0 {
+            f += u32::from(last_f != 0 && s != last_f);
+            last_f = s;
+        }
+    }
+    if acc == 0 {
+        return Some((v, None, None));
+    }
+    let (mut b, mut last_b) = (0u32, 0i128);
+    let mut acc = 0i128;
+    for &x in ints.iter().rev() {
+        acc = acc.checked_add(x)?;
+        let s = acc.signum();
+        if s != 0 {
+            b += u32::from(last_b != 0 && s != last_b);
+            last_b = s;
+        }
+    }
+    Some((v, Some(f), Some(b)))
+}
+
+/// Counts sign changes of a stream of values, ignoring zeros.
+#[derive(Default)]
+struct SignCount {
+    last: i8,
+    changes: u32,
+}
+
+impl SignCount {
+    #[inline(always)]
+    fn push(&mut self, v: i128) {
+        let s = i8::from(v > 0) - i8::from(v < 0);
+        if s != 0 {
+            self.changes += u32::from(self.last != 0 && s != self.last);
+            self.last = s;
+        }
+    }
+}
+
+/// [`sign_bounds_int`] when every amount has the same scale: the mantissas are then
+/// the integers themselves, below 2^96 each, so sums of fewer than 2^30 of them stay
+/// far inside `i128` and need no overflow checks; the backward sums are the total
+/// minus the forward sums, so nothing is stored.
+fn sign_bounds_same_scale(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
+    let (mut v, mut f) = (SignCount::default(), SignCount::default());
+    let mut total = 0i128;
+    for a in amounts {
+        let m = a.mantissa();
+        v.push(m);
+        total += m;
+        f.push(total);
+    }
+    if total == 0 {
+        return (v.changes, None, None);
+    }
+    let mut b = SignCount::default();
+    let mut before = 0i128;
+    for a in amounts {
+        b.push(total - before);
+        before += a.mantissa();
+    }
+    (v.changes, Some(f.changes), Some(b.changes))
+}
+
 /// Sign-change bounds of a netted series: (Descartes, above 0%, below 0%).
 pub fn sign_bounds(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
+    if let Some(bounds) = sign_bounds_int(amounts) {
+        return bounds;
+    }
     let v = sign_changes(amounts.iter().copied());
     let mut fwd = Vec::with_capacity(amounts.len());
     let mut acc = Decimal::ZERO;
@@ -618,11 +853,20 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     // Rates above 0% are searched on the series itself, rates below 0% on the reversed
     // series (u = -y, exponents n_K - n_k): both are then sums of decreasing
     // exponentials in a non-negative variable, which the enclosures need.
-    let series = Series::new(amounts, &exps, false);
+    let c: Vec<f64> = amounts
+        .iter()
+        .map(|a| super::flows::amount_f64(*a))
+        .collect();
     let last = *exps.last().unwrap_or(&0);
-    let rev_amounts: Vec<Decimal> = amounts.iter().rev().copied().collect();
+    let rev_c: Vec<f64> = c.iter().rev().copied().collect();
     let rev_exps: Vec<u64> = exps.iter().rev().map(|&e| last - e).collect();
-    let reversed = Series::new(&rev_amounts, &rev_exps, true);
+    let series = Series::new(std::borrow::Cow::Borrowed(amounts), c, &exps, false);
+    let reversed = Series::new(
+        std::borrow::Cow::Owned(amounts.iter().rev().copied().collect()),
+        rev_c,
+        &rev_exps,
+        true,
+    );
     // (Both series are cheap to build; the reversed one is only searched when the
     // Norstrom count below 0% does not already say zero.)
     let mut solvers = [
@@ -652,8 +896,12 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     let y_hi = bound(&series);
     let u_hi = bound(&reversed);
 
-    let total: Decimal = amounts.iter().sum();
-    let zero_is_root = total.is_zero();
+    // Norstrom's counts exist exactly when the total is not zero (or too large to sum).
+    let zero_is_root = above_zero.is_none()
+        && amounts
+            .iter()
+            .try_fold(Decimal::ZERO, |acc, a| acc.checked_add(*a))
+            .is_some_and(|t| t.is_zero());
     let mut zero_root: Option<FoundRoot> = None;
     // Where to search on each side of 0 (index 0: rates above 0%, on the series;
     // index 1: rates below 0%, on the reversed series), and the count when a
@@ -776,7 +1024,20 @@ fn search(
     let mut stack: Vec<(f64, f64)> = vec![(lo, hi)];
     // Pieces no test could settle, with the signs at their ends.
     let mut pending: Vec<(f64, f64, i8, i8)> = Vec::new();
+    let s_hi = solver.point(hi, 1).sign(0);
+    let mut roots_seen = roots.len();
     while let Some((a, b)) = stack.pop() {
+        // The stack is worked from left to right, so [a, right] is all that is left to
+        // search: when Laguerre's bound leaves at most one root above `a` besides
+        // those found, the end signs settle all of it at once. The bound drops as the
+        // search passes roots, so it is worth computing just after one was found.
+        if roots.len() > roots_seen {
+            roots_seen = roots.len();
+            if settles_tail(solver, a, hi, s_hi, roots).is_some() {
+                stack.clear();
+                break;
+            }
+        }
         if solver.exhausted() {
             out.certified = false;
             out.unresolved.push((a, b));
@@ -812,6 +1073,8 @@ fn search(
         }
         match split_point(solver, a, b) {
             Some(m) => {
+                // When at most one root lies above m, all of [m, hi] is settled now
+                // and only [a, m] is left to search.
                 stack.push((m, b));
                 stack.push((a, m));
             }
@@ -843,16 +1106,45 @@ fn search(
     }
 }
 
-/// A point inside (a, b) where the sign of f is certain, near the middle.
+/// Settles (a, right) at once when Laguerre's bound on the roots above `a` is 0 or 1
+/// (`right` lies beyond every root): then there is a root in (a, right) exactly when
+/// the (certain) signs at its ends differ. Pushes that root and returns the sign at
+/// `a`; `None` when the piece is not settled so.
+fn settles_tail(
+    solver: &mut Solver<'_>,
+    a: f64,
+    right: f64,
+    s_right: Option<i8>,
+    roots: &mut Vec<FoundRoot>,
+) -> Option<i8> {
+    let s_right = s_right?;
+    let bound = solver.s.tail_bound(a)?;
+    if bound > 1 {
+        return None;
+    }
+    let s_a = solver.point(a, 1).sign(0)?;
+    if bound == 1 && s_a != s_right {
+        roots.push(solver.simple_root(a, right, s_a));
+    }
+    Some(s_a)
+}
+
+/// A point inside (a, b) where the sign of f is certain, near the middle; on a
+/// piece spanning orders of magnitude, near its geometric middle (IRRs of real deals
+/// sit near the low end of the first, very wide, piece).
 fn split_point(solver: &mut Solver<'_>, a: f64, b: f64) -> Option<f64> {
     let w = b - a;
-    for frac in [0.5, 0.375, 0.625, 0.25, 0.75, 0.125, 0.875, 0.0625, 0.9375] {
-        let m = a + w * frac;
-        if m > a && m < b && solver.point(m, ORDERS).sign(0).is_some() {
-            return Some(m);
-        }
-    }
-    None
+    let preferred = if a <= 0.0 {
+        a + w / 16.0
+    } else if b > 16.0 * a {
+        (a * b).sqrt()
+    } else {
+        a + 0.5 * w
+    };
+    let fractions = [0.5, 0.375, 0.625, 0.25, 0.75, 0.125, 0.875, 0.0625, 0.9375];
+    std::iter::once(preferred)
+        .chain(fractions.iter().map(|f| a + w * f))
+        .find(|&m| m > a && m < b && solver.point(m, ORDERS).sign(0).is_some())
 }
 
 /// f'' has one sign on [a, b]: f' is monotone, so f has a single extremum. Returns
@@ -1363,6 +1655,56 @@ mod tests {
         let rs = yearly(&[dec!(1), dec!(-2), dec!(1)]);
         assert!(rs.certified, "{rs:?}");
         assert_eq!(rs.roots[0].multiplicity, 2);
+    }
+
+    /// The decimal sums, the reference for the integer fast path.
+    fn sign_bounds_decimal(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
+        let v = sign_changes(amounts.iter().copied());
+        let mut acc = Decimal::ZERO;
+        let fwd: Vec<Decimal> = amounts
+            .iter()
+            .map(|a| {
+                acc += *a;
+                acc
+            })
+            .collect();
+        if acc.is_zero() {
+            return (v, None, None);
+        }
+        let mut acc = Decimal::ZERO;
+        let bwd: Vec<Decimal> = amounts
+            .iter()
+            .rev()
+            .map(|a| {
+                acc += *a;
+                acc
+            })
+            .collect();
+        (
+            v,
+            Some(sign_changes(fwd.into_iter())),
+            Some(sign_changes(bwd.into_iter())),
+        )
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn integer_sign_bounds_match_decimal_sums(
+            raw in proptest::collection::vec((-10_000_000i64..10_000_000, 0u32..7), 1..40)
+        ) {
+            // Mixed scales (0 to 6 places), as deal files allow; the decimal sums are
+            // exact, so both paths must agree to the count.
+            let amounts: Vec<Decimal> = raw.iter().map(|&(m, s)| Decimal::new(m, s)).collect();
+            proptest::prop_assert_eq!(sign_bounds(&amounts), sign_bounds_decimal(&amounts));
+        }
+    }
+
+    #[test]
+    fn zero_total_has_no_cumulative_bounds() {
+        // Norstrom's counts need a non-zero total (common practice).
+        let a = [dec!(-1.5), dec!(0.75), dec!(0.750)];
+        assert_eq!(sign_bounds(&a), (1, None, None));
+        assert_eq!(sign_bounds_decimal(&a), (1, None, None));
     }
 
     #[test]
