@@ -5,7 +5,7 @@
 
 use crate::engine::{Analysis, Decision, Root, ScenarioAnalysis};
 use crate::model::{Clock, Deal, Scenario, SignoffDecision};
-use crate::report::{format_money, format_money_with_code, format_rate};
+use crate::report::{format_money, format_npv_with_code, format_rate};
 use rust_decimal::Decimal;
 use serde::Serialize;
 use std::fmt::Write as _;
@@ -408,9 +408,9 @@ fn result_changes(a: &ScenarioAnalysis, b: &ScenarioAnalysis, currency: &str) ->
     change(
         &mut figures,
         "NPV at hurdle",
-        Some(a.npv_at_hurdle),
-        Some(b.npv_at_hurdle),
-        |v| format_money_with_code(v, currency),
+        Some(format_npv_with_code(a, currency)),
+        Some(format_npv_with_code(b, currency)),
+        |v| v,
     );
     change(
         &mut figures,

@@ -1,6 +1,7 @@
 //! Number formatting shared by the terminal report, the cautions and the memo: money
 //! with thousands separators, rates in percent with enough decimals to tell roots apart.
 
+use crate::engine::ApproxAmount;
 use rust_decimal::prelude::*;
 
 /// Money with thousands separators and two decimals, e.g. `-1,234,567.80`.
@@ -28,6 +29,25 @@ pub fn money_in(amount: Decimal, currency: &str) -> String {
     format!("{currency} {}", money(amount))
 }
 
+/// An amount beyond Decimal's range in words and digits, e.g. `about 6.0 × 10^62`.
+pub fn approx(amount: &ApproxAmount) -> String {
+    let (m, e) = amount.scientific(1);
+    format!("about {m:.1} \u{00d7} 10^{e}")
+}
+
+/// The NPV at the hurdle as it can be stated: money to the cent, its size when it is
+/// beyond an exact decimal's range, or `not computable`; with the currency code.
+pub fn npv_in(npv: Option<Decimal>, beyond: Option<&ApproxAmount>, currency: &str) -> String {
+    match (npv, beyond) {
+        (Some(c), _) => money_in(c, currency),
+        (None, Some(a)) => {
+            let (m, e) = a.scientific(1);
+            format!("about {currency} {m:.1} \u{00d7} 10^{e}")
+        }
+        (None, None) => "not computable".to_string(),
+    }
+}
+
 /// A rate (fraction) in percent with `decimals` places, e.g. `9.25%`. Extreme values
 /// switch to powers of ten so that no figure is ever `inf` or `NaN`.
 pub fn percent(rate: f64, decimals: usize) -> String {
@@ -40,12 +60,25 @@ pub fn percent(rate: f64, decimals: usize) -> String {
             .replace("e", "e+")
             .replace("e+-", "e-");
     }
+    let decimals = places_short_of_minus_100(rate, decimals);
     let text = format!("{pct:.decimals$}%");
     // "-0.00%" reads as a sign error.
     if text.starts_with('-') && text[1..].chars().all(|c| c == '0' || c == '.' || c == '%') {
         return text[1..].to_string();
     }
     text
+}
+
+/// `decimals`, or more when a rate above -100% would round to -100% at `decimals`
+/// places (a hurdle of -99.9999% is not a total loss): the fewest places, up to 15,
+/// at which it prints above -100%.
+pub fn places_short_of_minus_100(rate: f64, decimals: usize) -> usize {
+    let mut places = decimals;
+    let minus_100 = |p: usize| format!("{:.p$}", rate * 100.0) == format!("{:.p$}", -100.0);
+    while rate > -1.0 && places < 15 && minus_100(places) {
+        places += 1;
+    }
+    places
 }
 
 /// Decimals (at least 2, at most 10) needed so that every pair of distinct rates in
@@ -88,5 +121,37 @@ mod tests {
         let close = [0.1, 0.10001];
         assert_eq!(decimals_to_separate(&close), 3);
         assert_eq!(percent(1e120, 2), "1.000e+122%");
+    }
+
+    #[test]
+    fn a_rate_just_above_minus_100_is_not_shown_as_minus_100() {
+        // -99.9999% keeps a millionth of the money: not a total loss (common practice:
+        // a figure is never rounded onto a boundary it does not reach).
+        assert_eq!(percent(-0.999999, 2), "-99.9999%");
+        assert_eq!(percent(-0.99995, 2), "-99.995%");
+        assert_eq!(percent(-0.9999, 2), "-99.99%");
+        assert_eq!(percent(-1.0, 2), "-100.00%");
+    }
+
+    #[test]
+    fn amounts_beyond_decimal_range_are_stated_approximately() {
+        let big = ApproxAmount {
+            negative: false,
+            log10_abs: (6.000006e62f64).log10(),
+        };
+        assert_eq!(approx(&big), "about 6.0 \u{00d7} 10^62");
+        assert_eq!(
+            npv_in(None, Some(&big), "EUR"),
+            "about EUR 6.0 \u{00d7} 10^62"
+        );
+        let small = ApproxAmount {
+            negative: true,
+            log10_abs: 28.999,
+        };
+        assert_eq!(
+            npv_in(None, Some(&small), "EUR"),
+            "about EUR -1.0 \u{00d7} 10^29"
+        );
+        assert_eq!(npv_in(Some(dec!(1.5)), None, "EUR"), "EUR 1.50");
     }
 }

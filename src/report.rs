@@ -262,11 +262,31 @@ pub fn format_money_with_code(amount: Decimal, currency: &str) -> String {
     format!("{currency} {}", format_money(amount))
 }
 
+/// The NPV at the hurdle as printed: money to the cent, its size (`about 6.0 × 10^62`)
+/// when it is beyond an exact decimal's range, or `not computable`.
+pub fn format_npv(s: &ScenarioAnalysis) -> String {
+    match (s.npv_at_hurdle, &s.npv_at_hurdle_approx) {
+        (Some(c), _) => format_money(c),
+        (None, Some(a)) => crate::format::approx(a).replacen('-', &MINUS.to_string(), 1),
+        (None, None) => "not computable".to_string(),
+    }
+}
+
+/// [`format_npv`] with the currency code: `EUR 1,234.00`, `about EUR 6.0 × 10^62`.
+pub fn format_npv_with_code(s: &ScenarioAnalysis, currency: &str) -> String {
+    crate::format::npv_in(s.npv_at_hurdle, s.npv_at_hurdle_approx.as_ref(), currency).replacen(
+        '-',
+        &MINUS.to_string(),
+        1,
+    )
+}
+
 /// A rate (fraction) as a percentage with `decimals` places: `9.00%`, `−3.50%`.
 pub fn format_rate(rate: f64, decimals: usize) -> String {
     if !rate.is_finite() {
         return "not finite".to_string();
     }
+    let decimals = crate::format::places_short_of_minus_100(rate, decimals);
     let text = format!("{:.*}", decimals, (rate * 100.0).abs());
     let zero = text.chars().all(|c| c == '0' || c == '.');
     let sign = if rate < 0.0 && !zero {
@@ -748,8 +768,8 @@ fn scenario_view(
             stance: stance_words(c.stance).to_string(),
             decision: decision_word(c.decision).to_string(),
         }),
-        npv: format_money(s.npv_at_hurdle),
-        npv_with_code: format_money_with_code(s.npv_at_hurdle, currency),
+        npv: format_npv(s),
+        npv_with_code: format_npv_with_code(s, currency),
         decision: decision_word(s.decision).to_string(),
         mirr: s.mirr.map(|r| format_rate(r, 2)),
         roic: s.return_on_invested_capital.map(|r| format_rate(r, 2)),

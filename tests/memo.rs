@@ -99,7 +99,8 @@ fn pump_scenario(name: &str, cautions: Vec<Caution>) -> ScenarioAnalysis {
             unresolved: vec![],
             complex_reading: None,
         },
-        npv_at_hurdle: dec("-773.55"),
+        npv_at_hurdle: Some(dec("-773.55")),
+        npv_at_hurdle_approx: None,
         decision: Decision::Reject,
         mirr: Some(0.05599),
         return_on_invested_capital: None,
@@ -469,7 +470,7 @@ fn charts_are_svg_that_typst_can_read() {
 /// the hurdle, the MIRR and every caution, as the engine computed them.
 #[test]
 fn every_example_deal_builds_a_memo() {
-    use candor::report::{format_money, format_rate, format_root, scenario_rate_decimals};
+    use candor::report::{format_npv, format_rate, format_root, scenario_rate_decimals};
     let folder = Path::new(env!("CARGO_MANIFEST_DIR")).join("example-deals");
     let mut deals: Vec<_> = std::fs::read_dir(&folder)
         .expect("example-deals")
@@ -509,7 +510,7 @@ fn every_example_deal_builds_a_memo() {
                 .iter()
                 .map(|r| format_root(r, decimals))
                 .collect();
-            needles.push(format_money(s.npv_at_hurdle));
+            needles.push(format_npv(s));
             if let Some(m) = s.mirr {
                 needles.push(format_rate(m, 2));
             }

@@ -169,7 +169,7 @@ fn expected_figures(s: &ScenarioAnalysis) -> Vec<Figure> {
         1 => "exactly one real IRR".to_string(),
         n => format!("{n} real IRRs"),
     }));
-    out.push(Figure::Npv(report::format_money(s.npv_at_hurdle)));
+    out.push(Figure::Npv(report::format_npv(s)));
     out
 }
 

@@ -106,7 +106,7 @@ fn summary_rows(number: usize, d: &PackedDeal) -> Vec<RowView> {
                     s.name.clone()
                 },
                 irrs,
-                npv: report::format_money_with_code(s.npv_at_hurdle, &d.analysis.currency),
+                npv: report::format_npv_with_code(s, &d.analysis.currency),
                 mirr: s
                     .mirr
                     .map(|m| report::format_rate(m, 2))

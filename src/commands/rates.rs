@@ -5,7 +5,7 @@ use super::load::load_deal;
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::RatesArgs;
 use crate::engine::{self, Analysis, ScenarioAnalysis};
-use crate::format::{decimals_to_separate, money_in, percent};
+use crate::format::{decimals_to_separate, npv_in, percent};
 use std::fmt::Write as _;
 use std::io::Write as _;
 
@@ -145,7 +145,7 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     let _ = writeln!(
         o,
         "  NPV         {} at the hurdle -> {}",
-        money_in(s.npv_at_hurdle, currency),
+        npv_in(s.npv_at_hurdle, s.npv_at_hurdle_approx.as_ref(), currency),
         s.decision.label()
     );
     let opt = |x: Option<f64>| x.map_or("not defined".to_string(), |v| percent(v, 2));

@@ -36,8 +36,14 @@ pub struct ScenarioAnalysis {
     pub totals: Totals,
     /// Every real IRR with its certification.
     pub irr: IrrReport,
-    /// NPV at the hurdle rate, discounted to the series' start, rounded to the cent.
-    pub npv_at_hurdle: Decimal,
+    /// NPV at the hurdle rate, discounted to the series' start, rounded to the cent;
+    /// `None` (JSON null) when it is beyond Decimal's range (about 7.9e28), when
+    /// [`ScenarioAnalysis::npv_at_hurdle_approx`] gives its size, or cannot be computed.
+    pub npv_at_hurdle: Option<Decimal>,
+    /// The NPV's sign and size when it is beyond Decimal's range, in JSON a string in
+    /// scientific form such as `"6.00e62"`; absent from the JSON otherwise.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub npv_at_hurdle_approx: Option<ApproxAmount>,
     /// The decision the NPV at the hurdle gives.
     pub decision: Decision,
     /// MIRR (annual), when defined (needs at least one inflow and one outflow).
@@ -54,6 +60,44 @@ pub struct ScenarioAnalysis {
     pub npv_profile: Vec<ProfilePoint>,
     /// Plain-language cautions generated from the numbers.
     pub cautions: Vec<Caution>,
+}
+
+/// An amount too large for an exact decimal: its sign and the base-10 logarithm of its
+/// size (good to about 15 digits, so its first few digits are right).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ApproxAmount {
+    /// True for a negative amount.
+    pub negative: bool,
+    /// log10 of the amount's absolute value.
+    pub log10_abs: f64,
+}
+
+impl ApproxAmount {
+    /// The signed mantissa (at least 1, below 10 in size) rounded to `digits` decimals,
+    /// and the power of ten, e.g. `(6.0, 62)` for 6.000006e62 with one decimal.
+    pub fn scientific(&self, digits: i32) -> (f64, i64) {
+        let mut exponent = self.log10_abs.floor();
+        let step = 10f64.powi(digits);
+        let mut mantissa = (10f64.powf(self.log10_abs - exponent) * step).round() / step;
+        if mantissa >= 10.0 {
+            mantissa /= 10.0;
+            exponent += 1.0;
+        }
+        let sign = if self.negative { -1.0 } else { 1.0 };
+        (sign * mantissa, exponent as i64)
+    }
+
+    /// E.g. `6.00e62` or `-1.23e4512` (three significant digits).
+    pub fn to_scientific(&self) -> String {
+        let (m, e) = self.scientific(2);
+        format!("{m:.2}e{e}")
+    }
+}
+
+impl Serialize for ApproxAmount {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        serializer.serialize_str(&self.to_scientific())
+    }
 }
 
 /// One netted cash flow.

@@ -2,7 +2,7 @@
 //! the deal's own numbers, written for a committee member rather than a mathematician.
 //! Each says what is wrong with quoting a single yield and what to rely on instead.
 
-use super::analysis::{BalanceKind, Caution, ComplexReading, Decision, Root, Stance};
+use super::analysis::{ApproxAmount, BalanceKind, Caution, ComplexReading, Decision, Root, Stance};
 use rust_decimal::{Decimal, RoundingStrategy};
 
 /// Every caution code, in the order cautions are listed.
@@ -38,8 +38,11 @@ pub struct CautionInput<'a> {
     pub certified: bool,
     /// Annual-rate intervals the engine could not decide.
     pub unresolved: &'a [[f64; 2]],
-    /// NPV at the hurdle, rounded to the cent.
-    pub npv_at_hurdle: Decimal,
+    /// NPV at the hurdle, rounded to the cent; `None` beyond Decimal's range (then
+    /// `npv_at_hurdle_approx` gives its sign and size) or when it cannot be computed.
+    pub npv_at_hurdle: Option<Decimal>,
+    /// The NPV's sign and size when it is beyond Decimal's range.
+    pub npv_at_hurdle_approx: Option<ApproxAmount>,
     /// MIRR at the finance and reinvestment rates.
     pub mirr: Option<f64>,
     /// MIRR with the reinvestment rate two percentage points lower and higher, when
@@ -73,11 +76,22 @@ pub fn cautions(ctx: &CautionInput) -> Vec<Caution> {
             text,
         })
     };
-    let npv = fmt.money(ctx.npv_at_hurdle);
+    let npv = match ctx.npv_at_hurdle {
+        Some(c) => fmt.money(c),
+        None => crate::format::npv_in(None, ctx.npv_at_hurdle_approx.as_ref(), ctx.currency),
+    };
     let h = fmt.rate(ctx.hurdle);
-    let npv_says = if ctx.npv_at_hurdle > Decimal::ZERO {
+    // The NPV's true sign, also when it is too large for an exact decimal.
+    let npv_sign = match (ctx.npv_at_hurdle, ctx.npv_at_hurdle_approx) {
+        (Some(c), _) if c > Decimal::ZERO => 1,
+        (Some(c), _) if c < Decimal::ZERO => -1,
+        (None, Some(a)) if a.negative => -1,
+        (None, Some(_)) => 1,
+        _ => 0,
+    };
+    let npv_says = if npv_sign > 0 {
         "adds value"
-    } else if ctx.npv_at_hurdle < Decimal::ZERO {
+    } else if npv_sign < 0 {
         "destroys value"
     } else {
         "breaks even"
@@ -125,15 +139,11 @@ pub fn cautions(ctx: &CautionInput) -> Vec<Caution> {
             ),
         );
     } else if ctx.roots.is_empty() {
-        let everywhere = if ctx.certified && !ctx.npv_at_hurdle.is_zero() {
+        let everywhere = if ctx.certified && npv_sign != 0 {
             format!(
                 " Because no rate makes it zero, the NPV is {} at every discount rate, not \
                  only at the hurdle.",
-                if ctx.npv_at_hurdle > Decimal::ZERO {
-                    "positive"
-                } else {
-                    "negative"
-                }
+                if npv_sign > 0 { "positive" } else { "negative" }
             )
         } else {
             String::new()
@@ -332,8 +342,8 @@ pub fn cautions(ctx: &CautionInput) -> Vec<Caution> {
         );
     }
 
-    if !ctx.npv_at_hurdle.is_zero() {
-        let npv_positive = ctx.npv_at_hurdle > Decimal::ZERO;
+    if npv_sign != 0 {
+        let npv_positive = npv_sign > 0;
         let conflicting: Vec<&&Root> = sensible
             .iter()
             .filter(|r| {
@@ -602,6 +612,7 @@ impl<'a> Fmt<'a> {
 
 /// A fraction as a percentage with `dec` decimals and grouped thousands.
 fn pct(r: f64, dec: usize) -> String {
+    let dec = crate::format::places_short_of_minus_100(r, dec);
     let s = format!("{:.dec$}", r * 100.0);
     let s = if s.starts_with('-') && s[1..].chars().all(|c| c == '0' || c == '.') {
         s[1..].to_string()
@@ -693,7 +704,8 @@ mod tests {
                 roots: &self.roots,
                 certified: self.certified,
                 unresolved: &self.unresolved,
-                npv_at_hurdle: npv_exact(f, Decimal::from_f64(h).unwrap()).unwrap(),
+                npv_at_hurdle: npv_exact(f, Decimal::from_f64(h).unwrap()),
+                npv_at_hurdle_approx: None,
                 mirr: mirr(f, h, h),
                 mirr_reinvest_range: Some((mirr(f, h, h - 0.02), mirr(f, h, h + 0.02))),
                 horizon_years: f.years(n - 1),
@@ -893,7 +905,8 @@ mod tests {
             roots: &ctx_roots,
             certified: true,
             unresolved: &[],
-            npv_at_hurdle: Decimal::ZERO,
+            npv_at_hurdle: Some(Decimal::ZERO),
+            npv_at_hurdle_approx: None,
             mirr: None,
             mirr_reinvest_range: None,
             horizon_years: 2.0,

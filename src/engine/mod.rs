@@ -45,13 +45,24 @@ pub fn analyse_scenario(
     if report.count == 0 && report.certified && report.upper_bound > 0 {
         report.complex_reading = complex::complex_reading(&flows, hurdle);
     }
-    let npv_at_hurdle = figures::npv_exact(&flows, rates.hurdle).unwrap_or(Decimal::ZERO);
-    let decision = if npv_at_hurdle > Decimal::ZERO {
-        Decision::Accept
-    } else if npv_at_hurdle < Decimal::ZERO {
-        Decision::Reject
-    } else {
-        Decision::Indifferent
+    // Beyond Decimal's range the NPV keeps its sign and size, so the decision still
+    // follows its true sign; only a value that cannot be computed at all stays undecided.
+    let (npv_at_hurdle, npv_at_hurdle_approx) = match figures::npv_at(&flows, rates.hurdle) {
+        Some(figures::NpvAt::Cents(c)) => (Some(c), None),
+        Some(figures::NpvAt::Beyond(a)) => (None, Some(a)),
+        None => (None, None),
+    };
+    let sign = match (npv_at_hurdle, npv_at_hurdle_approx) {
+        (Some(c), _) if c > Decimal::ZERO => 1,
+        (Some(c), _) if c < Decimal::ZERO => -1,
+        (None, Some(a)) if a.negative => -1,
+        (None, Some(_)) => 1,
+        _ => 0,
+    };
+    let decision = match sign {
+        1 => Decision::Accept,
+        -1 => Decision::Reject,
+        _ => Decision::Indifferent,
     };
     let marks: Vec<f64> = report.roots.iter().filter_map(|r| r.annual_rate).collect();
     let rows: Vec<FlowRow> = flows
@@ -98,6 +109,7 @@ pub fn analyse_scenario(
         flows: rows,
         totals,
         npv_at_hurdle,
+        npv_at_hurdle_approx,
         decision,
         mirr,
         return_on_invested_capital: figures::return_on_invested_capital(&flows, finance),
@@ -119,6 +131,7 @@ pub fn analyse_scenario(
         certified: analysis.irr.certified,
         unresolved: &analysis.irr.unresolved,
         npv_at_hurdle: analysis.npv_at_hurdle,
+        npv_at_hurdle_approx: analysis.npv_at_hurdle_approx,
         mirr: analysis.mirr,
         mirr_reinvest_range: analysis.mirr.map(|_| {
             (
