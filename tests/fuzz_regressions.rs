@@ -168,3 +168,23 @@ fn batch_seeds_name_every_line_and_reach_the_root_finder() {
     // IRRs (10%, 20%, 30%; common practice: a cubic built from chosen roots).
     assert!(roots_seen >= 3, "{roots_seen} roots in all the seeds");
 }
+
+/// Open: `screen::plain_numbers` (the batch reader's fast path for amount lists)
+/// multiplies its i64 mantissa by ten before checking that the number still has at most
+/// 18 digits, so a 19-digit amount such as 9555555555555555550 overflows: a panic where
+/// overflow checks are on (debug builds, tests), a wrapped value thrown away in release
+/// builds. Found by the `batch` target; the fix belongs to the engine's owner
+/// (src/screen.rs). Move the file to `tests/fixtures/fuzz/batch/` and drop this test
+/// once it passes.
+#[test]
+#[ignore = "open: 19-digit amount overflows the batch fast number reader (src/screen.rs)"]
+fn batch_nineteen_digit_amount_is_read_without_overflow() {
+    let path =
+        root().join("tests/fixtures/fuzz/open/batch/mul-overflow--nineteen-digit-amount.jsonl");
+    let (lines, out) = run_batch(&path);
+    assert_eq!(out.len(), lines);
+    // 9555555555555555550 is above the limit on amounts that deal files have too, so
+    // the line gives the general reader's error for its first amount, not a result.
+    assert!(out[0].contains(r#""code":"bad-number""#), "{}", out[0]);
+    assert!(out[0].contains("amounts[0]"), "{}", out[0]);
+}
