@@ -29,6 +29,32 @@ pub fn money_in(amount: Decimal, currency: &str) -> String {
     format!("{currency} {}", money(amount))
 }
 
+/// At or beyond this size a binary float printed in full shows digits it does not
+/// hold (about 16 significant digits, of which the last may already be noise), so
+/// rates in percent and ratios switch to a power of ten.
+pub const FULL_DIGITS_LIMIT: f64 = 1e12;
+
+/// A float as `m × 10^e` with `decimals` decimals in the mantissa, e.g. `6.00 × 10^59`.
+pub fn scientific(value: f64, decimals: usize) -> String {
+    let text = format!("{:.*e}", decimals.min(12), value);
+    match text.split_once('e') {
+        Some((m, e)) => format!("{m} \u{00d7} 10^{e}"),
+        None => text,
+    }
+}
+
+/// A ratio with `decimals` places, or as a power of ten when it is too large to print
+/// in full (see [`FULL_DIGITS_LIMIT`]).
+pub fn ratio(value: f64, decimals: usize) -> String {
+    if !value.is_finite() {
+        "not finite".to_string()
+    } else if value.abs() >= FULL_DIGITS_LIMIT {
+        scientific(value, decimals)
+    } else {
+        format!("{value:.decimals$}")
+    }
+}
+
 /// An amount beyond Decimal's range in words and digits, e.g. `about 6.0 × 10^62`.
 pub fn approx(amount: &ApproxAmount) -> String {
     let (m, e) = amount.scientific(1);
@@ -131,6 +157,14 @@ mod tests {
         assert_eq!(percent(-0.99995, 2), "-99.995%");
         assert_eq!(percent(-0.9999, 2), "-99.99%");
         assert_eq!(percent(-1.0, 2), "-100.00%");
+    }
+
+    #[test]
+    fn huge_ratios_switch_to_powers_of_ten() {
+        // 6.000006e59 printed in full would show float noise after 16 digits.
+        assert_eq!(ratio(6.000006e59, 3), "6.000 \u{00d7} 10^59");
+        assert_eq!(ratio(-2.5e12, 2), "-2.50 \u{00d7} 10^12");
+        assert_eq!(ratio(1.41, 2), "1.41");
     }
 
     #[test]

@@ -282,11 +282,24 @@ pub fn format_npv_with_code(s: &ScenarioAnalysis, currency: &str) -> String {
 }
 
 /// A rate (fraction) as a percentage with `decimals` places: `9.00%`, `−3.50%`.
+/// A rate too large to print in full is a power of ten (`7.37 × 10^71%`), and one just
+/// above -100% gets the places that keep it above (`−99.9999%`).
 pub fn format_rate(rate: f64, decimals: usize) -> String {
     if !rate.is_finite() {
         return "not finite".to_string();
     }
     let decimals = crate::format::places_short_of_minus_100(rate, decimals);
+    if (rate * 100.0).abs() >= crate::format::FULL_DIGITS_LIMIT {
+        let sign = if rate < 0.0 {
+            MINUS.to_string()
+        } else {
+            String::new()
+        };
+        return format!(
+            "{sign}{}%",
+            crate::format::scientific((rate * 100.0).abs(), decimals)
+        );
+    }
     let text = format!("{:.*}", decimals, (rate * 100.0).abs());
     let zero = text.chars().all(|c| c == '0' || c == '.');
     let sign = if rate < 0.0 && !zero {
@@ -352,7 +365,7 @@ pub fn format_ratio(value: f64) -> String {
     if !value.is_finite() {
         return "not finite".to_string();
     }
-    let text = format!("{:.2}", value.abs());
+    let text = crate::format::ratio(value.abs(), 2);
     if value < 0.0 && text != "0.00" {
         format!("{MINUS}{text}")
     } else {

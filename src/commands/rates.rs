@@ -5,7 +5,7 @@ use super::load::load_deal;
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::RatesArgs;
 use crate::engine::{self, Analysis, ScenarioAnalysis};
-use crate::format::{decimals_to_separate, npv_in, percent};
+use crate::format::{decimals_to_separate, npv_in, percent, ratio};
 use std::fmt::Write as _;
 use std::io::Write as _;
 
@@ -165,7 +165,7 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
         o,
         "  PI          {}",
         s.profitability_index
-            .map_or("not defined".to_string(), |p| format!("{p:.3}"))
+            .map_or("not defined".to_string(), |p| ratio(p, 3))
     );
     let years = |y: Option<f64>| y.map_or("never".to_string(), |v| format!("{v:.2} years"));
     let _ = writeln!(
