@@ -153,10 +153,11 @@ pub fn deal_schema() -> Value {
                 "pattern": "^\\s*[0-9]{4}-[0-9]{2}-[0-9]{2}\\s*$"
             },
             "rate": {
-                "description": "Annual effective rate: 8%, \"8.25%\" or 0.08; above -100%.",
+                "description": format!("Annual effective rate: 8%, \"8.25%\" or 0.08; above -100% and at most {}%. A rate of 100% or more needs the percent sign (9 would mean 900%).", MAX_RATE * 100),
                 "anyOf": [
-                    { "type": "number", "exclusiveMinimum": -1, "maximum": MAX_RATE },
-                    { "type": "string", "pattern": "^\\s*[+-]?[0-9]+(\\.[0-9]+)?\\s*%?\\s*$" }
+                    { "type": "number", "exclusiveMinimum": -1, "exclusiveMaximum": 1 },
+                    { "type": "string", "pattern": "^\\s*[+-]?[0-9]+(\\.[0-9]+)?\\s*%\\s*$" },
+                    { "type": "string", "pattern": "^\\s*[+-]?0+(\\.[0-9]+)?\\s*$" }
                 ]
             },
             "amount": {
