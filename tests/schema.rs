@@ -143,7 +143,7 @@ fn schema_and_validator_agree_on_variants() {
         (format!("{base}finance_rate: 0.05\nreinvestment_rate: \"6.5%\"\n{periodic}"), true),
         (format!("{base}finance_rate: five\n{periodic}"), false),
         // A bare rate of 1 or more reads as 100% or more and needs the percent sign
-        // (the validator's `rate-form` rule); a bare fraction below 1 does not.
+        // (the validator reports `rate-range`); a bare fraction below 1 does not.
         (format!("candor: 1\ndeal:\n  name: X\n  currency: EUR\n  as_of: 2027-01-01\nhurdle_rate: 9\n{periodic}"), false),
         (format!("{base}finance_rate: \"1.5\"\n{periodic}"), false),
         (format!("{base}finance_rate: -0.25\nreinvestment_rate: \"0.999\"\n{periodic}"), true),
