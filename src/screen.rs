@@ -46,11 +46,58 @@ struct DatedFlow<'a> {
 /// An error for one line: (code, message).
 type LineError = (&'static str, String);
 
-/// Plain JSON numbers (`-123.45`: no exponent, at most 18 digits, within the
-/// deal-file limits) separated by commas, read in one pass straight into exact
-/// decimals; `None` as soon as anything else appears, for the general reader.
+/// The run of ASCII digits at `body[i..]`, up to eight of them, read eight bytes at a
+/// time: (value, how many digits).
+#[inline(always)]
+fn digit_run(body: &[u8], i: usize) -> (u64, usize) {
+    let chunk = match body.get(i..i + 8) {
+        Some(eight) => u64::from_le_bytes([
+            eight[0], eight[1], eight[2], eight[3], eight[4], eight[5], eight[6], eight[7],
+        ]),
+        None => {
+            // Near the end: pad with a non-digit.
+            let mut bytes = [b' '; 8];
+            for (slot, &b) in bytes.iter_mut().zip(body.get(i..).unwrap_or_default()) {
+                *slot = b;
+            }
+            u64::from_le_bytes(bytes)
+        }
+    };
+    // A byte is a digit when its high nibble is 3 and adding 6 keeps it so. (A carry
+    // out of a byte above 0xF9 can only upset bytes after a non-digit: not counted.)
+    let high = 0xF0F0_F0F0_F0F0_F0F0u64;
+    let threes = 0x3030_3030_3030_3030u64;
+    let not_digit =
+        ((chunk & high) ^ threes) | ((chunk.wrapping_add(0x0606_0606_0606_0606) & high) ^ threes);
+    let count = (not_digit.trailing_zeros() / 8) as usize;
+    if count == 0 {
+        return (0, 0);
+    }
+    // Digit values, the first digit in the lowest byte; shifted up so that the missing
+    // digits read as leading zeros, then combined pairwise (byte, 16-bit, 32-bit).
+    let mut v = chunk.wrapping_sub(threes) << (8 * (8 - count));
+    v = (v.wrapping_mul(10) + (v >> 8)) & 0x00FF_00FF_00FF_00FF;
+    v = (v.wrapping_mul(100) + (v >> 16)) & 0x0000_FFFF_0000_FFFF;
+    v = (v.wrapping_mul(10_000) + (v >> 32)) & 0x0000_0000_FFFF_FFFF;
+    (v, count)
+}
+
+/// Plain JSON numbers (`-123.45`: no exponent, at most 16 digits before the point and
+/// 6 after, within the deal-file limits) separated by commas, read in one pass
+/// straight into exact decimals; `None` as soon as anything else appears, for the
+/// general reader.
 fn plain_numbers(body: &[u8]) -> Option<Vec<Decimal>> {
-    const POW10: [i64; 7] = [1, 10, 100, 1_000, 10_000, 100_000, 1_000_000];
+    const POW10: [u64; 9] = [
+        1,
+        10,
+        100,
+        1_000,
+        10_000,
+        100_000,
+        1_000_000,
+        10_000_000,
+        100_000_000,
+    ];
     let mut out = Vec::with_capacity(body.len() / 8 + 1);
     let mut i = 0;
     let len = body.len();
@@ -70,40 +117,41 @@ fn plain_numbers(body: &[u8]) -> Option<Vec<Decimal>> {
         }
         // JSON's grammar: an integer part without leading zeros, then optionally a
         // point and at least one digit (exponents go to the general reader).
-        let (mut mantissa, mut digits, mut scale) = (0i64, 0u32, 0u32);
-        let int_start = i;
-        while i < len && body[i].is_ascii_digit() {
-            mantissa = mantissa * 10 + i64::from(body[i] - b'0');
-            digits += 1;
-            i += 1;
-            if digits > 18 {
+        let (hi, n_hi) = digit_run(body, i);
+        let (mut int, mut n_int) = (hi, n_hi);
+        if n_hi == 8 {
+            let (lo, n_lo) = digit_run(body, i + 8);
+            if n_lo == 8 && digit_run(body, i + 16).1 > 0 {
+                // Seventeen or more digits: beyond the limits, for the general reader.
                 return None;
             }
+            int = hi * POW10[n_lo] + lo;
+            n_int += n_lo;
         }
-        if i == int_start || (body[int_start] == b'0' && i - int_start > 1) {
+        if n_int == 0 || (body[i] == b'0' && n_int > 1) {
             return None;
         }
+        i += n_int;
+        let (mut mantissa, mut scale) = (int, 0u32);
         if i < len && body[i] == b'.' {
             i += 1;
-            let frac_start = i;
-            while i < len && body[i].is_ascii_digit() {
-                mantissa = mantissa * 10 + i64::from(body[i] - b'0');
-                digits += 1;
-                scale += 1;
-                i += 1;
-                if digits > 18 {
-                    return None;
-                }
-            }
-            if i == frac_start {
+            let (frac, n_frac) = digit_run(body, i);
+            if n_frac == 0 || n_frac > MAX_SCALE as usize {
                 return None;
             }
+            mantissa = int * POW10[n_frac] + frac;
+            scale = n_frac as u32;
+            i += n_frac;
         }
-        if digits == 0 || scale > MAX_SCALE || mantissa > MAX_AMOUNT * POW10[scale as usize] {
+        if mantissa > MAX_AMOUNT as u64 * POW10[scale as usize] {
             return None;
         }
-        out.push(Decimal::new(
-            if negative { -mantissa } else { mantissa },
+        // Below 10^21, so the 96-bit mantissa needs only its low two words.
+        out.push(Decimal::from_parts(
+            mantissa as u32,
+            (mantissa >> 32) as u32,
+            0,
+            negative,
             scale,
         ));
         skip_space(&mut i);
@@ -162,10 +210,9 @@ fn split_amounts(text: &str) -> Option<(String, Vec<Decimal>)> {
                 }
                 let open = j;
                 let close = open + b[open..].iter().position(|&c| c == b']')?;
+                // A nested list, an object or a string (which might hide a `]`) stops
+                // the number reader before the cut could matter.
                 let body = &b[open + 1..close];
-                if body.iter().any(|&c| matches!(c, b'[' | b'{' | b'"')) {
-                    return None;
-                }
                 let amounts = plain_numbers(body)?;
                 let mut rest = String::with_capacity(text.len() - body.len());
                 rest.push_str(&text[..=open]);

@@ -175,23 +175,42 @@ fn accumulate<const M: usize>(s: &mut [f64; M], t: &mut [f64; M], cw: f64, nk: f
     }
 }
 
-/// [`accumulate`] for two terms at once, laid out so that the compiler can keep each
-/// pair of sums in one vector register.
+/// Sums of [`Series::sums`] for evenly spaced exponents (every period present), in
+/// four interleaved chains of powers, w_k = w_(k-4) z^4, so that the multiplications
+/// do not wait on one another and the compiler can keep the terms in vector registers.
+/// Each w_k still takes at most one rounding per unit of exponent: z^4 = (z^2)^2
+/// carries three for four units and the product one more; the first four powers
+/// (1, z, z^2, z^3) carry at most two.
 #[inline(always)]
-fn accumulate2<const M: usize>(
-    s: &mut [[f64; 2]; M],
-    t: &mut [[f64; 2]; M],
-    cw: [f64; 2],
-    nk: [f64; 2],
-) {
-    let mut v = cw;
-    for d in 0..M {
-        for l in 0..2 {
-            s[d][l] += v[l];
-            t[d][l] += v[l].abs();
-            v[l] *= nk[l];
+fn sums_even<const M: usize>(c: &[f64], n: &[f64], z: f64) -> ([f64; M], [f64; M]) {
+    let z2 = z * z;
+    let z4 = z2 * z2;
+    let mut w = [1.0f64, z, z2, z2 * z];
+    let (mut s4, mut t4) = ([[0.0f64; 4]; M], [[0.0f64; 4]; M]);
+    let mut quads = c.chunks_exact(4).zip(n.chunks_exact(4));
+    for (cc, nn) in &mut quads {
+        let mut v = [cc[0] * w[0], cc[1] * w[1], cc[2] * w[2], cc[3] * w[3]];
+        for d in 0..M {
+            for l in 0..4 {
+                s4[d][l] += v[l];
+                t4[d][l] += v[l].abs();
+                v[l] *= nn[l];
+            }
+        }
+        for wl in &mut w {
+            *wl *= z4;
         }
     }
+    let (mut s, mut t) = ([0.0f64; M], [0.0f64; M]);
+    for d in 0..M {
+        s[d] = (s4[d][0] + s4[d][1]) + (s4[d][2] + s4[d][3]);
+        t[d] = (t4[d][0] + t4[d][1]) + (t4[d][2] + t4[d][3]);
+    }
+    let done = c.len() - c.len() % 4;
+    for (l, k) in (done..c.len()).enumerate() {
+        accumulate(&mut s, &mut t, c[k] * w[l], n[k]);
+    }
+    (s, t)
 }
 
 impl<'a> Series<'a> {
@@ -298,35 +317,8 @@ impl<'a> Series<'a> {
     /// w_k = exp(-y n_k) built from the gap factors.
     fn sums<const M: usize>(&self, factors: &[f64]) -> ([f64; M], [f64; M]) {
         let (c, n) = (&self.c[..], &self.n[..]);
-        if factors.len() == 1 && c.len() >= 2 {
-            // Evenly spaced exponents (every period present): two interleaved chains of
-            // powers, w_k = w_(k-2) z^2, so that the multiplications do not wait on one
-            // another. Each w_k still takes at most one rounding per unit of exponent
-            // (z^2 carries one, the product another, for every two units).
-            let z = factors[0];
-            let z2 = z * z;
-            let (mut s2, mut t2) = ([[0.0; 2]; M], [[0.0; 2]; M]);
-            let mut w = [1.0f64, z];
-            let mut pairs = c.chunks_exact(2).zip(n.chunks_exact(2));
-            for (cc, nn) in &mut pairs {
-                accumulate2(
-                    &mut s2,
-                    &mut t2,
-                    [cc[0] * w[0], cc[1] * w[1]],
-                    [nn[0], nn[1]],
-                );
-                w = [w[0] * z2, w[1] * z2];
-            }
-            let (mut s0, mut t0) = ([0.0; M], [0.0; M]);
-            for d in 0..M {
-                s0[d] = s2[d][0] + s2[d][1];
-                t0[d] = t2[d][0] + t2[d][1];
-            }
-            if c.len() % 2 == 1 {
-                let k = c.len() - 1;
-                accumulate(&mut s0, &mut t0, c[k] * w[0], n[k]);
-            }
-            return (s0, t0);
+        if factors.len() == 1 && c.len() >= 8 {
+            return sums_even::<M>(c, n, factors[0]);
         }
         let (mut s, mut t) = ([0.0; M], [0.0; M]);
         let mut w = 1.0f64;
