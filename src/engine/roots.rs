@@ -408,17 +408,22 @@ impl<'a> Series<'a> {
 
 impl<'a> Solver<'a> {
     /// The point evaluation at `y` with at least `orders` derivative orders.
-    fn point(&mut self, y: f64, orders: usize) -> Point {
+    /// The point evaluation at `y` with at least `orders` orders, if already made.
+    fn cached(&self, y: f64, orders: usize) -> Option<Point> {
         let key = y.to_bits();
-        if let Some((_, p)) = self
-            .cache
+        self.cache
             .iter()
             .rev()
             .take(64)
             .find(|(k, p)| *k == key && p.orders >= orders)
-        {
-            return *p;
+            .map(|(_, p)| *p)
+    }
+
+    fn point(&mut self, y: f64, orders: usize) -> Point {
+        if let Some(p) = self.cached(y, orders) {
+            return p;
         }
+        let key = y.to_bits();
         self.evals += 1;
         let p = self.s.eval(y, orders);
         self.cache.push((key, p));
@@ -508,8 +513,11 @@ impl<'a> Solver<'a> {
         // Start from the better Newton step taken from either end.
         let mut x = 0.5 * (lo + hi);
         let mut best = f64::INFINITY;
+        // (Only from ends already evaluated: a far end is rarely worth a new evaluation.)
         for end in [lo, hi] {
-            let p = self.point(end, orders);
+            let Some(p) = self.cached(end, orders) else {
+                continue;
+            };
             let n = self.newton(&p, d);
             if n > lo && n < hi && (n - end).abs() < best {
                 best = (n - end).abs();
@@ -946,7 +954,9 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         let mut found: Vec<FoundRoot> = Vec::new();
         let unresolved_before = out.unresolved.len();
         let sl = solver.point(lo, 2).sign(0);
-        let sh = solver.point(hi, 2).sign(0);
+        // At the bracket's upper end the first term outweighs all the others (that is
+        // how the end was chosen), so f has its sign there: no evaluation needed.
+        let sh = Some(if solver.s.c[0] > 0.0 { 1 } else { -1 });
         match (known[i], sl, sh) {
             (Some(0), _, _) => {}
             (Some(1), Some(a), Some(b)) if a != b => {
