@@ -132,25 +132,26 @@ fn plain_numbers(body: &[u8]) -> Option<Vec<Decimal>> {
             return None;
         }
         i += n_int;
-        let (mut mantissa, mut scale) = (int, 0u32);
+        // Up to 16 digits before the point and 6 after: the mantissa can pass 2^64.
+        let (mut mantissa, mut scale) = (u128::from(int), 0u32);
         if i < len && body[i] == b'.' {
             i += 1;
             let (frac, n_frac) = digit_run(body, i);
             if n_frac == 0 || n_frac > MAX_SCALE as usize {
                 return None;
             }
-            mantissa = int * POW10[n_frac] + frac;
+            mantissa = mantissa * u128::from(POW10[n_frac]) + u128::from(frac);
             scale = n_frac as u32;
             i += n_frac;
         }
-        if mantissa > MAX_AMOUNT as u64 * POW10[scale as usize] {
+        if mantissa > MAX_AMOUNT as u128 * u128::from(POW10[scale as usize]) {
             return None;
         }
-        // Below 10^21, so the 96-bit mantissa needs only its low two words.
+        // At most 10^21, well inside the 96-bit mantissa.
         out.push(Decimal::from_parts(
             mantissa as u32,
             (mantissa >> 32) as u32,
-            0,
+            (mantissa >> 64) as u32,
             negative,
             scale,
         ));
@@ -551,6 +552,18 @@ mod tests {
         assert_eq!(plain_numbers(b"1000000000000000.01"), None);
         assert_eq!(plain_numbers(b"1.0000001"), None);
         assert_eq!(plain_numbers(b"1000000000000000"), Some(vec![dec!(1e15)]));
+        // Mantissas past 2^64 (16 digits before the point, 6 after) are read exactly.
+        assert_eq!(
+            plain_numbers(b"-999999999999999.999999, 1000000000000000.000000, 0.000001"),
+            Some(vec![
+                dec!(-999999999999999.999999),
+                dec!(1000000000000000.000000),
+                dec!(0.000001)
+            ])
+        );
+        assert_eq!(plain_numbers(b"1000000000000000.000001"), None);
+        assert_eq!(plain_numbers(b"9999999999999999999"), None);
+        assert_eq!(plain_numbers(b"99999999999999999.5"), None);
     }
 
     #[test]

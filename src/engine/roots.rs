@@ -16,7 +16,9 @@
 //! the extremum decides 0, 1 double or 2 roots); or a multiple root is proven exactly
 //! at a short decimal rate with big-integer arithmetic and the next derivative's
 //! enclosure excludes zero (Rolle). Norstrom's cumulative-sum counts settle the half
-//! lines above and below 0% outright when they are 0 or 1. The total is finally checked
+//! lines above and below 0% outright when they are 0 or 1; the same count on the flows
+//! discounted to a point (Laguerre) ends a subdivision early once at most one root can
+//! be left above the point. The total is finally checked
 //! against the Descartes/Laguerre bound and its parity. Anything left undecided is
 //! reported as such and the count is then not certified.
 
@@ -1699,6 +1701,33 @@ mod tests {
             let amounts: Vec<Decimal> = raw.iter().map(|&(m, s)| Decimal::new(m, s)).collect();
             proptest::prop_assert_eq!(sign_bounds(&amounts), sign_bounds_decimal(&amounts));
         }
+    }
+
+    #[test]
+    fn tail_bound_covers_the_roots_above_a_point() {
+        // (1 - 1.05v)(1 - 1.2v)(1 - 1.6v), v = 1/(1 + r): IRRs of exactly 5%, 20% and 60%
+        // [exact construction]. Laguerre's bound on the roots above a point is never
+        // below the true count there and has its parity (common practice for sign rules).
+        let amounts = [dec!(1), dec!(-3.85), dec!(4.86), dec!(-2.016)];
+        let exps = [0u64, 1, 2, 3];
+        let c: Vec<f64> = amounts
+            .iter()
+            .map(|a| super::super::flows::amount_f64(*a))
+            .collect();
+        let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+        let roots = [1.05f64.ln(), 1.2f64.ln(), 1.6f64.ln()];
+        for a in [0.0, 0.03, 0.1, 0.3, 0.5, 1.0, 3.0] {
+            let above = roots.iter().filter(|&&r| r > a).count() as u32;
+            let bound = s
+                .tail_bound(a)
+                .expect("signs are clear away from the roots");
+            assert!(
+                bound >= above && (bound - above) % 2 == 0,
+                "a = {a}: {bound} vs {above}"
+            );
+        }
+        // At 0% it is Norstrom's count of the cumulative sums.
+        assert_eq!(s.tail_bound(0.0), sign_bounds(&amounts).1);
     }
 
     #[test]
