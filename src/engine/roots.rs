@@ -836,7 +836,15 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     let (descartes, above_zero, below_zero) = sign_bounds(amounts);
     let first = offsets.first().copied().unwrap_or(0);
     let rel: Vec<u64> = offsets.iter().map(|&o| (o - first).max(0) as u64).collect();
-    let g = rel.iter().fold(0u64, |acc, &x| gcd(acc, x)).max(1);
+    // (Once the divisor is 1 it stays 1: no more divisions needed.)
+    let mut g = 0u64;
+    for &x in &rel {
+        g = gcd(g, x);
+        if g == 1 {
+            break;
+        }
+    }
+    let g = g.max(1);
     let exps: Vec<u64> = rel.iter().map(|&x| x / g).collect();
     let mut out = RootSet {
         roots: Vec::new(),
