@@ -175,13 +175,14 @@ fn batch_seeds_name_every_line_and_reach_the_root_finder() {
     assert!(roots_seen >= 3, "{roots_seen} roots in all the seeds");
 }
 
-/// The batch target's findings against the first fast number reader for amount lists
-/// (`screen::plain_numbers`, commit 02d2fda): it multiplied an i64 before checking its
-/// bounds, so a 19-digit amount, or any amount with four to six decimals (the limit
-/// 10^15 scaled by 10^4 or more), overflowed: a panic wherever overflow checks are on
-/// (debug builds, tests); release builds threw the wrapped value away and fell back
-/// to the general reader. Reading eight digits at a time (b1b6c59) no longer
-/// overflows; these lines must give what the general reader gives.
+/// The batch target's findings against the fast number reader for amount lists
+/// (`screen::plain_numbers`): it multiplied integers before checking their bounds.
+/// Against 02d2fda (i64), a 19-digit amount and any amount with four to six decimals
+/// (the limit 10^15 scaled by 10^4 or more) overflowed; against b1b6c59 (u64), amounts
+/// with five or six decimals still did; 6232e3b (u128) reads them all. Where overflow
+/// checks are on (debug builds, tests) that was a panic; release builds threw the
+/// wrapped value away and fell back to the general reader. These lines must give what
+/// the general reader gives.
 #[test]
 fn batch_amounts_near_the_fast_readers_limits_read_as_the_general_reader_reads() {
     let dir = root().join("tests/fixtures/fuzz/batch");
@@ -200,9 +201,12 @@ fn batch_amounts_near_the_fast_readers_limits_read_as_the_general_reader_reads()
             .is_some_and(|m| m.starts_with("amounts[0]")),
         "{big}"
     );
-    // 7.2400 is a valid amount (four decimals, within the six allowed); a single
-    // inflow has no sign change and so no IRR (common practice).
+    // 7.2400 and 0.02900 are valid amounts (four and five decimals, within the six
+    // allowed); a single inflow has no sign change and so no IRR (common practice).
     let small = line("mul-overflow--four-decimals.jsonl");
     assert!(small.get("error").is_none(), "{small}");
     assert_eq!(small["count"], 0, "{small}");
+    let five = line("mul-overflow--five-decimals.jsonl");
+    assert!(five.get("error").is_none(), "{five}");
+    assert_eq!(five["count"], 0, "{five}");
 }
