@@ -263,19 +263,12 @@ impl<'a> Series<'a> {
         }
     }
 
-    /// Laguerre's bound on the roots above `a >= 0`: the sign changes of the partial
-    /// sums of the discounted coefficients `c_k exp(-a n_k)` (with `x = exp(a - y)`
-    /// the roots above `a` are those of `sum (c_k exp(-a n_k)) x^(n_k)` in (0, 1)). At
-    /// `a = 0` this is Norstrom's count. `None` when a partial sum is too close to
-    /// zero for its sign to be certain, or the total is.
-    fn tail_bound(&self, a: f64) -> Option<u32> {
-        let (c, n) = (&self.c[..], &self.n[..]);
-        // The same error model as [`Series::eval`]: each term's relative error grows
-        // by at most `per_unit` a unit of exponent, and summation adds two roundings'
-        // worth of the running absolute sum per term.
+    /// The coefficients discounted to `a >= 0`, `c_k exp(-a n_k)`, and the relative
+    /// error allowance of each (the error model of [`Series::eval`]: a fixed part plus
+    /// `per_unit` a unit of exponent).
+    fn discounted(&self, a: f64) -> (Vec<f64>, f64, f64) {
         let fixed = 2.0 * EPS * (ORDERS + 6) as f64;
         let per_unit = 4.0 * EPS + 2.0 * EPS * a.abs();
-        let floor = 1e-290 * self.abs_sum;
         let mut z = [0.0f64; 64];
         let zs: Vec<f64>;
         let factors: &[f64] = if self.gap_vals.len() <= z.len() {
@@ -287,28 +280,58 @@ impl<'a> Series<'a> {
             zs = self.gap_vals.iter().map(|g| (-a * g).exp()).collect();
             &zs
         };
-        let (mut sum, mut size) = (0.0f64, 0.0f64);
-        let (mut last, mut changes) = (0i8, 0u32);
         let mut w = 1.0f64;
-        for k in 0..c.len() {
-            if k > 0 {
-                w *= factors[self.gap_idx[k] as usize];
+        let terms = (0..self.c.len())
+            .map(|k| {
+                if k > 0 {
+                    w *= factors[self.gap_idx[k] as usize];
+                }
+                self.c[k] * w
+            })
+            .collect();
+        (terms, fixed, per_unit)
+    }
+
+    /// Laguerre's bound on the roots above `a >= 0`: the sign changes of the partial
+    /// sums of the discounted coefficients `c_k exp(-a n_k)` (with `x = exp(a - y)`
+    /// the roots above `a` are those of `sum (c_k exp(-a n_k)) x^(n_k)` in (0, 1)). At
+    /// `a = 0` this is Norstrom's count. `None` when a partial sum is too close to
+    /// zero for its sign to be certain (the last one is f(a) itself).
+    fn tail_bound(&self, a: f64) -> Option<u32> {
+        self.bounds_at(a).map(|(above, _)| above)
+    }
+
+    /// Laguerre's bounds at `a >= 0`: (roots above `a`, roots below `a`), from the
+    /// partial sums of the discounted coefficients taken forwards and backwards (the
+    /// roots below `a` are those of the same sum in `1/x`, whose exponents run the other
+    /// way). Every partial sum must have a certain sign, f(a) included, so `a` is not a
+    /// root; otherwise `None`.
+    fn bounds_at(&self, a: f64) -> Option<(u32, u32)> {
+        let (terms, fixed, per_unit) = self.discounted(a);
+        let floor = 1e-290 * self.abs_sum;
+        let count = |order: &mut dyn Iterator<Item = usize>| -> Option<u32> {
+            let (mut sum, mut size) = (0.0f64, 0.0f64);
+            let (mut last, mut changes) = (0i8, 0u32);
+            for (j, k) in order.enumerate() {
+                let t = terms[k];
+                sum += t;
+                size += t.abs();
+                // Each term's own error (up to the largest exponent's allowance) and
+                // two roundings' worth of the running size per addition.
+                let err = (fixed + per_unit * self.last_n() + (j as f64 + 2.0) * 2.0 * EPS) * size
+                    + floor;
+                if sum.abs() <= err {
+                    return None;
+                }
+                let sg = if sum > 0.0 { 1 } else { -1 };
+                changes += u32::from(last != 0 && sg != last);
+                last = sg;
             }
-            let term = c[k] * w;
-            sum += term;
-            size += term.abs();
-            let err = (fixed + per_unit * n[k] + (k as f64 + 2.0) * 2.0 * EPS) * size + floor;
-            if sum.abs() <= err {
-                // A partial sum within rounding of zero may be zero or of either sign;
-                // only the last one must be certain (it is f(a)), the others may be
-                // skipped only when they cannot add a change: keep it simple and give up.
-                return None;
-            }
-            let sg = if sum > 0.0 { 1 } else { -1 };
-            changes += u32::from(last != 0 && sg != last);
-            last = sg;
-        }
-        Some(changes)
+            Some(changes)
+        };
+        let above = count(&mut (0..terms.len()))?;
+        let below = count(&mut (0..terms.len()).rev())?;
+        Some((above, below))
     }
 
     fn last_n(&self) -> f64 {
@@ -956,9 +979,24 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     }
 
     let mut roots: Vec<FoundRoot> = Vec::new();
+    // When a cumulative count leaves more than one root possible on a side of 0%, try
+    // the cheap way first: one root by Newton wherever the end signs differ, then a
+    // global count at points beside the roots found (Laguerre's bounds on the roots
+    // above and below a point, forwards and backwards partial sums of the discounted
+    // flows). If the bounds add up to the roots found, each holds exactly one simple
+    // root and there are no others; otherwise the full search below decides.
+    let quick = if !zero_is_root && known.iter().any(|k| k.is_none_or(|n| n > 1)) {
+        quick_certificate(&mut solvers, [y_hi, u_hi], known)
+    } else {
+        None
+    };
+    let quick_done = quick.is_some();
+    if let Some(found) = quick {
+        roots = found;
+    }
     for (i, solver) in solvers.iter_mut().enumerate() {
         let (lo, hi) = (starts[i], if i == 0 { y_hi } else { u_hi });
-        if lo >= hi || known[i] == Some(0) {
+        if quick_done || lo >= hi || known[i] == Some(0) {
             continue;
         }
         let mut found: Vec<FoundRoot> = Vec::new();
@@ -1022,6 +1060,80 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         }
     }
     out
+}
+
+/// A root in u = -y (the reversed series) as a root in y.
+fn flipped(r: FoundRoot) -> FoundRoot {
+    FoundRoot {
+        lo: -r.hi,
+        hi: -r.lo,
+        y: -r.y,
+        ..r
+    }
+}
+
+/// The quick way to every root (see its call in [`find_roots`]): the roots in y,
+/// lowest first, when the count is certified so; `None` sends the series to the full
+/// search.
+fn quick_certificate(
+    solvers: &mut [Solver<'_>; 2],
+    his: [f64; 2],
+    known: [Option<u32>; 2],
+) -> Option<Vec<FoundRoot>> {
+    let mut found: Vec<FoundRoot> = Vec::new();
+    for (i, sv) in solvers.iter_mut().enumerate() {
+        if known[i] == Some(0) || his[i] <= 0.0 {
+            continue;
+        }
+        let s_lo = sv.point(0.0, 2).sign(0)?;
+        // Beyond the upper end the first term dominates (see `find_roots`).
+        let s_hi = if sv.s.c[0] > 0.0 { 1 } else { -1 };
+        if s_lo != s_hi {
+            let mut r = sv.simple_root(0.0, his[i], s_lo);
+            if sv.exhausted() {
+                return None;
+            }
+            polish(sv.s, &mut r);
+            found.push(if i == 1 { flipped(r) } else { r });
+        }
+    }
+    if found.is_empty() {
+        return None;
+    }
+    found.sort_by(|a, b| a.y.total_cmp(&b.y));
+    let count = found.len() as u32;
+    // Points beside the roots found: between neighbours, and halfway to and beyond
+    // each root from 0%, where the bounds drop to what is really there.
+    let mut points: Vec<f64> = found
+        .windows(2)
+        .map(|w| 0.5 * (w[0].hi + w[1].lo))
+        .collect();
+    for r in &found {
+        points.push(1.5 * r.y);
+        points.push(0.5 * r.y);
+    }
+
+    for p in points {
+        if !p.is_finite() || p == 0.0 || found.iter().any(|r| p >= r.lo && p <= r.hi) {
+            continue;
+        }
+        // Bounds at p in y: on the series for p > 0, on the reversed one (at u = -p,
+        // where above and below swap) for p < 0.
+        let bounds = if p > 0.0 {
+            solvers[0].s.bounds_at(p)
+        } else {
+            solvers[1]
+                .s
+                .bounds_at(-p)
+                .map(|(above, below)| (below, above))
+        };
+        if let Some((above, below)) = bounds {
+            if above + below == count {
+                return Some(found);
+            }
+        }
+    }
+    None
 }
 
 /// Subdivision search over [lo, hi] (within y >= 0).
