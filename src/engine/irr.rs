@@ -249,6 +249,14 @@ fn certificate_text(set: &RootSet) -> String {
     if set.descartes == 0 {
         return "The flows never change sign, so no rate of return exists (Descartes' rule of signs).".to_string();
     }
+    if let Some(y) = set.proven_at {
+        let rate = (y / set.step_years).exp_m1();
+        return format!(
+            "Count {count} proven complete: each root lies where the NPV changes sign, found with rigorous rounding-error bounds, and with the flows discounted at an annual {} their partial sums change sign {count} time(s) taken forwards and backwards together, which bounds the roots above and below that rate (Laguerre's rule). Sign-change bound of the flows: {}.",
+            crate::format::percent(rate, 2),
+            set.descartes
+        );
+    }
     let norstrom = match (set.above_zero, set.below_zero) {
         (Some(a), Some(b)) => format!(" Cumulative sums change sign {a} time(s) (bound above 0%) and backward sums {b} time(s) (bound below 0%)."),
         _ => " The flows sum to zero, so 0% is a root.".to_string(),

@@ -16,9 +16,10 @@
 //! the extremum decides 0, 1 double or 2 roots); or a multiple root is proven exactly
 //! at a short decimal rate with big-integer arithmetic and the next derivative's
 //! enclosure excludes zero (Rolle). Norstrom's cumulative-sum counts settle the half
-//! lines above and below 0% outright when they are 0 or 1; the same count on the flows
-//! discounted to a point (Laguerre) ends a subdivision early once at most one root can
-//! be left above the point. The total is finally checked
+//! lines above and below 0% outright when they are 0 or 1; the same counts on the flows
+//! discounted to another point (Laguerre) prove a whole answer at once when they add
+//! up to the roots found by Newton from the end signs, and end a subdivision early once
+//! at most one root can be left above a point. The total is finally checked
 //! against the Descartes/Laguerre bound and its parity. Anything left undecided is
 //! reported as such and the count is then not certified.
 
@@ -74,6 +75,9 @@ pub struct RootSet {
     pub step_units: u64,
     /// Point evaluations used.
     pub evaluations: usize,
+    /// When the count was proven by Laguerre's bounds at one point (the quick way, see
+    /// [`find_roots`]): that point, in `y`.
+    pub proven_at: Option<f64>,
 }
 
 impl RootSet {
@@ -879,6 +883,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         step_years: g as f64 / units_per_year.max(1) as f64,
         step_units: g,
         evaluations: 0,
+        proven_at: None,
     };
     if descartes == 0 || amounts.len() < 2 {
         return out;
@@ -991,8 +996,9 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         None
     };
     let quick_done = quick.is_some();
-    if let Some(found) = quick {
+    if let Some((found, at)) = quick {
         roots = found;
+        out.proven_at = Some(at);
     }
     for (i, solver) in solvers.iter_mut().enumerate() {
         let (lo, hi) = (starts[i], if i == 0 { y_hi } else { u_hi });
@@ -1073,13 +1079,13 @@ fn flipped(r: FoundRoot) -> FoundRoot {
 }
 
 /// The quick way to every root (see its call in [`find_roots`]): the roots in y,
-/// lowest first, when the count is certified so; `None` sends the series to the full
-/// search.
+/// lowest first, and the point whose bounds prove the count, when it is certified so;
+/// `None` sends the series to the full search.
 fn quick_certificate(
     solvers: &mut [Solver<'_>; 2],
     his: [f64; 2],
     known: [Option<u32>; 2],
-) -> Option<Vec<FoundRoot>> {
+) -> Option<(Vec<FoundRoot>, f64)> {
     let mut found: Vec<FoundRoot> = Vec::new();
     for (i, sv) in solvers.iter_mut().enumerate() {
         if known[i] == Some(0) || his[i] <= 0.0 {
@@ -1129,7 +1135,7 @@ fn quick_certificate(
         };
         if let Some((above, below)) = bounds {
             if above + below == count {
-                return Some(found);
+                return Some((found, p));
             }
         }
     }
