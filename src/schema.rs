@@ -22,15 +22,6 @@ pub const DECISIONS: &[&str] = &["pending", "approved", "declined", "deferred"];
 /// Largest shift of inflows accepted, in periods or days.
 const MAX_SHIFT: i64 = 100_000;
 
-const FREQUENCIES: [Frequency; 6] = [
-    Frequency::Year,
-    Frequency::HalfYear,
-    Frequency::Quarter,
-    Frequency::Month,
-    Frequency::Week,
-    Frequency::Day,
-];
-
 /// A word the validator accepts in any letter case, surrounding spaces ignored: the
 /// canonical spellings are offered for completion, the pattern accepts the rest.
 fn word(words: &[&str], description: &str) -> Value {
@@ -66,7 +57,7 @@ fn optional(schema: Value) -> Value {
 
 /// The JSON Schema of a version 1 deal file.
 pub fn deal_schema() -> Value {
-    let frequencies: Vec<&str> = FREQUENCIES.iter().map(|f| f.as_str()).collect();
+    let frequencies: Vec<&str> = Frequency::ALL.iter().map(|f| f.as_str()).collect();
     let day_counts: Vec<&str> = DayCount::ALL.iter().map(|d| d.as_str()).collect();
     let decimal = "^\\s*[+-]?[0-9]+(\\.[0-9]+)?\\s*$";
     json!({

@@ -293,16 +293,7 @@ fn exact_rate(raw: &RawValue) -> Result<Decimal, String> {
 }
 
 fn frequency(name: &str) -> Option<Frequency> {
-    [
-        Frequency::Year,
-        Frequency::HalfYear,
-        Frequency::Quarter,
-        Frequency::Month,
-        Frequency::Week,
-        Frequency::Day,
-    ]
-    .into_iter()
-    .find(|f| f.as_str() == name)
+    Frequency::ALL.into_iter().find(|f| f.as_str() == name)
 }
 
 /// The series of a line; `amounts`, when given, were read ahead by [`split_amounts`].
@@ -331,22 +322,7 @@ fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, Lin
                     format!("{} flows; at most {MAX_FLOWS}", amounts.len()),
                 ));
             }
-            let points = amounts
-                .into_iter()
-                .enumerate()
-                .map(|(i, amount)| FlowPoint {
-                    offset: i as i64,
-                    amount,
-                    date: None,
-                    period: Some(i as u32),
-                    note: None,
-                })
-                .collect();
-            Ok(Flows {
-                points,
-                units_per_year: freq.per_year() as u64,
-                periods_per_year: Some(freq.per_year()),
-            })
+            Ok(Flows::periodic(amounts, freq.per_year()))
         }
         (None, Some(dated)) => {
             let name = line.day_count.as_deref().unwrap_or("act/365f");

@@ -8,8 +8,8 @@ use candor::commands::memo::{
     build_memo, build_memo_with_changes, sha256_hex, MemoInputs, MemoOutput,
 };
 use candor::engine::{
-    Analysis, BalanceKind, BalanceRow, Caution, Decision, FlowPoint, FlowRow, Flows, IrrReport,
-    Payback, ProfilePoint, Root, ScenarioAnalysis, SignBounds, Stance, Totals,
+    Analysis, BalanceKind, BalanceRow, Caution, Decision, FlowRow, Flows, IrrReport, Payback,
+    ProfilePoint, Root, ScenarioAnalysis, SignBounds, Stance, Totals,
 };
 use candor::model::{
     Clock, Deal, Frequency, Memo, MemoSection, Rates, Scenario, Signoff, SignoffDecision,
@@ -154,21 +154,7 @@ fn sample(name: &str, decision: SignoffDecision) -> (Analysis, Deal) {
         currency: "EUR".to_string(),
         scenarios: vec![base, hostile_scenario],
     };
-    let flows = Flows {
-        points: ["-1600", "10000", "-10000"]
-            .iter()
-            .enumerate()
-            .map(|(i, a)| FlowPoint {
-                offset: i as i64,
-                amount: dec(a),
-                date: None,
-                period: Some(i as u32),
-                note: None,
-            })
-            .collect(),
-        units_per_year: 1,
-        periods_per_year: Some(1),
-    };
+    let flows = Flows::periodic(["-1600", "10000", "-10000"].iter().map(|a| dec(a)), 1);
     let deal = Deal {
         name: name.to_string(),
         currency: "EUR".to_string(),

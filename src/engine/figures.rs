@@ -782,22 +782,7 @@ pub(crate) mod tests {
 
     /// Periodic flows, one amount a period, `m` periods a year.
     pub(crate) fn periodic(amounts: &[&str], m: u32) -> Flows {
-        Flows {
-            points: amounts
-                .iter()
-                .enumerate()
-                .map(|(i, a)| FlowPoint {
-                    offset: i as i64,
-                    amount: dec(a),
-                    date: None,
-                    period: Some(i as u32),
-                    note: None,
-                })
-                .collect(),
-            units_per_year: m as u64,
-            periods_per_year: Some(m),
-        }
-        .normalised()
+        Flows::periodic(amounts.iter().map(|a| dec(a)), m).normalised()
     }
 
     /// Dated flows on an Act/365F clock.

@@ -61,6 +61,25 @@ pub struct Flows {
 }
 
 impl Flows {
+    /// Periodic flows: one amount a period from period 0, `per_year` periods a year.
+    pub fn periodic(amounts: impl IntoIterator<Item = Decimal>, per_year: u32) -> Flows {
+        Flows {
+            points: amounts
+                .into_iter()
+                .enumerate()
+                .map(|(i, amount)| FlowPoint {
+                    offset: i as i64,
+                    amount,
+                    date: None,
+                    period: Some(i as u32),
+                    note: None,
+                })
+                .collect(),
+            units_per_year: u64::from(per_year),
+            periods_per_year: Some(per_year),
+        }
+    }
+
     /// The same flows sorted by offset, with flows at one offset netted (notes joined
     /// with "; ") and zero flows dropped, as the sign-change counts require.
     pub fn normalised(&self) -> Flows {

@@ -1030,14 +1030,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
             for iv in &mut out.unresolved[unresolved_before..] {
                 *iv = (-iv.1, -iv.0);
             }
-            for r in &mut found {
-                *r = FoundRoot {
-                    lo: -r.hi,
-                    hi: -r.lo,
-                    y: -r.y,
-                    ..r.clone()
-                };
-            }
+            found = found.into_iter().map(flipped).collect();
         }
         roots.extend(found);
     }

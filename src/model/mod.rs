@@ -82,6 +82,16 @@ pub enum Frequency {
 }
 
 impl Frequency {
+    /// Every frequency, from the longest period to the shortest.
+    pub const ALL: [Frequency; 6] = [
+        Frequency::Year,
+        Frequency::HalfYear,
+        Frequency::Quarter,
+        Frequency::Month,
+        Frequency::Week,
+        Frequency::Day,
+    ];
+
     /// Periods a year.
     pub fn per_year(self) -> u32 {
         match self {
