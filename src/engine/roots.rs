@@ -302,7 +302,8 @@ impl<'a> Series<'a> {
     /// `a = 0` this is Norstrom's count. `None` when a partial sum is too close to
     /// zero for its sign to be certain (the last one is f(a) itself).
     fn tail_bound(&self, a: f64) -> Option<u32> {
-        self.bounds_at(a).map(|(above, _)| above)
+        let (terms, fixed, per_unit) = self.discounted(a);
+        self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()))
     }
 
     /// Laguerre's bounds at `a >= 0`: (roots above `a`, roots below `a`), from the
@@ -312,30 +313,49 @@ impl<'a> Series<'a> {
     /// root; otherwise `None`.
     fn bounds_at(&self, a: f64) -> Option<(u32, u32)> {
         let (terms, fixed, per_unit) = self.discounted(a);
-        let floor = 1e-290 * self.abs_sum;
-        let count = |order: &mut dyn Iterator<Item = usize>| -> Option<u32> {
-            let (mut sum, mut size) = (0.0f64, 0.0f64);
-            let (mut last, mut changes) = (0i8, 0u32);
-            for (j, k) in order.enumerate() {
-                let t = terms[k];
-                sum += t;
-                size += t.abs();
-                // Each term's own error (up to the largest exponent's allowance) and
-                // two roundings' worth of the running size per addition.
-                let err = (fixed + per_unit * self.last_n() + (j as f64 + 2.0) * 2.0 * EPS) * size
-                    + floor;
-                if sum.abs() <= err {
-                    return None;
-                }
-                let sg = if sum > 0.0 { 1 } else { -1 };
-                changes += u32::from(last != 0 && sg != last);
-                last = sg;
-            }
-            Some(changes)
-        };
-        let above = count(&mut (0..terms.len()))?;
-        let below = count(&mut (0..terms.len()).rev())?;
+        let above = self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()))?;
+        let below =
+            self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()).rev())?;
         Some((above, below))
+    }
+
+    /// Sign changes of the partial sums of `terms` taken in `order`, each sum's sign
+    /// certain under the error model of [`Series::discounted`]; `None` otherwise.
+    fn partial_sum_changes(
+        &self,
+        terms: &[f64],
+        fixed: f64,
+        per_unit: f64,
+        order: &mut dyn Iterator<Item = usize>,
+    ) -> Option<u32> {
+        let floor = 1e-290 * self.abs_sum;
+        let (mut sum, mut size) = (0.0f64, 0.0f64);
+        let mut changes = SignCount::default();
+        for (j, k) in order.enumerate() {
+            let t = terms[k];
+            sum += t;
+            size += t.abs();
+            // Each term's own error (up to the largest exponent's allowance) and two
+            // roundings' worth of the running size per addition.
+            let err =
+                (fixed + per_unit * self.last_n() + (j as f64 + 2.0) * 2.0 * EPS) * size + floor;
+            if sum.abs() <= err {
+                return None;
+            }
+            changes.push(if sum > 0.0 { 1 } else { -1 });
+        }
+        Some(changes.changes)
+    }
+
+    /// The sign of f at the search's upper end and beyond, where the first term
+    /// outweighs all the others (that is how the end is chosen in [`find_roots`]): no
+    /// evaluation needed.
+    fn sign_at_upper_end(&self) -> i8 {
+        if self.c[0] > 0.0 {
+            1
+        } else {
+            -1
+        }
     }
 
     fn last_n(&self) -> f64 {
@@ -749,36 +769,23 @@ fn sign_bounds_int(amounts: &[Decimal]) -> Option<(u32, Option<u32>, Option<u32>
         });
     }
     // One pass: the signs of the amounts and of the forward sums.
-    let (mut v, mut last_v) = (0u32, 0i128);
-    let (mut f, mut last_f) = (0u32, 0i128);
+    let (mut v, mut f) = (SignCount::default(), SignCount::default());
     let mut acc = 0i128;
     for &x in &ints {
-        let s = x.signum();
-        if s != 0 {
-            v += u32::from(last_v != 0 && s != last_v);
-            last_v = s;
-        }
+        v.push(x);
         acc = acc.checked_add(x)?;
-        let s = acc.signum();
-        if s != 0 {
-            f += u32::from(last_f != 0 && s != last_f);
-            last_f = s;
-        }
+        f.push(acc);
     }
     if acc == 0 {
-        return Some((v, None, None));
+        return Some((v.changes, None, None));
     }
-    let (mut b, mut last_b) = (0u32, 0i128);
+    let mut b = SignCount::default();
     let mut acc = 0i128;
     for &x in ints.iter().rev() {
         acc = acc.checked_add(x)?;
-        let s = acc.signum();
-        if s != 0 {
-            b += u32::from(last_b != 0 && s != last_b);
-            last_b = s;
-        }
+        b.push(acc);
     }
-    Some((v, Some(f), Some(b)))
+    Some((v.changes, Some(f.changes), Some(b.changes)))
 }
 
 /// Counts sign changes of a stream of values, ignoring zeros.
@@ -1008,9 +1015,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         let mut found: Vec<FoundRoot> = Vec::new();
         let unresolved_before = out.unresolved.len();
         let sl = solver.point(lo, 2).sign(0);
-        // At the bracket's upper end the first term outweighs all the others (that is
-        // how the end was chosen), so f has its sign there: no evaluation needed.
-        let sh = Some(if solver.s.c[0] > 0.0 { 1 } else { -1 });
+        let sh = Some(solver.s.sign_at_upper_end());
         match (known[i], sl, sh) {
             (Some(0), _, _) => {}
             (Some(1), Some(a), Some(b)) if a != b => {
@@ -1085,8 +1090,7 @@ fn quick_certificate(
             continue;
         }
         let s_lo = sv.point(0.0, 2).sign(0)?;
-        // Beyond the upper end the first term dominates (see `find_roots`).
-        let s_hi = if sv.s.c[0] > 0.0 { 1 } else { -1 };
+        let s_hi = sv.s.sign_at_upper_end();
         if s_lo != s_hi {
             let mut r = sv.simple_root(0.0, his[i], s_lo);
             if sv.exhausted() {
