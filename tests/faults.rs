@@ -138,6 +138,32 @@ fn is_root() -> bool {
 
 /// A memo of the deal at `out` made by candor itself: the earlier memo a failed run
 /// must leave alone.
+/// A deal folder with a memo made from the deal's first forecast, the deal then
+/// revised, and candor paused half way through writing the new memo over the old:
+/// (folder, deal, memo path, the earlier memo's bytes, the paused run).
+fn memo_paused_mid_write() -> (tempfile::TempDir, PathBuf, PathBuf, Vec<u8>, Child) {
+    let (dir, deal) = deal_folder();
+    let out = dir.path().join("ferrow.pdf");
+    let before = earlier_memo(&deal, &out);
+    revise(&deal);
+    let mut child = spawn_paused(&["memo", s(&deal), "-o", s(&out)]);
+    wait_until(&mut child, "the memo was half written", || {
+        part_written(dir.path())
+    });
+    (dir, deal, out, before, child)
+}
+
+/// A deal folder whose archive holds version 001, the deal then revised:
+/// (folder, deal, archive folder, the deal's folder in the archive).
+fn archive_with_one_version_and_a_revision() -> (tempfile::TempDir, PathBuf, PathBuf, PathBuf) {
+    let (dir, deal) = deal_folder();
+    let archive = dir.path().join("archive");
+    let deal_dir = archive.join(SLUG);
+    file_first_version(&deal, &archive);
+    revise(&deal);
+    (dir, deal, archive, deal_dir)
+}
+
 fn earlier_memo(deal: &Path, out: &Path) -> Vec<u8> {
     let made = candor(&["memo", s(deal), "-o", s(out)]);
     assert_eq!(made.status.code(), Some(0), "{}", text(&made.stderr));
@@ -652,14 +678,7 @@ fn signal(child: &Child, name: &str) {
 
 #[test]
 fn a_memo_killed_mid_write_leaves_the_earlier_one_and_the_next_run_cleans_up() {
-    let (dir, deal) = deal_folder();
-    let out = dir.path().join("ferrow.pdf");
-    let before = earlier_memo(&deal, &out);
-    revise(&deal);
-    let mut child = spawn_paused(&["memo", s(&deal), "-o", s(&out)]);
-    wait_until(&mut child, "the memo was half written", || {
-        part_written(dir.path())
-    });
+    let (dir, deal, out, before, mut child) = memo_paused_mid_write();
     let pid = child.id();
     child.kill().expect("SIGKILL");
     child.wait().expect("reaped");
@@ -689,11 +708,7 @@ fn a_memo_killed_mid_write_leaves_the_earlier_one_and_the_next_run_cleans_up() {
 
 #[test]
 fn a_filing_killed_mid_write_leaves_the_archive_intact_and_the_next_run_recovers() {
-    let (dir, deal) = deal_folder();
-    let archive = dir.path().join("archive");
-    let deal_dir = archive.join(SLUG);
-    file_first_version(&deal, &archive);
-    revise(&deal);
+    let (_dir, deal, archive, deal_dir) = archive_with_one_version_and_a_revision();
     let before = tree(&deal_dir.join("001"));
     let mut child = spawn_paused(&["memo", s(&deal), "--archive", s(&archive)]);
     wait_until(&mut child, "the version was half built", || {
@@ -742,14 +757,7 @@ fn a_filing_killed_mid_write_leaves_the_archive_intact_and_the_next_run_recovers
 #[test]
 fn ctrl_c_or_sigterm_while_writing_removes_the_unfinished_memo() {
     for sig in ["INT", "TERM"] {
-        let (dir, deal) = deal_folder();
-        let out = dir.path().join("ferrow.pdf");
-        let before = earlier_memo(&deal, &out);
-        revise(&deal);
-        let mut child = spawn_paused(&["memo", s(&deal), "-o", s(&out)]);
-        wait_until(&mut child, "the memo was half written", || {
-            part_written(dir.path())
-        });
+        let (dir, _deal, out, before, child) = memo_paused_mid_write();
         signal(&child, sig);
         let done = child.wait_with_output().expect("candor ends");
         let err = text(&done.stderr);
@@ -775,11 +783,7 @@ fn ctrl_c_or_sigterm_while_writing_removes_the_unfinished_memo() {
 
 #[test]
 fn ctrl_c_while_filing_removes_the_unfinished_version_and_the_lock() {
-    let (dir, deal) = deal_folder();
-    let archive = dir.path().join("archive");
-    let deal_dir = archive.join(SLUG);
-    file_first_version(&deal, &archive);
-    revise(&deal);
+    let (_dir, deal, archive, deal_dir) = archive_with_one_version_and_a_revision();
     let before = tree(&archive);
     let mut child = spawn_paused(&["memo", s(&deal), "--archive", s(&archive)]);
     wait_until(&mut child, "the version was half built", || {
