@@ -82,11 +82,11 @@ fn digit_run(body: &[u8], i: usize) -> (u64, usize) {
     (v, count)
 }
 
-/// Plain JSON numbers (`-123.45`: no exponent, at most 16 digits before the point and
-/// 6 after, within the deal-file limits) separated by commas, read in one pass
-/// straight into exact decimals; `None` as soon as anything else appears, for the
-/// general reader.
-fn plain_numbers(body: &[u8]) -> Option<Vec<Decimal>> {
+/// A JSON array of plain numbers (`-123.45`: no exponent, at most 16 digits before
+/// the point and 6 after, within the deal-file limits) starting at `b[open] == b'['`,
+/// read in one pass straight into exact decimals: the amounts and the index of the
+/// closing `]`. `None` as soon as anything else appears, for the general reader.
+fn plain_numbers(b: &[u8], open: usize) -> Option<(Vec<Decimal>, usize)> {
     const POW10: [u64; 9] = [
         1,
         10,
@@ -98,74 +98,91 @@ fn plain_numbers(body: &[u8]) -> Option<Vec<Decimal>> {
         10_000_000,
         100_000_000,
     ];
-    let mut out = Vec::with_capacity(body.len() / 8 + 1);
-    let mut i = 0;
-    let len = body.len();
+    let len = b.len();
+    let mut out = Vec::with_capacity((len - open) / 8 + 1);
     let skip_space = |i: &mut usize| {
-        while *i < len && is_json_space(body[*i]) {
+        while *i < len && is_json_space(b[*i]) {
             *i += 1;
         }
     };
+    let mut i = open + 1;
     skip_space(&mut i);
-    if i == len {
-        return Some(out);
+    if b.get(i) == Some(&b']') {
+        return Some((out, i));
     }
     loop {
-        let negative = body[i] == b'-';
+        let negative = *b.get(i)? == b'-';
         if negative {
             i += 1;
         }
         // JSON's grammar: an integer part without leading zeros, then optionally a
         // point and at least one digit (exponents go to the general reader).
-        let (hi, n_hi) = digit_run(body, i);
+        let (hi, n_hi) = digit_run(b, i);
         let (mut int, mut n_int) = (hi, n_hi);
         if n_hi == 8 {
-            let (lo, n_lo) = digit_run(body, i + 8);
-            if n_lo == 8 && digit_run(body, i + 16).1 > 0 {
+            let (lo, n_lo) = digit_run(b, i + 8);
+            if n_lo == 8 && digit_run(b, i + 16).1 > 0 {
                 // Seventeen or more digits: beyond the limits, for the general reader.
                 return None;
             }
             int = hi * POW10[n_lo] + lo;
             n_int += n_lo;
         }
-        if n_int == 0 || (body[i] == b'0' && n_int > 1) {
+        if n_int == 0 || (b[i] == b'0' && n_int > 1) {
             return None;
         }
         i += n_int;
-        // Up to 16 digits before the point and 6 after: the mantissa can pass 2^64.
-        let (mut mantissa, mut scale) = (u128::from(int), 0u32);
-        if i < len && body[i] == b'.' {
+        let (mut frac, mut scale) = (0u64, 0usize);
+        if i < len && b[i] == b'.' {
             i += 1;
-            let (frac, n_frac) = digit_run(body, i);
+            let (f, n_frac) = digit_run(b, i);
             if n_frac == 0 || n_frac > MAX_SCALE as usize {
                 return None;
             }
-            mantissa = mantissa * u128::from(POW10[n_frac]) + u128::from(frac);
-            scale = n_frac as u32;
+            (frac, scale) = (f, n_frac);
             i += n_frac;
         }
-        if mantissa > MAX_AMOUNT as u128 * u128::from(POW10[scale as usize]) {
-            return None;
+        if n_int <= 12 {
+            // Below 10^12 before the point and at most 6 places: under 10^18, in 64
+            // bits, and inside the limits without a check.
+            let mantissa = int * POW10[scale] + frac;
+            out.push(Decimal::from_parts(
+                mantissa as u32,
+                (mantissa >> 32) as u32,
+                0,
+                negative,
+                scale as u32,
+            ));
+        } else {
+            // Up to 16 digits before the point and 6 after: the mantissa can pass 2^64.
+            let mantissa = u128::from(int) * u128::from(POW10[scale]) + u128::from(frac);
+            if mantissa > MAX_AMOUNT as u128 * u128::from(POW10[scale]) {
+                return None;
+            }
+            // At most 10^21, well inside the 96-bit mantissa.
+            out.push(Decimal::from_parts(
+                mantissa as u32,
+                (mantissa >> 32) as u32,
+                (mantissa >> 64) as u32,
+                negative,
+                scale as u32,
+            ));
         }
-        // At most 10^21, well inside the 96-bit mantissa.
-        out.push(Decimal::from_parts(
-            mantissa as u32,
-            (mantissa >> 32) as u32,
-            (mantissa >> 64) as u32,
-            negative,
-            scale,
-        ));
+        // (Lists are usually written with one space after each comma.)
+        if b.get(i) == Some(&b' ') {
+            i += 1;
+        }
         skip_space(&mut i);
-        if i == len {
-            return Some(out);
-        }
-        if body[i] != b',' {
-            return None;
-        }
-        i += 1;
-        skip_space(&mut i);
-        if i == len {
-            return None;
+        match b.get(i)? {
+            b',' => {
+                i += 1;
+                if b.get(i) == Some(&b' ') {
+                    i += 1;
+                }
+                skip_space(&mut i);
+            }
+            b']' => return Some((out, i)),
+            _ => return None,
         }
     }
 }
@@ -210,12 +227,8 @@ fn split_amounts(text: &str) -> Option<(String, Vec<Decimal>)> {
                     return None;
                 }
                 let open = j;
-                let close = open + b[open..].iter().position(|&c| c == b']')?;
-                // A nested list, an object or a string (which might hide a `]`) stops
-                // the number reader before the cut could matter.
-                let body = &b[open + 1..close];
-                let amounts = plain_numbers(body)?;
-                let mut rest = String::with_capacity(text.len() - body.len());
+                let (amounts, close) = plain_numbers(b, open)?;
+                let mut rest = String::with_capacity(text.len() - (close - open));
                 rest.push_str(&text[..=open]);
                 rest.push_str(&text[close..]);
                 return Some((rest, amounts));
@@ -239,9 +252,11 @@ fn split_amounts(text: &str) -> Option<(String, Vec<Decimal>)> {
 /// exponents, long numbers) goes through the general reader.
 fn amounts_of(raw: &RawValue) -> Result<Vec<Decimal>, LineError> {
     let text = raw.get().as_bytes().trim_ascii();
-    if let Some(body) = text.strip_prefix(b"[").and_then(|t| t.strip_suffix(b"]")) {
-        if let Some(amounts) = plain_numbers(body) {
-            return Ok(amounts);
+    if text.first() == Some(&b'[') {
+        if let Some((amounts, close)) = plain_numbers(text, 0) {
+            if close + 1 == text.len() {
+                return Ok(amounts);
+            }
         }
     }
     let items: Vec<&RawValue> = serde_json::from_str(raw.get()).map_err(|e| {
@@ -482,18 +497,126 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Value, LineE
     Ok(out)
 }
 
-/// Screens every line of a JSONL text (blank lines skipped) in parallel and returns
-/// the output lines in input order.
-pub fn screen_all(text: &str) -> Vec<String> {
-    let lines: Vec<(usize, &str)> = text
-        .lines()
+/// Bytes read at a time by [`screen_stream`]: a few hundred typical lines, enough to
+/// keep every core busy between reads, in a buffer that is reused.
+const CHUNK: usize = 1 << 20;
+
+/// Why [`screen_stream`] stopped.
+#[derive(Debug)]
+pub enum StreamError {
+    /// Reading the input failed.
+    Read(std::io::Error),
+    /// Writing the results failed.
+    Write(std::io::Error),
+}
+
+/// Screens a stream of JSON lines and writes one JSON line per non-blank input line to
+/// `out`, in input order. The input is read a block at a time, and the complete lines
+/// of each block are screened in parallel while the next block is read, so memory
+/// stays bounded however long the input is. A line that is not UTF-8 text gets an
+/// error line of its own (a byte-order mark opening the stream is skipped).
+pub fn screen_stream(
+    input: &mut (impl std::io::Read + Send),
+    out: &mut impl std::io::Write,
+) -> Result<(), StreamError> {
+    /// Appends up to a block of input to `buf` (more when a line is longer than
+    /// that); the number of bytes read, 0 at the end.
+    fn fill(input: impl std::io::Read, buf: &mut Vec<u8>) -> std::io::Result<usize> {
+        let want = CHUNK.max(buf.len());
+        std::io::Read::read_to_end(&mut std::io::Read::take(input, want as u64), buf)
+    }
+    let mut cur: Vec<u8> = Vec::with_capacity(2 * CHUNK);
+    let mut next: Vec<u8> = Vec::with_capacity(2 * CHUNK);
+    let mut eof = fill(&mut *input, &mut cur).map_err(StreamError::Read)? == 0;
+    if cur.starts_with(b"\xEF\xBB\xBF") {
+        cur.drain(..3);
+    }
+    let mut line_no = 0usize;
+    loop {
+        // The complete lines of this block; the rest starts the next one.
+        let complete = if eof {
+            cur.len()
+        } else {
+            cur.iter().rposition(|&b| b == b'\n').map_or(0, |k| k + 1)
+        };
+        next.clear();
+        next.extend_from_slice(&cur[complete..]);
+        let block = &cur[..complete];
+        let (results, read) = rayon::join(
+            || screen_block(block, line_no),
+            || {
+                if eof {
+                    Ok(0)
+                } else {
+                    fill(&mut *input, &mut next)
+                }
+            },
+        );
+        let (lines, outputs) = results;
+        line_no += lines;
+        for o in outputs {
+            out.write_all(o.as_bytes()).map_err(StreamError::Write)?;
+            out.write_all(b"\n").map_err(StreamError::Write)?;
+        }
+        if eof {
+            return Ok(());
+        }
+        eof = read.map_err(StreamError::Read)? == 0;
+        std::mem::swap(&mut cur, &mut next);
+    }
+}
+
+/// Screens the lines of a block whose first line is line `first` (0-based) of the
+/// input: (how many lines it holds, blank ones included; one result per non-blank
+/// line).
+fn screen_block(block: &[u8], first: usize) -> (usize, Vec<String>) {
+    let mut pieces: Vec<&[u8]> = block.split(|&b| b == b'\n').collect();
+    if block.ends_with(b"\n") {
+        // (The empty piece after the last newline is not a line.)
+        pieces.pop();
+    }
+    let lines: Vec<(usize, &[u8])> = pieces
+        .into_iter()
         .enumerate()
-        .filter(|(_, l)| !l.trim().is_empty())
+        .map(|(k, l)| (first + k, l.strip_suffix(b"\r").unwrap_or(l)))
+        .filter(|(_, l)| !l.trim_ascii().is_empty())
         .collect();
-    lines
+    let count = if block.is_empty() {
+        0
+    } else {
+        block.iter().filter(|&&b| b == b'\n').count() + usize::from(!block.ends_with(b"\n"))
+    };
+    let outputs = lines
         .par_iter()
-        .map(|(i, l)| screen_line(l, *i).to_string())
-        .collect()
+        .map(|&(i, l)| match std::str::from_utf8(l) {
+            Ok(text) => screen_line(text, i).to_string(),
+            Err(e) => json!({
+                "id": format!("line {}", i + 1),
+                "error": {
+                    "code": "bad-line",
+                    "message": format!(
+                        "the line is not UTF-8 text (an invalid byte at column {})",
+                        e.valid_up_to() + 1
+                    ),
+                },
+            })
+            .to_string(),
+        })
+        .collect();
+    (count, outputs)
+}
+
+/// Screens every line of a JSONL text (blank lines skipped) and returns the output
+/// lines in input order (see [`screen_stream`]).
+pub fn screen_all(text: &str) -> Vec<String> {
+    let mut out = Vec::new();
+    match screen_stream(&mut text.as_bytes(), &mut out) {
+        Ok(()) => String::from_utf8_lossy(&out)
+            .lines()
+            .map(str::to_string)
+            .collect(),
+        Err(_) => Vec::new(),
+    }
 }
 
 #[cfg(test)]
@@ -501,14 +624,149 @@ mod tests {
     use super::*;
     use rust_decimal_macros::dec;
 
+    /// A reader that hands out at most `step` bytes a call (as pipes do).
+    struct Trickle<'a> {
+        data: &'a [u8],
+        step: usize,
+    }
+
+    impl std::io::Read for Trickle<'_> {
+        fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+            let n = self.step.min(buf.len()).min(self.data.len());
+            buf[..n].copy_from_slice(&self.data[..n]);
+            self.data = &self.data[n..];
+            self.step = self.step % 7919 + 1013;
+            Ok(n)
+        }
+    }
+
+    fn stream(data: &[u8]) -> Vec<String> {
+        let mut out = Vec::new();
+        let mut input = Trickle { data, step: 1 };
+        screen_stream(&mut input, &mut out).unwrap();
+        String::from_utf8(out)
+            .unwrap()
+            .lines()
+            .map(str::to_string)
+            .collect()
+    }
+
+    #[test]
+    fn the_stream_answers_every_line_in_order_across_blocks() {
+        // More than three blocks of lines of many sizes, CRLF and LF endings, blank
+        // lines, one line longer than a block, and a last line without a newline.
+        let mut text = String::new();
+        let mut expected = Vec::new();
+        let mut line = 0;
+        for k in 0..900 {
+            let n = 2 + (k * 37) % 700;
+            let amounts: Vec<String> = (0..n)
+                .map(|j| {
+                    if j == 0 {
+                        "-1000.5".into()
+                    } else {
+                        format!("{}.{:02}", 3 + j % 5, j % 100)
+                    }
+                })
+                .collect();
+            let l = format!(
+                r#"{{"id": "s{k}", "every": "quarter", "amounts": [{}]}}"#,
+                amounts.join(", ")
+            );
+            expected.push(screen_line(&l, line).to_string());
+            text.push_str(&l);
+            text.push_str(if k % 3 == 0 { "\r\n" } else { "\n" });
+            line += 1;
+            if k % 100 == 0 {
+                text.push_str("  \n");
+                line += 1;
+            }
+        }
+        let long = format!(
+            r#"{{"id": "long", "amounts": [-1{}]}}"#,
+            ", 0.01".repeat(300_000)
+        );
+        expected.push(screen_line(&long, line).to_string());
+        text.push_str(&long);
+        text.push('\n');
+        text.push_str(r#"{"id": "last", "amounts": [-100, 110]}"#);
+        expected
+            .push(screen_line(r#"{"id": "last", "amounts": [-100, 110]}"#, line + 1).to_string());
+        assert!(text.len() > 3 * CHUNK);
+        assert_eq!(stream(text.as_bytes()), expected);
+        assert_eq!(screen_all(&text), expected);
+    }
+
+    #[test]
+    fn a_line_that_is_not_utf8_gets_its_own_error() {
+        let mut data = b"\xEF\xBB\xBF{\"id\": \"a\", \"amounts\": [-100, 110]}\n".to_vec();
+        data.extend_from_slice(b"{\"id\": \"b\xff\", \"amounts\": [-1, 2]}\n");
+        data.extend_from_slice(b"{\"id\": \"c\", \"amounts\": [-100, 121]}\n");
+        let out: Vec<Value> = stream(&data)
+            .iter()
+            .map(|l| serde_json::from_str(l).unwrap())
+            .collect();
+        assert_eq!(out.len(), 3);
+        // The byte-order mark before the first line is skipped.
+        assert_eq!(out[0]["id"], "a");
+        assert_eq!(out[0]["count"], 1);
+        assert_eq!(out[1]["id"], "line 2");
+        assert_eq!(out[1]["error"]["code"], "bad-line");
+        assert!(
+            out[1]["error"]["message"]
+                .as_str()
+                .unwrap()
+                .contains("column 10"),
+            "{}",
+            out[1]
+        );
+        assert_eq!(out[2]["id"], "c");
+        assert!(stream(b"").is_empty());
+        assert!(stream(b"\n \n\r\n").is_empty());
+    }
+
+    /// [`plain_numbers`] on `[body]`, which must be read to its end.
+    fn list(body: &[u8]) -> Option<Vec<Decimal>> {
+        let text = [&b"["[..], body, b"]"].concat();
+        let (amounts, close) = plain_numbers(&text, 0)?;
+        assert_eq!(close, text.len() - 1);
+        Some(amounts)
+    }
+
+    #[test]
+    fn the_list_reader_stops_at_its_bracket() {
+        assert_eq!(
+            plain_numbers(b"[1, 2], 3]", 0),
+            Some((vec![dec!(1), dec!(2)], 5))
+        );
+        assert_eq!(plain_numbers(b"x [ ]", 2), Some((vec![], 4)));
+        for bad in [
+            &b"[1, 2"[..],
+            b"[1,",
+            b"[",
+            b"[1 ",
+            b"[-",
+            b"[1.",
+            b"[[1]]",
+            b"[\"1\"]",
+        ] {
+            assert_eq!(
+                plain_numbers(bad, 0),
+                None,
+                "{}",
+                String::from_utf8_lossy(bad)
+            );
+        }
+    }
+
     #[test]
     fn plain_numbers_follow_the_json_grammar() {
         // RFC 8259 section 6: no leading zeros, digits on both sides of a point.
         assert_eq!(
-            plain_numbers(b" -1.50, 0, 2\n,\t0.25 "),
+            list(b" -1.50, 0, 2\n,\t0.25 "),
             Some(vec![dec!(-1.50), dec!(0), dec!(2), dec!(0.25)])
         );
-        assert_eq!(plain_numbers(b""), Some(vec![]));
+        assert_eq!(list(b""), Some(vec![]));
         for bad in [
             &b"01"[..],
             b".5",
@@ -522,24 +780,24 @@ mod tests {
             b"1\x0c",
             b"1234567890123456789",
         ] {
-            assert_eq!(plain_numbers(bad), None, "{}", String::from_utf8_lossy(bad));
+            assert_eq!(list(bad), None, "{}", String::from_utf8_lossy(bad));
         }
         // Beyond the deal-file limits: left to the general reader, which words the error.
-        assert_eq!(plain_numbers(b"1000000000000000.01"), None);
-        assert_eq!(plain_numbers(b"1.0000001"), None);
-        assert_eq!(plain_numbers(b"1000000000000000"), Some(vec![dec!(1e15)]));
+        assert_eq!(list(b"1000000000000000.01"), None);
+        assert_eq!(list(b"1.0000001"), None);
+        assert_eq!(list(b"1000000000000000"), Some(vec![dec!(1e15)]));
         // Mantissas past 2^64 (16 digits before the point, 6 after) are read exactly.
         assert_eq!(
-            plain_numbers(b"-999999999999999.999999, 1000000000000000.000000, 0.000001"),
+            list(b"-999999999999999.999999, 1000000000000000.000000, 0.000001"),
             Some(vec![
                 dec!(-999999999999999.999999),
                 dec!(1000000000000000.000000),
                 dec!(0.000001)
             ])
         );
-        assert_eq!(plain_numbers(b"1000000000000000.000001"), None);
-        assert_eq!(plain_numbers(b"9999999999999999999"), None);
-        assert_eq!(plain_numbers(b"99999999999999999.5"), None);
+        assert_eq!(list(b"1000000000000000.000001"), None);
+        assert_eq!(list(b"9999999999999999999"), None);
+        assert_eq!(list(b"99999999999999999.5"), None);
     }
 
     #[test]

@@ -47,19 +47,22 @@ pub fn run(args: &RatesArgs) -> u8 {
 }
 
 fn run_batch(path: &std::path::Path) -> u8 {
-    let text = match std::fs::read_to_string(path) {
-        Ok(t) => t,
+    let mut input = match std::fs::File::open(path) {
+        Ok(f) => f,
         Err(e) => {
             eprintln!("error[read-failed]: cannot read {}: {e}", path.display());
             return EXIT_INVALID;
         }
     };
-    let lines = crate::screen::screen_all(&text);
     let mut out = std::io::BufWriter::new(std::io::stdout().lock());
-    for l in lines {
-        if writeln!(out, "{l}").is_err() {
-            return EXIT_INTERNAL;
+    match crate::screen::screen_stream(&mut input, &mut out) {
+        Ok(()) => {}
+        Err(crate::screen::StreamError::Read(e)) => {
+            let _ = out.flush();
+            eprintln!("error[read-failed]: cannot read {}: {e}", path.display());
+            return EXIT_INVALID;
         }
+        Err(crate::screen::StreamError::Write(_)) => return EXIT_INTERNAL,
     }
     if out.flush().is_err() {
         return EXIT_INTERNAL;
