@@ -537,7 +537,7 @@ pub fn screen_stream(
         let complete = if eof {
             cur.len()
         } else {
-            cur.iter().rposition(|&b| b == b'\n').map_or(0, |k| k + 1)
+            memchr::memrchr(b'\n', &cur).map_or(0, |k| k + 1)
         };
         next.clear();
         next.extend_from_slice(&cur[complete..]);
@@ -570,22 +570,22 @@ pub fn screen_stream(
 /// input: (how many lines it holds, blank ones included; one result per non-blank
 /// line).
 fn screen_block(block: &[u8], first: usize) -> (usize, Vec<String>) {
-    let mut pieces: Vec<&[u8]> = block.split(|&b| b == b'\n').collect();
-    if block.ends_with(b"\n") {
-        // (The empty piece after the last newline is not a line.)
-        pieces.pop();
+    // Where each line ends (a last line may lack its newline).
+    let mut ends: Vec<usize> = memchr::memchr_iter(b'\n', block).collect();
+    if !block.is_empty() && !block.ends_with(b"\n") {
+        ends.push(block.len());
     }
-    let lines: Vec<(usize, &[u8])> = pieces
-        .into_iter()
-        .enumerate()
-        .map(|(k, l)| (first + k, l.strip_suffix(b"\r").unwrap_or(l)))
-        .filter(|(_, l)| !l.trim_ascii().is_empty())
-        .collect();
-    let count = if block.is_empty() {
-        0
-    } else {
-        block.iter().filter(|&&b| b == b'\n').count() + usize::from(!block.ends_with(b"\n"))
-    };
+    let mut lines: Vec<(usize, &[u8])> = Vec::with_capacity(ends.len());
+    let mut start = 0;
+    for (k, &end) in ends.iter().enumerate() {
+        let line = &block[start..end];
+        let line = line.strip_suffix(b"\r").unwrap_or(line);
+        if !line.trim_ascii().is_empty() {
+            lines.push((first + k, line));
+        }
+        start = end + 1;
+    }
+    let count = ends.len();
     let outputs = lines
         .par_iter()
         .map(|&(i, l)| match std::str::from_utf8(l) {

@@ -6,7 +6,9 @@
 //! (common practice; the identity is elementary algebra). Quadratic factors without
 //! real roots hide extra sign changes.
 
+use candor::engine::irr::irr_report;
 use candor::engine::roots::{find_roots, RootSet};
+use candor::engine::Flows;
 use proptest::prelude::*;
 use rust_decimal::prelude::*;
 use rust_decimal_macros::dec;
@@ -232,6 +234,28 @@ proptest! {
             prop_assert_eq!(other.certified, base.certified);
             for (x, y) in other.roots.iter().zip(&base.roots) {
                 prop_assert!((x.y - y.y).abs() <= 1e-9 * y.y.abs().max(1.0));
+            }
+        }
+    }
+
+    /// Batch screening classifies each root's balance path in binary floats without
+    /// building it; the memo builds the path in exact decimals. Both must read the
+    /// same kind (pure investment, mixed, pure borrowing) at every root, on random
+    /// flows and on flows built from chosen roots (whose balances can be exactly 0).
+    #[test]
+    fn balance_kinds_agree_with_the_exact_path(
+        amounts in arb_flows(),
+        raw in prop::collection::btree_set(50i64..400, 1..5),
+        per_year in prop::sample::select(vec![1u32, 4, 12]),
+    ) {
+        let chosen = poly(&raw.iter().map(|x| Decimal::new(*x, 2)).collect::<Vec<_>>(), &[]);
+        for flows in [amounts, chosen] {
+            let flows = Flows::periodic(flows, per_year).normalised();
+            let quick = irr_report(&flows, None, false);
+            let exact = irr_report(&flows, None, true);
+            prop_assert_eq!(quick.roots.len(), exact.roots.len());
+            for (q, e) in quick.roots.iter().zip(&exact.roots) {
+                prop_assert_eq!(q.balance_kind, e.balance_kind, "{:?} at {:?}", flows.points.len(), q.annual_rate);
             }
         }
     }

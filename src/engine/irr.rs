@@ -198,10 +198,12 @@ fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) ->
         }
         cached.1
     };
-    let mut bals = vec![0.0f64; n];
+    // The balances before the last flow, classified as they are made (the one after
+    // it is zero at a root): tiny remainders of cancellation count as zero.
+    let (mut positive, mut negative) = (false, false);
     if log_growth.is_nan() || log_growth <= 0.0 {
         let mut bal = 0.0f64;
-        for k in 0..n {
+        for k in 0..n - 1 {
             let grown = if k > 0 && bal != 0.0 {
                 bal * factor(pts[k].0 - pts[k - 1].0, 1.0)
             } else {
@@ -213,22 +215,25 @@ fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) ->
             {
                 bal = 0.0;
             }
-            bals[k] = bal;
+            positive |= bal > tol;
+            negative |= bal < -tol;
         }
     } else {
+        // Backwards from the zero balance after the last flow: each step shrinks, so
+        // rounding errors do not grow.
+        let mut bal = 0.0f64;
         for k in (1..n).rev() {
             let shrink = factor(pts[k].0 - pts[k - 1].0, -1.0);
-            let shrunk = (bals[k] - pts[k].1) * shrink;
-            bals[k - 1] = if shrunk.abs() <= 1e-9 * (bals[k].abs() + pts[k].1.abs()) * shrink {
+            let shrunk = (bal - pts[k].1) * shrink;
+            bal = if shrunk.abs() <= 1e-9 * (bal.abs() + pts[k].1.abs()) * shrink {
                 0.0
             } else {
                 shrunk
             };
+            positive |= bal > tol;
+            negative |= bal < -tol;
         }
     }
-    let body = &bals[..n - 1];
-    let positive = body.iter().any(|&b| b > tol);
-    let negative = body.iter().any(|&b| b < -tol);
     match (positive, negative) {
         (false, _) => BalanceKind::PureInvestment,
         (true, false) => BalanceKind::PureBorrowing,

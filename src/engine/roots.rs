@@ -992,36 +992,47 @@ fn sign_bounds_small(amounts: &[Decimal]) -> Option<(u32, Option<u32>, Option<u3
         return None;
     }
     let mut ints = Vec::with_capacity(amounts.len());
-    let (mut v, mut f) = (SignCount::default(), SignCount::default());
-    let mut total = 0i64;
     for a in amounts {
-        let bytes = a.serialize();
-        let word =
-            |i: usize| u32::from_le_bytes([bytes[i], bytes[i + 1], bytes[i + 2], bytes[i + 3]]);
-        let magnitude = (u64::from(word(8)) << 32) | u64::from(word(4));
-        if word(12) != 0 || magnitude >= 1 << 40 || a.scale() != scale {
+        let m = a.mantissa();
+        if m.unsigned_abs() >= 1 << 40 || a.scale() != scale {
             return None;
         }
-        let m = if a.is_sign_negative() {
-            -(magnitude as i64)
+        ints.push(m as i64);
+    }
+    // Sign changes of a sequence without zeros: neighbours whose signs differ. Written
+    // so that it needs no branches (the compiler vectorises it).
+    fn changes(v: &[i64]) -> u32 {
+        v.windows(2).map(|w| u32::from((w[0] ^ w[1]) < 0)).sum()
+    }
+    fn counted(v: &[i64]) -> u32 {
+        if v.contains(&0) {
+            let mut c = SignCount::default();
+            v.iter().for_each(|&x| c.push(x));
+            c.changes
         } else {
-            magnitude as i64
-        };
-        ints.push(m);
-        v.push(m);
-        total += m;
-        f.push(total);
+            changes(v)
+        }
+    }
+    let descartes = counted(&ints);
+    let mut sums = ints;
+    let mut total = 0i64;
+    for x in sums.iter_mut() {
+        total += *x;
+        *x = total;
     }
     if total == 0 {
-        return Some((v.changes, None, None));
+        return Some((descartes, None, None));
     }
-    let mut b = SignCount::default();
-    let mut before = 0i64;
-    for m in ints {
-        b.push(total - before);
-        before += m;
+    let forward = counted(&sums);
+    // The backward sums are the total, then the total less each forward sum but the
+    // last (which is the total itself).
+    for x in sums.iter_mut() {
+        *x = total - *x;
     }
-    Some((v.changes, Some(f.changes), Some(b.changes)))
+    sums.pop();
+    sums.insert(0, total);
+    let backward = counted(&sums);
+    Some((descartes, Some(forward), Some(backward)))
 }
 
 /// [`sign_bounds_int`] when every amount has the same scale: the mantissas are then
