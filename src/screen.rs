@@ -6,7 +6,7 @@ use crate::model::values::{parse_decimal, parse_rate, MAX_AMOUNT, MAX_SCALE};
 use crate::model::{DayCount, Frequency};
 use rayon::prelude::*;
 use rust_decimal::prelude::*;
-use serde::Deserialize;
+use serde::{Deserialize, Serialize};
 use serde_json::value::RawValue;
 use serde_json::{json, Value};
 
@@ -387,6 +387,22 @@ fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, Lin
 
 /// Screens one line; always returns one JSON object.
 pub fn screen_line(text: &str, index: usize) -> Value {
+    match screened(text, index) {
+        Ok(s) => serde_json::to_value(&s).unwrap_or(Value::Null),
+        Err(error) => error,
+    }
+}
+
+/// Screens one line: the JSON object of [`screen_line`], as its compact text.
+pub fn screen_text(text: &str, index: usize) -> String {
+    match screened(text, index) {
+        Ok(s) => serde_json::to_string(&s).unwrap_or_default(),
+        Err(error) => error.to_string(),
+    }
+}
+
+/// One line's results, or the JSON object of its error.
+fn screened(text: &str, index: usize) -> Result<Screened, Value> {
     // Most lines are a short object around one long list of plain numbers: read that
     // list directly and leave the parser only the rest.
     let (rest, mut amounts) = match split_amounts(text) {
@@ -409,7 +425,7 @@ pub fn screen_line(text: &str, index: usize) -> Value {
                 .ok()
                 .and_then(|v| v.get("id").cloned())
                 .unwrap_or(json!(format!("line {}", index + 1)));
-            return json!({"id": id, "error": {"code": "bad-line", "message": e.to_string()}});
+            return Err(json!({"id": id, "error": {"code": "bad-line", "message": e.to_string()}}));
         }
     };
     let id: Value = line
@@ -417,22 +433,15 @@ pub fn screen_line(text: &str, index: usize) -> Value {
         .and_then(|r| serde_json::from_str(r.get()).ok())
         .unwrap_or(json!(format!("line {}", index + 1)));
     match screen(&line, amounts) {
-        Ok(mut v) => {
-            if let Value::Object(map) = &mut v {
-                map.insert("id".into(), id);
-                // Keep `id` first for readers of the raw lines.
-                let mut ordered = serde_json::Map::new();
-                ordered.insert("id".into(), map.remove("id").unwrap_or(Value::Null));
-                ordered.extend(std::mem::take(map));
-                return Value::Object(ordered);
-            }
-            v
+        Ok(mut screened) => {
+            screened.id = id;
+            Ok(screened)
         }
-        Err((code, message)) => json!({"id": id, "error": {"code": code, "message": message}}),
+        Err((code, message)) => Err(json!({"id": id, "error": {"code": code, "message": message}})),
     }
 }
 
-fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Value, LineError> {
+fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, LineError> {
     let flows = flows_of(line, amounts)?.into_normalised();
     let hurdle = line
         .hurdle_rate
@@ -455,46 +464,77 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Value, LineE
         return Err(("all-zero-flows", "every flow is zero".into()));
     }
     let report = engine::irr::irr_report(&flows, hurdle.and_then(|h| h.to_f64()), false);
-    let roots: Vec<Value> = report
+    let roots = report
         .roots
         .iter()
-        .map(|r| {
-            let mut o = json!({
-                "annual_rate": r.annual_rate,
-                "periodic_rate": r.periodic_rate,
-                "log10_annual_growth": r.log10_annual_growth,
-                "multiplicity": r.multiplicity,
-                "interval": r.interval,
-                "log10_interval": r.log10_interval,
-                "balance_kind": r.balance_kind,
-            });
-            if hurdle.is_some() {
-                o["stance"] = json!(r.stance);
-            }
-            o
+        .map(|r| ScreenedRoot {
+            annual_rate: r.annual_rate,
+            periodic_rate: r.periodic_rate,
+            log10_annual_growth: r.log10_annual_growth,
+            multiplicity: r.multiplicity,
+            interval: r.interval,
+            log10_interval: r.log10_interval,
+            balance_kind: r.balance_kind,
+            stance: hurdle.map(|_| r.stance),
         })
         .collect();
-    let mut out = json!({
-        "count": report.count,
-        "upper_bound": report.upper_bound,
-        "certified": report.certified,
-        "roots": roots,
-    });
-    if !report.unresolved.is_empty() {
-        out["unresolved"] = json!(report.unresolved);
-    }
-    if let Some(h) = hurdle {
-        out["npv_at_hurdle"] = json!(engine::figures::npv_exact(&flows, h).map(|v| v.to_string()));
-        let (f, g) = (
-            finance.and_then(|x| x.to_f64()),
-            reinvest.and_then(|x| x.to_f64()),
-        );
-        out["mirr"] = json!(match (f, g) {
-            (Some(f), Some(g)) => engine::figures::mirr(&flows, f, g),
-            _ => None,
-        });
-    }
-    Ok(out)
+    let (npv_at_hurdle, mirr) = match hurdle {
+        Some(h) => {
+            let npv = engine::figures::npv_exact(&flows, h).map(|v| v.to_string());
+            let mirr = match (
+                finance.and_then(|x| x.to_f64()),
+                reinvest.and_then(|x| x.to_f64()),
+            ) {
+                (Some(f), Some(g)) => engine::figures::mirr(&flows, f, g),
+                _ => None,
+            };
+            (Some(npv), Some(mirr))
+        }
+        None => (None, None),
+    };
+    Ok(Screened {
+        id: Value::Null,
+        count: report.count,
+        upper_bound: report.upper_bound,
+        certified: report.certified,
+        roots,
+        unresolved: report.unresolved,
+        npv_at_hurdle,
+        mirr,
+    })
+}
+
+/// One output line of batch screening (the keys in this order; `id` first).
+#[derive(Serialize)]
+struct Screened {
+    id: Value,
+    count: u32,
+    upper_bound: u32,
+    certified: bool,
+    roots: Vec<ScreenedRoot>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    unresolved: Vec<[f64; 2]>,
+    /// Only with a hurdle rate: the NPV as a decimal string, or null.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    npv_at_hurdle: Option<Option<String>>,
+    /// Only with a hurdle rate (finance and reinvestment rates default to it).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    mirr: Option<Option<f64>>,
+}
+
+/// One root in a line of batch screening.
+#[derive(Serialize)]
+struct ScreenedRoot {
+    annual_rate: Option<f64>,
+    periodic_rate: Option<f64>,
+    log10_annual_growth: f64,
+    multiplicity: u32,
+    interval: Option<[f64; 2]>,
+    log10_interval: [f64; 2],
+    balance_kind: engine::BalanceKind,
+    /// Only with a hurdle rate.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    stance: Option<engine::Stance>,
 }
 
 /// Bytes read at a time by [`screen_stream`]: a few hundred typical lines, enough to
@@ -589,7 +629,7 @@ fn screen_block(block: &[u8], first: usize) -> (usize, Vec<String>) {
     let outputs = lines
         .par_iter()
         .map(|&(i, l)| match std::str::from_utf8(l) {
-            Ok(text) => screen_line(text, i).to_string(),
+            Ok(text) => screen_text(text, i),
             Err(e) => json!({
                 "id": format!("line {}", i + 1),
                 "error": {
@@ -673,7 +713,7 @@ mod tests {
                 r#"{{"id": "s{k}", "every": "quarter", "amounts": [{}]}}"#,
                 amounts.join(", ")
             );
-            expected.push(screen_line(&l, line).to_string());
+            expected.push(screen_text(&l, line));
             text.push_str(&l);
             text.push_str(if k % 3 == 0 { "\r\n" } else { "\n" });
             line += 1;
@@ -686,12 +726,14 @@ mod tests {
             r#"{{"id": "long", "amounts": [-1{}]}}"#,
             ", 0.01".repeat(300_000)
         );
-        expected.push(screen_line(&long, line).to_string());
+        expected.push(screen_text(&long, line));
         text.push_str(&long);
         text.push('\n');
         text.push_str(r#"{"id": "last", "amounts": [-100, 110]}"#);
-        expected
-            .push(screen_line(r#"{"id": "last", "amounts": [-100, 110]}"#, line + 1).to_string());
+        expected.push(screen_text(
+            r#"{"id": "last", "amounts": [-100, 110]}"#,
+            line + 1,
+        ));
         assert!(text.len() > 3 * CHUNK);
         assert_eq!(stream(text.as_bytes()), expected);
         assert_eq!(screen_all(&text), expected);
@@ -821,7 +863,7 @@ mod tests {
                         .and_then(|r| serde_json::from_str(r.get()).ok())
                         .unwrap_or(json!("line 1"));
                     match screen(&line, None) {
-                        Ok(v) => v.get("roots").cloned().unwrap_or(Value::Null),
+                        Ok(v) => serde_json::to_value(&v.roots).unwrap_or(Value::Null),
                         Err((code, _)) => json!({"id": id, "code": code}),
                     }
                 }

@@ -95,11 +95,10 @@ struct Series<'a> {
     c: Vec<f64>,
     /// Exponents `n_k` as f64 (exact: integers below 2^53).
     n: Vec<f64>,
-    /// Exponents as integers.
-    n_int: Vec<u64>,
     /// The exact coefficients (turned into integers only for exact checks).
     amounts: std::borrow::Cow<'a, [Decimal]>,
-    /// Index into `gap_vals` of the gap before term k (k >= 1).
+    /// Index into `gap_vals` of the gap before term k (k >= 1); empty when every gap
+    /// is the same.
     gap_idx: Vec<u32>,
     /// The distinct gaps between consecutive exponents.
     gap_vals: Vec<f64>,
@@ -228,9 +227,19 @@ impl<'a> Series<'a> {
     ) -> Series<'a> {
         let n: Vec<f64> = exps.iter().map(|&e| e as f64).collect();
         let mut gap_vals: Vec<f64> = Vec::new();
-        let mut gap_idx = vec![0u32; exps.len()];
+        let mut gap_idx: Vec<u32> = Vec::new();
+        // Evenly spaced exponents need no index (see `Series::gap_index`).
+        let even = exps.len() >= 2 && {
+            let g = exps[1] - exps[0];
+            exps.windows(2).all(|w| w[1] - w[0] == g)
+        };
+        if even {
+            gap_vals.push((exps[1] - exps[0]) as f64);
+        } else {
+            gap_idx = vec![0u32; exps.len()];
+        }
         let mut last_gap = (u64::MAX, 0u32);
-        for k in 1..exps.len() {
+        for k in (1..exps.len()).filter(|_| !even) {
             let g = exps[k] - exps[k - 1];
             let idx = if g == last_gap.0 {
                 last_gap.1
@@ -258,7 +267,6 @@ impl<'a> Series<'a> {
             reversed,
             c,
             n,
-            n_int: exps.to_vec(),
             amounts,
             gap_idx,
             gap_vals,
@@ -269,8 +277,11 @@ impl<'a> Series<'a> {
 
     /// The coefficients discounted to `a >= 0`, `c_k exp(-a n_k)`, and the relative
     /// error allowance of each (the error model of [`Series::eval`]: a fixed part plus
-    /// `per_unit` a unit of exponent).
-    fn discounted(&self, a: f64) -> (Vec<f64>, f64, f64) {
+    /// `per_unit` a unit of exponent). With `reverse`, those of the time-reversed
+    /// series instead (`c_k exp(-a (n_K - n_k))`, last term first), worked out from
+    /// this one's coefficients and gaps: the same numbers the reversed series itself
+    /// would give, in the same order of operations.
+    fn discounted(&self, a: f64, reverse: bool) -> (Vec<f64>, f64, f64) {
         let fixed = 2.0 * EPS * (ORDERS + 6) as f64;
         let per_unit = 4.0 * EPS + 2.0 * EPS * a.abs();
         let mut z = [0.0f64; 64];
@@ -285,10 +296,17 @@ impl<'a> Series<'a> {
             &zs
         };
         let mut w = 1.0f64;
+        let last = self.c.len().saturating_sub(1);
         let terms = (0..self.c.len())
-            .map(|k| {
-                if k > 0 {
-                    w *= factors[self.gap_idx[k] as usize];
+            .map(|t| {
+                // Term k, and the gap between it and the one before it in this order.
+                let (k, gap) = if reverse {
+                    (last - t, last + 1 - t)
+                } else {
+                    (t, t)
+                };
+                if t > 0 {
+                    w *= factors[self.gap_index(gap)];
                 }
                 self.c[k] * w
             })
@@ -302,7 +320,7 @@ impl<'a> Series<'a> {
     /// `a = 0` this is Norstrom's count. `None` when a partial sum is too close to
     /// zero for its sign to be certain (the last one is f(a) itself).
     fn tail_bound(&self, a: f64) -> Option<u32> {
-        let (terms, fixed, per_unit) = self.discounted(a);
+        let (terms, fixed, per_unit) = self.discounted(a, false);
         self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()))
     }
 
@@ -310,9 +328,10 @@ impl<'a> Series<'a> {
     /// partial sums of the discounted coefficients taken forwards and backwards (the
     /// roots below `a` are those of the same sum in `1/x`, whose exponents run the other
     /// way). Every partial sum must have a certain sign, f(a) included, so `a` is not a
-    /// root; otherwise `None`.
-    fn bounds_at(&self, a: f64) -> Option<(u32, u32)> {
-        let (terms, fixed, per_unit) = self.discounted(a);
+    /// root; otherwise `None`. With `reverse`, the bounds of the time-reversed series
+    /// at `a` (see [`Series::discounted`]).
+    fn bounds_at(&self, a: f64, reverse: bool) -> Option<(u32, u32)> {
+        let (terms, fixed, per_unit) = self.discounted(a, reverse);
         let above = self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()))?;
         let below =
             self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()).rev())?;
@@ -358,6 +377,16 @@ impl<'a> Series<'a> {
         }
     }
 
+    /// Index into `gap_vals` of the gap before term k >= 1 (0 when evenly spaced).
+    #[inline(always)]
+    fn gap_index(&self, k: usize) -> usize {
+        if self.gap_idx.is_empty() {
+            0
+        } else {
+            self.gap_idx[k] as usize
+        }
+    }
+
     fn last_n(&self) -> f64 {
         *self.n.last().unwrap_or(&0.0)
     }
@@ -373,7 +402,7 @@ impl<'a> Series<'a> {
         let mut w = 1.0f64;
         for k in 0..c.len() {
             if k > 0 {
-                w *= factors[self.gap_idx[k] as usize];
+                w *= factors[self.gap_index(k)];
             }
             accumulate(&mut s, &mut t, c[k] * w, n[k]);
         }
@@ -1132,17 +1161,21 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         .map(|a| super::flows::amount_f64(*a))
         .collect();
     let last = *exps.last().unwrap_or(&0);
-    let rev_c: Vec<f64> = c.iter().rev().copied().collect();
-    let rev_exps: Vec<u64> = exps.iter().rev().map(|&e| last - e).collect();
+    // The reversed series is only needed when the Norstrom count below 0% does not
+    // already say zero; otherwise an empty one stands in (never evaluated).
+    let reversed = if below_zero == Some(0) {
+        Series::new(std::borrow::Cow::Borrowed(&[]), Vec::new(), &[], true)
+    } else {
+        let rev_c: Vec<f64> = c.iter().rev().copied().collect();
+        let rev_exps: Vec<u64> = exps.iter().rev().map(|&e| last - e).collect();
+        Series::new(
+            std::borrow::Cow::Owned(amounts.iter().rev().copied().collect()),
+            rev_c,
+            &rev_exps,
+            true,
+        )
+    };
     let series = Series::new(std::borrow::Cow::Borrowed(amounts), c, &exps, false);
-    let reversed = Series::new(
-        std::borrow::Cow::Owned(amounts.iter().rev().copied().collect()),
-        rev_c,
-        &rev_exps,
-        true,
-    );
-    // (Both series are cheap to build; the reversed one is only searched when the
-    // Norstrom count below 0% does not already say zero.)
     let mut solvers = [
         Solver {
             s: &series,
@@ -1168,7 +1201,11 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         ((rest / c0).ln().max(0.0) / n1 + 1.0) * 1.01 + 1.0 / n1
     };
     let y_hi = bound(&series);
-    let u_hi = bound(&reversed);
+    let u_hi = if reversed.c.is_empty() {
+        0.0
+    } else {
+        bound(&reversed)
+    };
 
     // Norstrom's counts exist exactly when the total is not zero (or too large to sum).
     let zero_is_root = above_zero.is_none()
@@ -1490,13 +1527,14 @@ fn laguerre_point(solvers: &[Solver<'_>; 2], found: &[FoundRoot]) -> Option<f64>
             continue;
         }
         // Bounds at p in y: on the series for p > 0, on the reversed one (at u = -p,
-        // where above and below swap) for p < 0.
+        // where above and below swap) for p < 0, worked out from the series itself
+        // (the reversed one is not built when no root can lie below 0%).
         let bounds = if p > 0.0 {
-            solvers[0].s.bounds_at(p)
+            solvers[0].s.bounds_at(p, false)
         } else {
-            solvers[1]
+            solvers[0]
                 .s
-                .bounds_at(-p)
+                .bounds_at(-p, true)
                 .map(|(above, below)| (below, above))
         };
         if let Some((above, below)) = bounds {
@@ -1988,7 +2026,7 @@ fn around(y0: f64) -> (f64, f64) {
 /// Looks for a short decimal rate per step near `y` (within [lo, hi]) at which f and
 /// its first derivatives vanish exactly. Returns (rate, multiplicity, y of the rate).
 fn exact_root_near(s: &Series, y: f64, lo: f64, hi: f64) -> Option<(Decimal, u32, f64)> {
-    if s.n_int.last().copied().unwrap_or(0) > EXACT_DEGREE_LIMIT {
+    if s.last_n() as u64 > EXACT_DEGREE_LIMIT {
         return None;
     }
     // The decimal candidates are rates of the original series; the reversed series'
@@ -2030,7 +2068,7 @@ fn exact_root_near(s: &Series, y: f64, lo: f64, hi: f64) -> Option<(Decimal, u32
 /// If x = p/q (as 1 + rate per step) is a root of f, its multiplicity (1..=ORDERS-1),
 /// proven with exact integer arithmetic; None when it is not a root.
 fn exact_multiplicity(s: &Series, p: &BigInt, q: &BigInt) -> Option<u32> {
-    let big_n = *s.n_int.last()?;
+    let big_n = *s.n.last()? as u64;
     if big_n > EXACT_DEGREE_LIMIT {
         return None;
     }
@@ -2046,7 +2084,7 @@ fn exact_multiplicity(s: &Series, p: &BigInt, q: &BigInt) -> Option<u32> {
     });
     let mut sums: Vec<BigInt> = vec![BigInt::zero(); ORDERS];
     for (k, ck) in exact.enumerate() {
-        let nk = s.n_int[k];
+        let nk = s.n[k] as u64;
         let term = ck
             * num_traits::pow(q.clone(), nk as usize)
             * num_traits::pow(p.clone(), (big_n - nk) as usize);
@@ -2251,6 +2289,31 @@ mod tests {
                 amounts[0] = -rest;
             }
             proptest::prop_assert_eq!(sign_bounds(&amounts), sign_bounds_decimal(&amounts));
+        }
+    }
+
+    proptest::proptest! {
+        /// Laguerre's bounds of the time-reversed series, worked out from the series
+        /// itself, are exactly those the reversed series gives (uneven gaps included).
+        #[test]
+        fn reversed_bounds_from_the_series_itself(
+            raw in proptest::collection::vec((-1000i64..1000, 1u64..4), 2..30),
+            a in 0.0f64..2.0,
+        ) {
+            let amounts: Vec<Decimal> = raw.iter().map(|&(m, _)| Decimal::new(m, 1)).collect();
+            let mut exps = vec![0u64];
+            for &(_, gap) in &raw[1..] {
+                exps.push(exps.last().unwrap() + gap);
+            }
+            let c: Vec<f64> = amounts.iter().map(|a| super::super::flows::amount_f64(*a)).collect();
+            let last = *exps.last().unwrap();
+            let rev_c: Vec<f64> = c.iter().rev().copied().collect();
+            let rev_exps: Vec<u64> = exps.iter().rev().map(|&e| last - e).collect();
+            let rev_amounts: Vec<Decimal> = amounts.iter().rev().copied().collect();
+            let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+            let r = Series::new(std::borrow::Cow::Borrowed(&rev_amounts[..]), rev_c, &rev_exps, true);
+            proptest::prop_assert_eq!(s.bounds_at(a, true), r.bounds_at(a, false));
+            proptest::prop_assert_eq!(s.discounted(a, true).0, r.discounted(a, false).0);
         }
     }
 
