@@ -135,12 +135,20 @@ fn plain_numbers(b: &[u8], open: usize) -> Option<(Vec<Decimal>, usize)> {
         let (mut frac, mut scale) = (0u64, 0usize);
         if i < len && b[i] == b'.' {
             i += 1;
-            let (f, n_frac) = digit_run(b, i);
-            if n_frac == 0 || n_frac > MAX_SCALE as usize {
-                return None;
+            // Two places, the usual case for money: read them directly.
+            let digit = |k: usize| b.get(k).map_or(u8::MAX, |c| c.wrapping_sub(b'0'));
+            let (d0, d1) = (digit(i), digit(i + 1));
+            if d0 < 10 && d1 < 10 && digit(i + 2) >= 10 {
+                (frac, scale) = (u64::from(d0 * 10 + d1), 2);
+                i += 2;
+            } else {
+                let (f, n_frac) = digit_run(b, i);
+                if n_frac == 0 || n_frac > MAX_SCALE as usize {
+                    return None;
+                }
+                (frac, scale) = (f, n_frac);
+                i += n_frac;
             }
-            (frac, scale) = (f, n_frac);
-            i += n_frac;
         }
         if n_int <= 12 {
             // Below 10^12 before the point and at most 6 places: under 10^18, in 64

@@ -183,6 +183,79 @@ fn stance_and_decision(
 /// direction as [`figures::balances_at_root`] does (backwards above 0%, forwards at or
 /// below it). Times are integer clock offsets, so the growth factor of each distinct
 /// gap is computed once.
+/// [`balance_kind_f64`] above 0% for evenly spaced flows (`shrink` the factor of one
+/// step back), four steps at a time: the balance four steps back is the current one
+/// (less the flow) shrunk four times, less the other three flows shrunk, and only that
+/// short chain waits on the one before, so the steps overlap. `None` (use the step by
+/// step reading, which clears the remainders of cancellation) when the spacing is not
+/// even, the series is short, or a balance comes close to cancelling out.
+fn balance_kind_even(pts: &[(i64, f64)], tol: f64, shrink: f64) -> Option<BalanceKind> {
+    let n = pts.len();
+    if n < 8 {
+        return None;
+    }
+    let gap = pts[1].0 - pts[0].0;
+    let even = if gap == 1 {
+        // (Offsets strictly increase: steps of 1 all the way exactly when they span
+        // n - 1.)
+        pts[n - 1].0 - pts[0].0 == n as i64 - 1
+    } else {
+        pts.windows(2).all(|w| w[1].0 - w[0].0 == gap)
+    };
+    if !even {
+        return None;
+    }
+    let c = |k: usize| pts[k].1;
+    let (s1, s2) = (shrink, shrink * shrink);
+    let (s3, s4) = (s2 * shrink, s2 * s2);
+    let (mut positive, mut negative) = (false, false);
+    // Flags a balance, or gives up when it is the near-cancellation of larger parts.
+    let mut note = |b: f64, size: f64| -> Option<()> {
+        if b.abs() <= 1e-7 * size {
+            return None;
+        }
+        positive |= b > tol;
+        negative |= b < -tol;
+        Some(())
+    };
+    // Balance after flow k (k from n - 1 down); the one after the last flow is zero.
+    let mut bal = 0.0f64;
+    let mut k = n - 1;
+    while k >= 4 {
+        let a = bal - c(k);
+        // The three flows before flow k, shrunk to the balances after k - 2, k - 3
+        // and k - 4.
+        let x1 = c(k - 1) * s1;
+        let x2 = c(k - 1) * s2 + c(k - 2) * s1;
+        let x3 = c(k - 1) * s3 + c(k - 2) * s2 + c(k - 3) * s1;
+        let size = bal.abs() + c(k).abs();
+        note(a * s1, size * s1)?;
+        note(a * s2 - x1, size * s2 + x1.abs())?;
+        note(
+            a * s3 - x2,
+            size * s3 + c(k - 1).abs() * s2 + c(k - 2).abs() * s1,
+        )?;
+        let b4 = a * s4 - x3;
+        note(
+            b4,
+            size * s4 + c(k - 1).abs() * s3 + c(k - 2).abs() * s2 + c(k - 3).abs() * s1,
+        )?;
+        bal = b4;
+        k -= 4;
+    }
+    while k >= 1 {
+        let size = bal.abs() + c(k).abs();
+        bal = (bal - c(k)) * s1;
+        note(bal, size * s1)?;
+        k -= 1;
+    }
+    Some(match (positive, negative) {
+        (false, _) => BalanceKind::PureInvestment,
+        (true, false) => BalanceKind::PureBorrowing,
+        (true, true) => BalanceKind::Mixed,
+    })
+}
+
 fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) -> BalanceKind {
     let n = pts.len();
     if n == 0 {
@@ -219,6 +292,9 @@ fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) ->
             negative |= bal < -tol;
         }
     } else {
+        if let Some(kind) = balance_kind_even(pts, tol, factor(pts[1].0 - pts[0].0, -1.0)) {
+            return kind;
+        }
         // Backwards from the zero balance after the last flow: each step shrinks, so
         // rounding errors do not grow.
         let mut bal = 0.0f64;

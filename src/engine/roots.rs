@@ -321,7 +321,7 @@ impl<'a> Series<'a> {
     /// zero for its sign to be certain (the last one is f(a) itself).
     fn tail_bound(&self, a: f64) -> Option<u32> {
         let (terms, fixed, per_unit) = self.discounted(a, false);
-        self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()))
+        self.partial_sum_changes(&terms, fixed, per_unit, false)
     }
 
     /// Laguerre's bounds at `a >= 0`: (roots above `a`, roots below `a`), from the
@@ -332,38 +332,40 @@ impl<'a> Series<'a> {
     /// at `a` (see [`Series::discounted`]).
     fn bounds_at(&self, a: f64, reverse: bool) -> Option<(u32, u32)> {
         let (terms, fixed, per_unit) = self.discounted(a, reverse);
-        let above = self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()))?;
-        let below =
-            self.partial_sum_changes(&terms, fixed, per_unit, &mut (0..terms.len()).rev())?;
+        let above = self.partial_sum_changes(&terms, fixed, per_unit, false)?;
+        let below = self.partial_sum_changes(&terms, fixed, per_unit, true)?;
         Some((above, below))
     }
 
-    /// Sign changes of the partial sums of `terms` taken in `order`, each sum's sign
-    /// certain under the error model of [`Series::discounted`]; `None` otherwise.
+    /// Sign changes of the partial sums of `terms` taken forwards (or `backwards`), each
+    /// sum's sign certain under the error model of [`Series::discounted`]; `None`
+    /// otherwise.
     fn partial_sum_changes(
         &self,
         terms: &[f64],
         fixed: f64,
         per_unit: f64,
-        order: &mut dyn Iterator<Item = usize>,
+        backwards: bool,
     ) -> Option<u32> {
         let floor = 1e-290 * self.abs_sum;
+        let own = fixed + per_unit * self.last_n();
         let (mut sum, mut size) = (0.0f64, 0.0f64);
         let mut changes = SignCount::default();
-        for (j, k) in order.enumerate() {
-            let t = terms[k];
+        let mut step = |j: usize, t: f64| {
             sum += t;
             size += t.abs();
             // Each term's own error (up to the largest exponent's allowance) and two
             // roundings' worth of the running size per addition.
-            let err =
-                (fixed + per_unit * self.last_n() + (j as f64 + 2.0) * 2.0 * EPS) * size + floor;
-            if sum.abs() <= err {
-                return None;
-            }
+            let err = (own + (j as f64 + 2.0) * 2.0 * EPS) * size + floor;
             changes.push(sum);
-        }
-        Some(changes.changes)
+            sum.abs() > err
+        };
+        let certain = if backwards {
+            terms.iter().rev().enumerate().all(|(j, &t)| step(j, t))
+        } else {
+            terms.iter().enumerate().all(|(j, &t)| step(j, t))
+        };
+        certain.then_some(changes.changes)
     }
 
     /// The sign of f at the search's upper end and beyond, where the first term
@@ -1137,7 +1139,11 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         }
     }
     let g = g.max(1);
-    let exps: Vec<u64> = rel.iter().map(|&x| x / g).collect();
+    let exps: Vec<u64> = if g == 1 {
+        rel
+    } else {
+        rel.iter().map(|&x| x / g).collect()
+    };
     let mut out = RootSet {
         roots: Vec::new(),
         certified: true,
