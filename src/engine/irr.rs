@@ -60,8 +60,16 @@ pub fn report_from_set(
         _ => 0,
     };
     // Batch screening classifies the balance path without building its rows.
-    let pts: Vec<(i64, f64)> = if with_paths {
+    let pts: Vec<(i64, f64)> = if with_paths || set.roots.is_empty() {
         Vec::new()
+    } else if set.coefficients.len() == flows.points.len() {
+        // (The root finder's floats of these same flows.)
+        flows
+            .points
+            .iter()
+            .zip(&set.coefficients)
+            .map(|(p, &c)| (p.offset, c))
+            .collect()
     } else {
         flows
             .points

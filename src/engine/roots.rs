@@ -78,6 +78,10 @@ pub struct RootSet {
     /// When the count was proven by Laguerre's bounds at one point (the quick way, see
     /// [`find_roots`]): that point, in `y`.
     pub proven_at: Option<f64>,
+    /// The amounts as binary floats, in the order given (each within about two units
+    /// in the last place): for readings that need no exact arithmetic, such as the
+    /// balance classification of batch screening.
+    pub coefficients: Vec<f64>,
 }
 
 impl RootSet {
@@ -1014,22 +1018,32 @@ impl SignCount {
     }
 }
 
-/// [`sign_bounds_int`] in 64-bit integers, when every amount has the same scale and a
-/// mantissa below 2^40 in size, and there are fewer than 2^22 of them (no sum can then
-/// reach 2^62): the common case, and cheaper again than sums in `i128`.
-fn sign_bounds_small(amounts: &[Decimal]) -> Option<(u32, Option<u32>, Option<u32>)> {
-    let scale = amounts.first()?.scale();
-    if amounts.len() >= 1 << 22 {
-        return None;
-    }
-    let mut ints = Vec::with_capacity(amounts.len());
+/// The amounts as binary floats (see [`super::flows::amount_f64`]) and, when every
+/// amount has the same scale and a mantissa below 2^40 in size and there are fewer
+/// than 2^22 of them (no sum can then reach 2^62), as integers at that scale: one pass
+/// over the exact amounts for both.
+fn floats_and_integers(amounts: &[Decimal]) -> (Vec<f64>, Option<Vec<i64>>) {
+    let scale = amounts.first().map_or(0, |a| a.scale());
+    let mut small = amounts.len() < 1 << 22;
+    let mut floats = Vec::with_capacity(amounts.len());
+    let mut ints = Vec::with_capacity(if small { amounts.len() } else { 0 });
     for a in amounts {
-        let m = a.mantissa();
-        if m.unsigned_abs() >= 1 << 40 || a.scale() != scale {
-            return None;
+        floats.push(super::flows::amount_f64(*a));
+        if small {
+            let m = a.mantissa();
+            if m.unsigned_abs() >= 1 << 40 || a.scale() != scale {
+                small = false;
+            } else {
+                ints.push(m as i64);
+            }
         }
-        ints.push(m as i64);
     }
+    (floats, small.then_some(ints))
+}
+
+/// [`sign_bounds`] of integers whose sums cannot overflow (see
+/// [`floats_and_integers`]): cheaper again than sums in `i128`.
+fn sign_bounds_of_integers(ints: Vec<i64>) -> (u32, Option<u32>, Option<u32>) {
     // Sign changes of a sequence without zeros: neighbours whose signs differ. Written
     // so that it needs no branches (the compiler vectorises it).
     fn changes(v: &[i64]) -> u32 {
@@ -1052,7 +1066,7 @@ fn sign_bounds_small(amounts: &[Decimal]) -> Option<(u32, Option<u32>, Option<u3
         *x = total;
     }
     if total == 0 {
-        return Some((descartes, None, None));
+        return (descartes, None, None);
     }
     let forward = counted(&sums);
     // The backward sums are the total, then the total less each forward sum but the
@@ -1063,7 +1077,7 @@ fn sign_bounds_small(amounts: &[Decimal]) -> Option<(u32, Option<u32>, Option<u3
     sums.pop();
     sums.insert(0, total);
     let backward = counted(&sums);
-    Some((descartes, Some(forward), Some(backward)))
+    (descartes, Some(forward), Some(backward))
 }
 
 /// [`sign_bounds_int`] when every amount has the same scale: the mantissas are then
@@ -1093,7 +1107,10 @@ fn sign_bounds_same_scale(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>
 
 /// Sign-change bounds of a netted series: (Descartes, above 0%, below 0%).
 pub fn sign_bounds(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
-    if let Some(bounds) = sign_bounds_small(amounts).or_else(|| sign_bounds_int(amounts)) {
+    if let (_, Some(ints)) = floats_and_integers(amounts) {
+        return sign_bounds_of_integers(ints);
+    }
+    if let Some(bounds) = sign_bounds_int(amounts) {
         return bounds;
     }
     let v = sign_changes(amounts.iter().copied());
@@ -1127,7 +1144,11 @@ pub fn sign_bounds(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
 /// per step (the gcd of the offsets). `offsets` must be strictly increasing and the
 /// amounts non-zero (see [`crate::engine::Flows::normalised`]).
 pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> RootSet {
-    let (descartes, above_zero, below_zero) = sign_bounds(amounts);
+    let (c, ints) = floats_and_integers(amounts);
+    let (descartes, above_zero, below_zero) = match ints {
+        Some(ints) => sign_bounds_of_integers(ints),
+        None => sign_bounds(amounts),
+    };
     let first = offsets.first().copied().unwrap_or(0);
     let rel: Vec<u64> = offsets.iter().map(|&o| (o - first).max(0) as u64).collect();
     // (Once the divisor is 1 it stays 1: no more divisions needed.)
@@ -1155,17 +1176,15 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         step_units: g,
         evaluations: 0,
         proven_at: None,
+        coefficients: Vec::new(),
     };
     if descartes == 0 || amounts.len() < 2 {
+        out.coefficients = c;
         return out;
     }
     // Rates above 0% are searched on the series itself, rates below 0% on the reversed
     // series (u = -y, exponents n_K - n_k): both are then sums of decreasing
     // exponentials in a non-negative variable, which the enclosures need.
-    let c: Vec<f64> = amounts
-        .iter()
-        .map(|a| super::flows::amount_f64(*a))
-        .collect();
     let last = *exps.last().unwrap_or(&0);
     // The reversed series is only needed when the Norstrom count below 0% does not
     // already say zero; otherwise an empty one stands in (never evaluated).
@@ -1335,6 +1354,8 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
             out.certified = false;
         }
     }
+    drop(solvers);
+    out.coefficients = series.c;
     out
 }
 
