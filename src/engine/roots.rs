@@ -78,9 +78,10 @@ pub struct RootSet {
     /// When the count was proven by Laguerre's bounds at one point (the quick way, see
     /// [`find_roots`]): that point, in `y`.
     pub proven_at: Option<f64>,
-    /// The amounts as binary floats, in the order given (each within about two units
-    /// in the last place): for readings that need no exact arithmetic, such as the
-    /// balance classification of batch screening.
+    /// The amounts as binary floats, in the order given, all multiplied by one power
+    /// of ten (see `floats_and_integers`): for readings that need no exact arithmetic
+    /// and do not depend on the amounts' scale, such as the balance classification of
+    /// batch screening.
     pub coefficients: Vec<f64>,
 }
 
@@ -95,7 +96,8 @@ impl RootSet {
 struct Series<'a> {
     /// True for the time-reversed series (variable u = -y), used for rates below 0%.
     reversed: bool,
-    /// Coefficients as f64 (rounded once from the exact decimals).
+    /// Coefficients as f64 (see `floats_and_integers`: possibly all scaled by one power
+    /// of ten, which changes no root).
     c: Vec<f64>,
     /// Exponents `n_k` as f64 (exact: integers below 2^53).
     n: Vec<f64>,
@@ -229,7 +231,8 @@ impl<'a> Series<'a> {
         exps: &[u64],
         reversed: bool,
     ) -> Series<'a> {
-        let n: Vec<f64> = exps.iter().map(|&e| e as f64).collect();
+        // (Exponents are below 2^53; the signed conversion is the cheaper one.)
+        let n: Vec<f64> = exps.iter().map(|&e| e as i64 as f64).collect();
         let mut gap_vals: Vec<f64> = Vec::new();
         let mut gap_idx: Vec<u32> = Vec::new();
         // Evenly spaced exponents need no index (see `Series::gap_index`).
@@ -1018,27 +1021,33 @@ impl SignCount {
     }
 }
 
-/// The amounts as binary floats (see [`super::flows::amount_f64`]) and, when every
-/// amount has the same scale and a mantissa below 2^40 in size and there are fewer
-/// than 2^22 of them (no sum can then reach 2^62), as integers at that scale: one pass
-/// over the exact amounts for both.
+/// The amounts as binary floats and, when every amount has the same scale and a
+/// mantissa below 2^40 in size and there are fewer than 2^22 of them (no sum can then
+/// reach 2^62), as integers at that scale. In that case the floats are those integers,
+/// exactly: the amounts times one power of ten, which changes neither the roots nor
+/// any reading made relative to the amounts' size. Otherwise they are the amounts
+/// themselves, each within about two units in the last place (see
+/// [`super::flows::amount_f64`]).
 fn floats_and_integers(amounts: &[Decimal]) -> (Vec<f64>, Option<Vec<i64>>) {
     let scale = amounts.first().map_or(0, |a| a.scale());
-    let mut small = amounts.len() < 1 << 22;
-    let mut floats = Vec::with_capacity(amounts.len());
-    let mut ints = Vec::with_capacity(if small { amounts.len() } else { 0 });
-    for a in amounts {
-        floats.push(super::flows::amount_f64(*a));
-        if small {
+    if amounts.len() < 1 << 22 {
+        let mut ints = Vec::with_capacity(amounts.len());
+        let small = amounts.iter().all(|a| {
             let m = a.mantissa();
-            if m.unsigned_abs() >= 1 << 40 || a.scale() != scale {
-                small = false;
-            } else {
-                ints.push(m as i64);
-            }
+            let fits = m.unsigned_abs() < 1 << 40 && a.scale() == scale;
+            ints.push(m as i64);
+            fits
+        });
+        if small {
+            let floats = ints.iter().map(|&m| m as f64).collect();
+            return (floats, Some(ints));
         }
     }
-    (floats, small.then_some(ints))
+    let floats = amounts
+        .iter()
+        .map(|a| super::flows::amount_f64(*a))
+        .collect();
+    (floats, None)
 }
 
 /// [`sign_bounds`] of integers whose sums cannot overflow (see
