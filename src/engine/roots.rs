@@ -79,7 +79,7 @@ pub struct RootSet {
     /// [`find_roots`]): that point, in `y`.
     pub proven_at: Option<f64>,
     /// The amounts as binary floats, in the order given, all multiplied by one power
-    /// of ten (see `floats_and_integers`): for readings that need no exact arithmetic
+    /// of ten (see `small_integers`): for readings that need no exact arithmetic
     /// and do not depend on the amounts' scale, such as the balance classification of
     /// batch screening.
     pub coefficients: Vec<f64>,
@@ -96,8 +96,8 @@ impl RootSet {
 struct Series<'a> {
     /// True for the time-reversed series (variable u = -y), used for rates below 0%.
     reversed: bool,
-    /// Coefficients as f64 (see `floats_and_integers`: possibly all scaled by one power
-    /// of ten, which changes no root).
+    /// Coefficients as f64 (see `small_integers`: possibly all scaled by one power of
+    /// ten, which changes no root).
     c: Vec<f64>,
     /// Exponents `n_k` as f64 (exact: integers below 2^53).
     n: Vec<f64>,
@@ -1021,37 +1021,28 @@ impl SignCount {
     }
 }
 
-/// The amounts as binary floats and, when every amount has the same scale and a
-/// mantissa below 2^40 in size and there are fewer than 2^22 of them (no sum can then
-/// reach 2^62), as integers at that scale. In that case the floats are those integers,
-/// exactly: the amounts times one power of ten, which changes neither the roots nor
-/// any reading made relative to the amounts' size. Otherwise they are the amounts
-/// themselves, each within about two units in the last place (see
-/// [`super::flows::amount_f64`]).
-fn floats_and_integers(amounts: &[Decimal]) -> (Vec<f64>, Option<Vec<i64>>) {
+/// The amounts as integers at their common scale, when every amount has the same
+/// scale and a mantissa below 2^40 in size and there are fewer than 2^22 of them (no
+/// sum can then reach 2^62): the usual case, where the sign-change bounds need no
+/// wider arithmetic and the integers themselves serve as the floats of the search
+/// (the amounts times one power of ten, which changes no root and no reading made
+/// relative to the amounts' size).
+fn small_integers(amounts: &[Decimal]) -> Option<Vec<i64>> {
     let scale = amounts.first().map_or(0, |a| a.scale());
-    if amounts.len() < 1 << 22 {
-        let mut ints = Vec::with_capacity(amounts.len());
-        let small = amounts.iter().all(|a| {
-            let m = a.mantissa();
-            let fits = m.unsigned_abs() < 1 << 40 && a.scale() == scale;
-            ints.push(m as i64);
-            fits
-        });
-        if small {
-            let floats = ints.iter().map(|&m| m as f64).collect();
-            return (floats, Some(ints));
-        }
+    if amounts.len() >= 1 << 22 {
+        return None;
     }
-    let floats = amounts
-        .iter()
-        .map(|a| super::flows::amount_f64(*a))
-        .collect();
-    (floats, None)
+    let mut ints = Vec::with_capacity(amounts.len());
+    let small = amounts.iter().all(|a| {
+        let m = a.mantissa();
+        ints.push(m as i64);
+        m.unsigned_abs() < 1 << 40 && a.scale() == scale
+    });
+    small.then_some(ints)
 }
 
-/// [`sign_bounds`] of integers whose sums cannot overflow (see
-/// [`floats_and_integers`]): cheaper again than sums in `i128`.
+/// [`sign_bounds`] of integers whose sums cannot overflow (see [`small_integers`]):
+/// cheaper again than sums in `i128`.
 fn sign_bounds_of_integers(ints: Vec<i64>) -> (u32, Option<u32>, Option<u32>) {
     // Sign changes of a sequence without zeros: neighbours whose signs differ. Written
     // so that it needs no branches (the compiler vectorises it).
@@ -1116,9 +1107,15 @@ fn sign_bounds_same_scale(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>
 
 /// Sign-change bounds of a netted series: (Descartes, above 0%, below 0%).
 pub fn sign_bounds(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
-    if let (_, Some(ints)) = floats_and_integers(amounts) {
-        return sign_bounds_of_integers(ints);
+    match small_integers(amounts) {
+        Some(ints) => sign_bounds_of_integers(ints),
+        None => sign_bounds_wide(amounts),
     }
+}
+
+/// [`sign_bounds`] for amounts that [`small_integers`] does not take: in `i128` at one
+/// scale where that suffices, otherwise in decimals.
+fn sign_bounds_wide(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
     if let Some(bounds) = sign_bounds_int(amounts) {
         return bounds;
     }
@@ -1153,10 +1150,17 @@ pub fn sign_bounds(amounts: &[Decimal]) -> (u32, Option<u32>, Option<u32>) {
 /// per step (the gcd of the offsets). `offsets` must be strictly increasing and the
 /// amounts non-zero (see [`crate::engine::Flows::normalised`]).
 pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> RootSet {
-    let (c, ints) = floats_and_integers(amounts);
+    let ints = small_integers(amounts);
+    let c: Vec<f64> = match &ints {
+        Some(ints) => ints.iter().map(|&m| m as f64).collect(),
+        None => amounts
+            .iter()
+            .map(|a| super::flows::amount_f64(*a))
+            .collect(),
+    };
     let (descartes, above_zero, below_zero) = match ints {
         Some(ints) => sign_bounds_of_integers(ints),
-        None => sign_bounds(amounts),
+        None => sign_bounds_wide(amounts),
     };
     let first = offsets.first().copied().unwrap_or(0);
     let rel: Vec<u64> = offsets.iter().map(|&o| (o - first).max(0) as u64).collect();
@@ -1420,10 +1424,13 @@ fn quick_certificate(
         all.sort_by(|a, b| a.y.total_cmp(&b.y));
         all
     };
-    let full = |sides: &[Vec<FoundRoot>; 2]| {
-        (0..2).all(|i| bounds[i].is_some_and(|b| b == sides[i].len() as u32))
+    // A side is settled when its roots are as many as its cumulative count allows, or
+    // when it was proven to have none.
+    let mut empty = [false; 2];
+    let settled = |sides: &[Vec<FoundRoot>; 2], empty: &[bool; 2]| {
+        (0..2).all(|i| empty[i] || bounds[i].is_some_and(|b| b == sides[i].len() as u32))
     };
-    if full(&sides) {
+    if settled(&sides, &empty) {
         return Some((collect(&sides), None));
     }
     let found = collect(&sides);
@@ -1433,7 +1440,6 @@ fn quick_certificate(
     // Sides whose end signs agree and whose count allows two roots: scan them for
     // the opposite sign, or prove there is none.
     let scale = found.iter().map(|r| r.y.abs()).fold(0.0f64, f64::max);
-    let mut empty = [false; 2];
     let mut scanned = false;
     for (i, sv) in solvers.iter_mut().enumerate() {
         if !sides[i].is_empty() || ends[i] == 0 || bounds[i].is_some_and(|b| b < 2) {
@@ -1462,8 +1468,7 @@ fn quick_certificate(
     if !scanned {
         return None;
     }
-    let settled = |i: usize| empty[i] || bounds[i].is_some_and(|b| b == sides[i].len() as u32);
-    if settled(0) && settled(1) {
+    if settled(&sides, &empty) {
         return Some((collect(&sides), None));
     }
     let found = collect(&sides);
