@@ -2333,7 +2333,93 @@ mod tests {
         }
     }
 
+    /// A series from (amount in tenths, gap) pairs, on exponents from 0.
+    fn series_of(raw: &[(i64, u64)]) -> (Vec<Decimal>, Vec<u64>) {
+        let amounts: Vec<Decimal> = raw.iter().map(|&(m, _)| Decimal::new(m, 1)).collect();
+        let mut exps = vec![0u64];
+        for &(_, gap) in &raw[1..] {
+            exps.push(exps.last().unwrap() + gap);
+        }
+        (amounts, exps)
+    }
+
     proptest::proptest! {
+        /// Whenever the tangent-and-chord test says f keeps its sign over [a, b], no
+        /// point of a fine grid there has the other sign in double-double arithmetic.
+        #[test]
+        fn kept_signs_are_kept(
+            raw in proptest::collection::vec((-1000i64..1000, 1u64..4), 2..30),
+            a in 0.0f64..1.0,
+            w in 0.001f64..1.0,
+        ) {
+            let (amounts, exps) = series_of(&raw);
+            proptest::prop_assume!(amounts.iter().all(|x| !x.is_zero()));
+            let c: Vec<f64> = amounts.iter().map(|x| super::super::flows::amount_f64(*x)).collect();
+            let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+            let mut sv = Solver { s: &s, in_search: false, dd_spent: 0, evals: 0, cache: Vec::new() };
+            let (pa, pb) = (sv.point(a, 1), sv.point(a + w, 1));
+            if let (Some(sa), Some(sb)) = (pa.sign(0), pb.sign(0)) {
+                if sa == sb && sv.keeps_sign(&pa, &pb, sa) {
+                    for k in 0..=64 {
+                        let x = a + w * k as f64 / 64.0;
+                        proptest::prop_assert_ne!(dd_sign(&s, x), Some(-sa), "at {}", x);
+                    }
+                }
+            }
+        }
+
+        /// Between two close roots f dips to the other sign although both ends of the
+        /// piece have the same sign: the tangent-and-chord test must never call that
+        /// piece settled. (x^2 - (g1 + g2) x + g1 g2 in x = e^y has its roots at
+        /// exactly ln g1 and ln g2 [exact construction].)
+        #[test]
+        fn a_dip_between_two_roots_is_not_called_kept(
+            k1 in 1i64..100,
+            k2 in 1i64..300,
+            left in 0.0f64..0.5,
+            right in 0.0f64..0.5,
+        ) {
+            let g1 = Decimal::new(100 + k1, 2);
+            let g2 = g1 + Decimal::new(k2, 4);
+            let amounts = [Decimal::ONE, -(g1 + g2), g1 * g2];
+            let exps = [0u64, 1, 2];
+            let c: Vec<f64> = amounts.iter().map(|x| super::super::flows::amount_f64(*x)).collect();
+            let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+            let mut sv = Solver { s: &s, in_search: false, dd_spent: 0, evals: 0, cache: Vec::new() };
+            let (y1, y2) = (g1.to_f64().unwrap().ln(), g2.to_f64().unwrap().ln());
+            let a = y1 * (1.0 - left);
+            let b = y2 + (y2 - y1) + right;
+            let (pa, pb) = (sv.point(a, 1), sv.point(b, 1));
+            if let (Some(sa), Some(sb)) = (pa.sign(0), pb.sign(0)) {
+                proptest::prop_assert_eq!(sa, sb);
+                proptest::prop_assert!(!sv.keeps_sign(&pa, &pb, sa));
+            }
+        }
+
+        /// Every simple root's interval, however it was certified (by the slope of the
+        /// last Newton evaluation, as most are, or otherwise), has ends of opposite
+        /// signs in double-double arithmetic wherever those signs can be told.
+        #[test]
+        fn simple_root_intervals_hold_a_sign_change(
+            raw in proptest::collection::vec((-1000i64..1000, 1u64..4), 2..30),
+        ) {
+            let (amounts, exps) = series_of(&raw);
+            let kept: Vec<(Decimal, u64)> =
+                amounts.iter().zip(&exps).filter(|(x, _)| !x.is_zero()).map(|(x, &e)| (*x, e)).collect();
+            proptest::prop_assume!(kept.len() >= 2);
+            let amounts: Vec<Decimal> = kept.iter().map(|k| k.0).collect();
+            let offsets: Vec<i64> = kept.iter().map(|k| k.1 as i64 - kept[0].1 as i64).collect();
+            let rs = find_roots(&amounts, &offsets, 1);
+            let exps: Vec<u64> = offsets.iter().map(|&o| o as u64 / rs.step_units).collect();
+            let c: Vec<f64> = amounts.iter().map(|x| super::super::flows::amount_f64(*x)).collect();
+            let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+            for r in rs.roots.iter().filter(|r| r.multiplicity == 1 && r.y.abs() < 5.0) {
+                if let (Some(lo), Some(hi)) = (dd_sign(&s, r.lo), dd_sign(&s, r.hi)) {
+                    proptest::prop_assert_ne!(lo, hi, "{:?}", r);
+                }
+            }
+        }
+
         /// Laguerre's bounds of the time-reversed series, worked out from the series
         /// itself, are exactly those the reversed series gives (uneven gaps included).
         #[test]
