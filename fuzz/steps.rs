@@ -90,26 +90,41 @@ fn render_all(diags: &[Diagnostic], source: &str) -> usize {
     diags.len()
 }
 
-/// Arbitrary bytes as the input of `candor rates --batch`: every non-blank line is
-/// screened on its own. Returns one output line per screened input line.
+/// Arbitrary bytes as the input of `candor rates --batch`, through the same stream
+/// reader the command uses (blocks, lines split at newlines, a byte-order mark at the
+/// start skipped). Returns the output lines.
 ///
-/// Panics (which the fuzzer reports) when a line's result is not a JSON object that
-/// names its series, since the batch format promises one such object per line.
+/// Panics (which the fuzzer reports) unless there is exactly one output line per
+/// non-blank input line (see [`batch_lines`]), each a JSON object that names its
+/// series, as the batch format promises.
 pub fn batch(data: &[u8]) -> Vec<String> {
-    let Ok(text) = std::str::from_utf8(data) else {
-        return Vec::new();
-    };
-    text.lines()
-        .enumerate()
-        .filter(|(_, l)| !l.trim().is_empty())
-        .map(|(i, l)| {
-            let v = candor::screen::screen_line(l, i);
-            assert!(
-                v.get("id").is_some(),
-                "line {} gave a result without an id: {v}",
-                i + 1
-            );
-            v.to_string()
-        })
-        .collect()
+    let mut out = Vec::new();
+    candor::screen::screen_stream(&mut &data[..], &mut out)
+        .expect("memory never fails to take bytes");
+    let text = String::from_utf8(out).expect("the output is UTF-8");
+    let lines: Vec<String> = text.lines().map(str::to_string).collect();
+    assert_eq!(
+        lines.len(),
+        batch_lines(data),
+        "one output line per non-blank input line"
+    );
+    for (k, l) in lines.iter().enumerate() {
+        let v: serde_json::Value = serde_json::from_str(l).expect("each output line is JSON");
+        assert!(
+            v.get("id").is_some(),
+            "output line {} has no id: {l}",
+            k + 1
+        );
+    }
+    lines
+}
+
+/// The input lines `rates --batch` answers: the pieces between newlines (after a
+/// UTF-8 byte-order mark at the start, which is skipped) that hold more than ASCII
+/// white space.
+pub fn batch_lines(data: &[u8]) -> usize {
+    let data = data.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(data);
+    data.split(|&b| b == b'\n')
+        .filter(|l| !l.trim_ascii().is_empty())
+        .count()
 }

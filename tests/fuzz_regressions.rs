@@ -93,8 +93,7 @@ fn run_pipeline(path: &Path) -> steps::PipelineOutcome {
 
 fn run_batch(path: &Path) -> (usize, Vec<String>) {
     let bytes = std::fs::read(path).expect("a saved input is readable");
-    let lines = std::str::from_utf8(&bytes)
-        .map_or(0, |t| t.lines().filter(|l| !l.trim().is_empty()).count());
+    let lines = steps::batch_lines(&bytes);
     let what = name(path);
     let out = finishes(&what, move || steps::batch(&bytes));
     (lines, out)
