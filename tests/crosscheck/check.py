@@ -45,6 +45,8 @@ import numpy_financial as npf  # noqa: E402
 
 mpmath.mp.dps = 60
 PERIODS = {"year": 1, "half-year": 2, "quarter": 4, "month": 12, "week": 52, "day": 365}
+# The largest NPV to the cent an exact decimal holds (rust_decimal: 2^96 - 1 cents).
+DECIMAL_MAX = (mpmath.mpf(2) ** 96 - 1) / 100
 
 # Tolerances (see README.md for why each is what it is).
 TOL_INTERVAL_REL = 1e-12   # reference root may sit this far outside a certified interval
@@ -516,7 +518,11 @@ def check_money(ref, got, s: Series) -> list[str]:
                 bad.append(f"{k} given without a hurdle rate")
         return bad
     npv_s = got.get("npv_at_hurdle")
-    if not isinstance(npv_s, str):
+    if npv_s is None:
+        # Allowed only for an NPV beyond an exact decimal's range (about 7.9e26).
+        if abs(ref["npv"]) < DECIMAL_MAX:
+            bad.append("npv_at_hurdle is null although the NPV fits an exact decimal")
+    elif not isinstance(npv_s, str):
         bad.append(f"npv_at_hurdle {npv_s!r} is not a decimal string")
     else:
         try:
