@@ -191,18 +191,19 @@ fn stance_and_decision(
 /// direction as [`figures::balances_at_root`] does (backwards above 0%, forwards at or
 /// below it). Times are integer clock offsets, so the growth factor of each distinct
 /// gap is computed once.
-/// [`balance_kind_f64`] above 0% for evenly spaced flows (`shrink` the factor of one
-/// step back), four steps at a time: the balance four steps back is the current one
+/// [`balance_kind_f64`] above 0% for evenly spaced flows (`per_unit` the log growth a
+/// clock unit), four steps at a time: the balance four steps back is the current one
 /// (less the flow) shrunk four times, less the other three flows shrunk, and only that
 /// short chain waits on the one before, so the steps overlap. `None` (use the step by
 /// step reading, which clears the remainders of cancellation) when the spacing is not
 /// even, the series is short, or a balance comes close to cancelling out.
-fn balance_kind_even(pts: &[(i64, f64)], tol: f64, shrink: f64) -> Option<BalanceKind> {
+fn balance_kind_even(pts: &[(i64, f64)], tol: f64, per_unit: f64) -> Option<BalanceKind> {
     let n = pts.len();
     if n < 8 {
         return None;
     }
     let gap = pts[1].0 - pts[0].0;
+    let shrink = (-per_unit * gap as f64).exp();
     let even = if gap == 1 {
         // (Offsets strictly increase: steps of 1 all the way exactly when they span
         // n - 1.)
@@ -257,11 +258,17 @@ fn balance_kind_even(pts: &[(i64, f64)], tol: f64, shrink: f64) -> Option<Balanc
         note(bal, size * s1)?;
         k -= 1;
     }
-    Some(match (positive, negative) {
+    Some(kind_of(positive, negative))
+}
+
+/// The kind of a balance path that has (or lacks) balances above and below the
+/// tolerance.
+fn kind_of(positive: bool, negative: bool) -> BalanceKind {
+    match (positive, negative) {
         (false, _) => BalanceKind::PureInvestment,
         (true, false) => BalanceKind::PureBorrowing,
         (true, true) => BalanceKind::Mixed,
-    })
+    }
 }
 
 fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) -> BalanceKind {
@@ -300,7 +307,7 @@ fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) ->
             negative |= bal < -tol;
         }
     } else {
-        if let Some(kind) = balance_kind_even(pts, tol, factor(pts[1].0 - pts[0].0, -1.0)) {
+        if let Some(kind) = balance_kind_even(pts, tol, per_unit) {
             return kind;
         }
         // Backwards from the zero balance after the last flow: each step shrinks, so
@@ -318,11 +325,7 @@ fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) ->
             negative |= bal < -tol;
         }
     }
-    match (positive, negative) {
-        (false, _) => BalanceKind::PureInvestment,
-        (true, false) => BalanceKind::PureBorrowing,
-        (true, true) => BalanceKind::Mixed,
-    }
+    kind_of(positive, negative)
 }
 
 /// One sentence saying how the count was established.

@@ -244,25 +244,25 @@ impl<'a> Series<'a> {
             gap_vals.push((exps[1] - exps[0]) as f64);
         } else {
             gap_idx = vec![0u32; exps.len()];
-        }
-        let mut last_gap = (u64::MAX, 0u32);
-        for k in (1..exps.len()).filter(|_| !even) {
-            let g = exps[k] - exps[k - 1];
-            let idx = if g == last_gap.0 {
-                last_gap.1
-            } else {
-                let gf = g as f64;
-                let i = match gap_vals.iter().position(|&v| v == gf) {
-                    Some(i) => i,
-                    None => {
-                        gap_vals.push(gf);
-                        gap_vals.len() - 1
-                    }
-                } as u32;
-                last_gap = (g, i);
-                i
-            };
-            gap_idx[k] = idx;
+            let mut last_gap = (u64::MAX, 0u32);
+            for k in 1..exps.len() {
+                let g = exps[k] - exps[k - 1];
+                let idx = if g == last_gap.0 {
+                    last_gap.1
+                } else {
+                    let gf = g as f64;
+                    let i = match gap_vals.iter().position(|&v| v == gf) {
+                        Some(i) => i,
+                        None => {
+                            gap_vals.push(gf);
+                            gap_vals.len() - 1
+                        }
+                    } as u32;
+                    last_gap = (g, i);
+                    i
+                };
+                gap_idx[k] = idx;
+            }
         }
         let mut npow_last = [1.0; ORDERS];
         let last = n.last().copied().unwrap_or(0.0);
