@@ -122,7 +122,7 @@ impl Diagnostic {
                 let pad = " ".repeat(gutter.len());
                 let (shown, caret) = excerpt(text, p.column);
                 let _ = write!(out, "\n {pad} |\n {gutter} | {shown}\n {pad} | ");
-                out.push_str(&" ".repeat(caret.saturating_sub(1)));
+                out.push_str(&" ".repeat(display_width_before(&shown, caret)));
                 out.push('^');
             }
         }
@@ -162,6 +162,21 @@ fn excerpt(text: &str, column: usize) -> (String, usize) {
     (shown, caret)
 }
 
+/// How many terminal cells the characters before `caret` (1-based, in characters)
+/// take: two for a wide character such as a CJK ideograph, none for a combining mark
+/// (Unicode East Asian Width), one for each column past the end of the line.
+fn display_width_before(shown: &str, caret: usize) -> usize {
+    use unicode_width::UnicodeWidthChar as _;
+    let before = caret.saturating_sub(1);
+    let mut cells = 0;
+    let mut counted = 0;
+    for c in shown.chars().take(before) {
+        cells += c.width().unwrap_or(0);
+        counted += 1;
+    }
+    cells + (before - counted)
+}
+
 impl std::fmt::Display for Diagnostic {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         f.write_str(&self.render(None))
@@ -192,6 +207,27 @@ mod tests {
             text,
             "error[bad-date]: no such day\n  --> deal.yaml:2:10  (field `deal.as_of`)\n   |\n 2 |   as_of: 2027-02-30\n   |          ^\n  = hint: check the month"
         );
+    }
+
+    #[test]
+    fn the_caret_sits_under_the_column_after_wide_and_combining_characters() {
+        // Unicode Standard Annex #11 (East Asian Width): CJK ideographs are Wide and
+        // take two terminal cells; a combining acute accent (U+0301) takes none.
+        let d = Diagnostic::error("bad-amount", "not a number")
+            .in_file("deal.yaml")
+            .at(1, 16);
+        let text = d.render(Some("name: \u{6771}\u{4eac} Cafe\u{301} x1\n"));
+        let lines: Vec<&str> = text.lines().collect();
+        let source = lines[3].split_once("| ").unwrap().1;
+        let caret = lines[4].split_once("| ").unwrap().1;
+        // Column 16 is the `x`: after `name: ` (6), two ideographs, a space, `Cafe`
+        // with its accent (5 characters) and a space.
+        assert_eq!(source.chars().nth(15), Some('x'));
+        // Cells before it: 6 + 2 * 2 + 1 + 4 + 0 + 1 = 16.
+        assert_eq!(caret, format!("{}^", " ".repeat(16)));
+        // A column past the end of the line still lands one cell per column.
+        assert_eq!(display_width_before("\u{6771}", 3), 3);
+        assert_eq!(display_width_before("ab", 1), 0);
     }
 
     #[test]

@@ -1,7 +1,7 @@
 //! Output faults end to end: a missing output or archive folder, a folder that cannot be
 //! written, a path in the way, a full disk (injected always; a real small tmpfs when the
 //! test runs as root and `mount` works), a run killed outright (SIGKILL) in the middle
-//! of writing a memo or filing a version, and a run stopped by Ctrl-C or SIGTERM.
+//! of writing a memo or filing a version, and a run stopped by Ctrl-C, SIGTERM or SIGHUP.
 //!
 //! What every case checks is the promise of the hardening work, common practice for
 //! tools that write documents: a non-zero exit, a message naming what happened, the file
@@ -755,13 +755,15 @@ fn a_filing_killed_mid_write_leaves_the_archive_intact_and_the_next_run_recovers
 }
 
 #[test]
-fn ctrl_c_or_sigterm_while_writing_removes_the_unfinished_memo() {
-    for sig in ["INT", "TERM"] {
+fn ctrl_c_sigterm_or_sighup_while_writing_removes_the_unfinished_memo() {
+    // 128 plus the signal's number, as shells report a process stopped by a signal
+    // (common practice; POSIX signal numbers SIGHUP 1, SIGINT 2, SIGTERM 15).
+    for (sig, code) in [("INT", 130), ("TERM", 143), ("HUP", 129)] {
         let (dir, _deal, out, before, child) = memo_paused_mid_write();
         signal(&child, sig);
         let done = child.wait_with_output().expect("candor ends");
         let err = text(&done.stderr);
-        assert_eq!(done.status.code(), Some(130), "SIG{sig}: {err}");
+        assert_eq!(done.status.code(), Some(code), "SIG{sig}: {err}");
         assert!(
             err.contains("candor: interrupted before it finished writing"),
             "{err}"

@@ -27,7 +27,9 @@ use std::sync::{Mutex, MutexGuard, Once};
 /// write. See DEVELOPERS.md, "Fault tests".
 pub const PAUSE_HOOK: &str = "CANDOR_TEST_PAUSE_MID_WRITE";
 
-/// Exit code after Ctrl-C or termination (128 + SIGINT, as shells report it).
+/// Exit code after Ctrl-C (128 + SIGINT, as shells report it). SIGTERM and SIGHUP
+/// give 128 plus their own numbers (143 and 129), so a script or service manager can
+/// tell what stopped candor; where signals have no numbers, every stop gives this one.
 pub const EXIT_INTERRUPTED: i32 = 130;
 
 /// How bytes reach an open file. [`Disk`] is the real thing; tests put in their own
@@ -369,17 +371,34 @@ impl Drop for Unfinished {
 
 /// Installs, once per process, the handler that on Ctrl-C (SIGINT), SIGTERM or SIGHUP
 /// removes every unfinished file and folder, then releases archive locks, says so,
-/// and exits with [`EXIT_INTERRUPTED`].
+/// and exits with 128 plus the signal's number ([`EXIT_INTERRUPTED`] for Ctrl-C).
 pub fn clean_up_on_interrupt() {
     static ONCE: Once = Once::new();
     ONCE.call_once(|| {
         // Without a handler the default applies: candor stops, and the next run removes
         // or reports what was left.
-        let _ = ctrlc::set_handler(on_interrupt);
+        #[cfg(unix)]
+        {
+            use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
+            if let Ok(mut signals) = signal_hook::iterator::Signals::new([SIGINT, SIGTERM, SIGHUP])
+            {
+                let _ = std::thread::Builder::new()
+                    .name("interrupt".to_string())
+                    .spawn(move || {
+                        if let Some(number) = signals.forever().next() {
+                            on_interrupt(128 + number);
+                        }
+                    });
+            }
+        }
+        #[cfg(not(unix))]
+        {
+            let _ = ctrlc::set_handler(|| on_interrupt(EXIT_INTERRUPTED));
+        }
     });
 }
 
-fn on_interrupt() {
+fn on_interrupt(code: i32) {
     // Held until the process exits, so no rename can start during the clean-up.
     let list = pending();
     let mut lines = Vec::new();
@@ -434,7 +453,7 @@ fn on_interrupt() {
         }
         let _ = writeln!(err, "  run the command again to finish");
     }
-    std::process::exit(EXIT_INTERRUPTED);
+    std::process::exit(code);
 }
 
 /// Removes a folder that files may still be appearing in (the main thread may be
