@@ -379,16 +379,22 @@ pub fn clean_up_on_interrupt() {
         // or reports what was left.
         #[cfg(unix)]
         {
+            // The signals are taken over inside the thread that answers them: should
+            // the thread not start, they keep their default action instead of being
+            // caught with no one to act on them. The caller waits until they are.
             use signal_hook::consts::{SIGHUP, SIGINT, SIGTERM};
-            if let Ok(mut signals) = signal_hook::iterator::Signals::new([SIGINT, SIGTERM, SIGHUP])
-            {
-                let _ = std::thread::Builder::new()
-                    .name("interrupt".to_string())
-                    .spawn(move || {
-                        if let Some(number) = signals.forever().next() {
-                            on_interrupt(128 + number);
-                        }
-                    });
+            let (ready, wait) = std::sync::mpsc::channel();
+            let started = std::thread::Builder::new()
+                .name("interrupt".to_string())
+                .spawn(move || {
+                    let signals = signal_hook::iterator::Signals::new([SIGINT, SIGTERM, SIGHUP]);
+                    let _ = ready.send(());
+                    if let Some(number) = signals.ok().and_then(|mut s| s.forever().next()) {
+                        on_interrupt(128 + number);
+                    }
+                });
+            if started.is_ok() {
+                let _ = wait.recv();
             }
         }
         #[cfg(not(unix))]
