@@ -429,6 +429,17 @@ impl ArchiveLock {
                         _pending: Unfinished::register(path, Kind::Lock, path),
                     })
                 }
+                // The deal's folder went between its creation and the lock: a first
+                // filing that failed removed it, empty. Make it again.
+                Err(e)
+                    if e.kind() == std::io::ErrorKind::NotFound
+                        && started.elapsed() < LOCK_WAIT =>
+                {
+                    if let Some(folder) = path.parent() {
+                        let _ = std::fs::create_dir_all(folder);
+                    }
+                    std::thread::sleep(std::time::Duration::from_millis(1));
+                }
                 Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
                     if let Some(pid) = dead_owner(path) {
                         if break_stale_lock(path, pid)? {
@@ -572,25 +583,45 @@ pub fn file_with(
     filing: &Filing<'_>,
     sink: &mut dyn Sink,
 ) -> Result<(Filed, Vec<String>), Diagnostic> {
-    let mut notes = Vec::new();
     let slug = slug(&filing.deal.name);
     let files = version_files(filing, &slug)?;
     let deal_dir = archive.join(&slug);
+    let first = !deal_dir.exists();
     std::fs::create_dir_all(&deal_dir).map_err(|e| {
         archive_error(
             format!("cannot create the archive folder: {}", io_words(&e)),
             &deal_dir,
         )
     })?;
+    let filed = file_under_lock(filing, files, &slug, &deal_dir, sink);
+    if first && filed.is_err() {
+        // A first filing that failed leaves no empty deal folder behind. Only an empty
+        // folder goes; a filer that created its lock here meanwhile keeps it, and one
+        // about to create it makes the folder again (see `ArchiveLock::acquire`).
+        let _ = std::fs::remove_dir(&deal_dir);
+    }
+    filed
+}
+
+/// [`file_with`] once the deal's folder exists: takes the lock, chooses the number
+/// and builds the version beside it, then renames it into place.
+fn file_under_lock(
+    filing: &Filing<'_>,
+    files: Vec<(String, Role, Vec<u8>)>,
+    slug: &str,
+    deal_dir: &Path,
+    sink: &mut dyn Sink,
+) -> Result<(Filed, Vec<String>), Diagnostic> {
+    let mut notes = Vec::new();
     let lock_path = deal_dir.join(LOCK);
     // Held until dropped: one filer at a time chooses a number and renames.
     let lock = ArchiveLock::acquire(&lock_path, &mut notes)?;
-    sweep_unfinished(&deal_dir, &mut notes);
+    sweep_unfinished(deal_dir, &mut notes);
 
-    let versions = versions_in(&deal_dir).map_err(|e| {
+    let versions = versions_in(deal_dir).map_err(|e| {
         archive_error(
             format!("cannot list the filed versions: {}", io_words(&e)),
-            &deal_dir,
+            deal_dir,
         )
     })?;
     let mut entries: Vec<FileEntry> = file_entries(&files);
@@ -625,7 +656,7 @@ pub fn file_with(
                 ));
             }
             n.checked_add(1).ok_or_else(|| {
-                archive_error("the archive holds the largest version number", &deal_dir)
+                archive_error("the archive holds the largest version number", deal_dir)
             })?
         }
         None if filing.previous.is_some() => {
@@ -647,7 +678,7 @@ pub fn file_with(
     let manifest = Manifest {
         format: MANIFEST_FORMAT,
         deal: filing.deal.name.clone(),
-        slug: slug.clone(),
+        slug: slug.to_string(),
         version: version.clone(),
         candor_version: env!("CARGO_PKG_VERSION").to_string(),
         filed_at: filing.filed_at.format("%Y-%m-%dT%H:%M:%SZ").to_string(),
@@ -664,14 +695,14 @@ pub fn file_with(
 
     let tmp = tempfile::Builder::new()
         .prefix(".filing-")
-        .tempdir_in(&deal_dir)
+        .tempdir_in(deal_dir)
         .map_err(|e| {
             archive_error(
                 format!("cannot write in the archive folder: {}", io_words(&e)),
-                &deal_dir,
+                deal_dir,
             )
         })?;
-    let pending = Unfinished::register(tmp.path(), Kind::Folder, &deal_dir);
+    let pending = Unfinished::register(tmp.path(), Kind::Folder, deal_dir);
     let mut write_all = || -> Result<(), (String, std::io::Error)> {
         let mut put = |rel: &str, bytes: &[u8]| {
             write_file(&tmp.path().join(rel), bytes, sink).map_err(|e| (rel.to_string(), e))
@@ -711,7 +742,7 @@ pub fn file_with(
                  are unchanged",
                 io_words(&e)
             ),
-            &deal_dir,
+            deal_dir,
         )
         .with_hint(hint));
     }
@@ -731,7 +762,7 @@ pub fn file_with(
         ));
     }
     // Make the rename itself durable before the lock is released.
-    if let Ok(dir) = std::fs::File::open(&deal_dir) {
+    if let Ok(dir) = std::fs::File::open(deal_dir) {
         let _ = dir.sync_all();
     }
     drop(lock);
@@ -1216,6 +1247,20 @@ fn json_diff(path: &str, a: &Value, b: &Value, out: &mut Vec<(String, String, St
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_lock_makes_its_folder_again_when_a_failed_first_filing_removed_it() {
+        let dir = tempfile::tempdir().unwrap();
+        let deal_dir = dir.path().join("deal");
+        // As if another filer's failed first filing removed the empty folder between
+        // this filer's `create_dir_all` and its lock.
+        let path = deal_dir.join(LOCK);
+        let mut notes = Vec::new();
+        let lock = ArchiveLock::acquire(&path, &mut notes).expect("the lock is taken");
+        assert!(path.is_file() && notes.is_empty());
+        drop(lock);
+        assert!(!path.exists());
+    }
 
     #[test]
     fn only_plain_relative_paths_are_filed() {

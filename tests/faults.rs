@@ -516,6 +516,62 @@ fn a_full_disk_while_filing_leaves_the_archive_as_it_was_injected() {
     verify_ok(&archive, 2);
 }
 
+#[test]
+fn a_full_disk_on_a_first_filing_leaves_no_empty_deal_folder() {
+    let (dir, deal) = deal_folder();
+    let archive = dir.path().join("archive");
+    std::fs::create_dir(&archive).unwrap();
+    let loaded = load_deal(&deal).map_err(|f| f.diagnostics).unwrap();
+    let analysis = candor::engine::analyse(&loaded.deal);
+    let created = chrono::DateTime::from_timestamp(1798675200, 0)
+        .unwrap()
+        .naive_utc();
+    let templates = BTreeMap::new();
+    let pdf = b"%PDF-1.7 stand-in".to_vec();
+    let filing = Filing {
+        deal: &loaded.deal,
+        deal_file_name: "ferrow.yaml",
+        source: &loaded.source,
+        companions: &loaded.companions,
+        templates: &templates,
+        analysis: &analysis,
+        pdf: &pdf,
+        memo_created: created,
+        filed_at: created,
+        previous: None,
+    };
+    // Fails at once, and in the middle of the deal file.
+    for after in [0, loaded.source.len() / 2] {
+        let mut sink = Failing {
+            after,
+            written: 0,
+            kind: ErrorKind::StorageFull,
+        };
+        let d = archive::file_with(&archive, &filing, &mut sink).unwrap_err();
+        let shown = d.render(None);
+        assert!(shown.contains("of version 001"), "{shown}");
+        assert!(shown.contains("nothing was filed"), "{shown}");
+        assert!(
+            names(&archive).is_empty(),
+            "after {after} bytes: {:?}",
+            tree(&archive)
+        );
+    }
+    // A deal folder that was there before the failed filing stays.
+    std::fs::create_dir(archive.join(SLUG)).unwrap();
+    let mut sink = Failing {
+        after: 0,
+        written: 0,
+        kind: ErrorKind::StorageFull,
+    };
+    archive::file_with(&archive, &filing, &mut sink).unwrap_err();
+    assert_eq!(names(&archive), [SLUG]);
+    std::fs::remove_dir(archive.join(SLUG)).unwrap();
+    // The next filing (from the real command) works.
+    file_first_version(&deal, &archive);
+    verify_ok(&archive, 1);
+}
+
 /// A small tmpfs mounted for one test, unmounted when dropped.
 struct Tmpfs {
     dir: tempfile::TempDir,
