@@ -410,7 +410,11 @@ fn create_lock_file(path: &Path) -> std::io::Result<()> {
         .write(true)
         .create_new(true)
         .open(path)?;
-    writeln!(f, "{} {}", std::process::id(), host_name())
+    let me = std::process::id();
+    match output::process_identity(me) {
+        Some(identity) => writeln!(f, "{me} {} {identity}", host_name()),
+        None => writeln!(f, "{me} {}", host_name()),
+    }
 }
 
 impl ArchiveLock {
@@ -526,7 +530,9 @@ fn break_stale_lock(path: &Path, pid: u32) -> Result<bool, Diagnostic> {
 
 /// The process id in a lock file when that process is known to have ended: it ran on
 /// this machine (same host name, or a lock that names none) and Linux `/proc` no longer
-/// shows it. Elsewhere a lock is never declared dead and the wait times out instead.
+/// shows it, or shows a later process under the same number (its boot and start time
+/// differ from those the lock recorded). Elsewhere a lock is never declared dead and
+/// the wait times out instead.
 fn dead_owner(path: &Path) -> Option<u32> {
     let text = std::fs::read_to_string(path).ok()?;
     let mut words = text.split_whitespace();
@@ -536,7 +542,15 @@ fn dead_owner(path: &Path) -> Option<u32> {
             return None;
         }
     }
-    output::process_ended(pid).then_some(pid)
+    if output::process_ended(pid) {
+        return Some(pid);
+    }
+    // The number is in use, but perhaps by a later process that was given it again:
+    // the lock is dead all the same when the identity it recorded is not that one's.
+    let recorded = words.next()?;
+    let reused = pid != std::process::id()
+        && output::process_identity(pid).is_some_and(|now| now != recorded);
+    reused.then_some(pid)
 }
 
 /// Removes the unfinished version folders (`.filing-*`) that interrupted filings left
@@ -1333,6 +1347,37 @@ mod tests {
         let path = dir.path().join(LOCK);
         std::fs::write(&path, "4194305 some-other-machine-name\n").unwrap();
         assert_eq!(dead_owner(&path), None);
+    }
+
+    #[test]
+    fn a_lock_whose_process_number_was_given_again_is_dead() {
+        let Some(mine) = output::process_identity(std::process::id()) else {
+            return;
+        };
+        assert!(mine.contains('/'), "{mine}");
+        // A live process standing in for a later one that was given the number again.
+        let mut later = std::process::Command::new("sleep")
+            .arg("30")
+            .spawn()
+            .expect("sleep starts");
+        let pid = later.id();
+        let now = output::process_identity(pid).expect("the identity of a live process");
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join(LOCK);
+        let host = host_name();
+        // The lock recorded the same number for an earlier start: it is dead.
+        std::fs::write(&path, format!("{pid} {host} {mine}-earlier\n")).unwrap();
+        assert_eq!(dead_owner(&path), Some(pid));
+        // The identity the lock recorded is the live process's own: it is not dead, and
+        // neither is a lock without an identity (as older candor versions wrote it).
+        for content in [format!("{pid} {host} {now}\n"), format!("{pid} {host}\n")] {
+            std::fs::write(&path, content).unwrap();
+            assert_eq!(dead_owner(&path), None);
+        }
+        let _ = later.kill();
+        let _ = later.wait();
+        // Once it has ended, any form of the lock is dead.
+        assert_eq!(dead_owner(&path), Some(pid));
     }
 
     #[test]

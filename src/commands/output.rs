@@ -259,6 +259,20 @@ pub fn process_ended(pid: u32) -> bool {
         && !Path::new("/proc").join(pid.to_string()).exists()
 }
 
+/// Who process `pid` is beyond its number, as `<boot id>/<start time>`: the id of this
+/// boot of the machine and the clock tick after boot at which the process started
+/// (Linux `/proc/<pid>/stat`, field 22). A number the system has since given to a later
+/// process comes with another identity. `None` where `/proc` does not tell.
+pub fn process_identity(pid: u32) -> Option<String> {
+    let stat = std::fs::read_to_string(format!("/proc/{pid}/stat")).ok()?;
+    // Field 2, the command name, is in parentheses and may itself hold spaces or
+    // parentheses; the fields after the last `)` start at field 3.
+    let after = stat.get(stat.rfind(')')? + 1..)?;
+    let start = after.split_whitespace().nth(22 - 3)?;
+    let boot = std::fs::read_to_string("/proc/sys/kernel/random/boot_id").ok()?;
+    Some(format!("{}/{start}", boot.trim()))
+}
+
 /// Removes the temporary files that killed candor runs left in `folder`, and returns
 /// one sentence per file removed or left (when its writer may still be running).
 pub fn sweep_leftovers(folder: &Path) -> Vec<String> {
