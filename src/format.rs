@@ -95,6 +95,21 @@ pub fn percent(rate: f64, decimals: usize) -> String {
     text
 }
 
+/// The period of a periodic clock with `per_year` periods a year, as it follows a rate:
+/// "a month" for 12. `None` for a yearly clock (the annual rate says it all) and for
+/// dated flows.
+pub fn per_period(per_year: Option<u32>) -> Option<&'static str> {
+    Some(match per_year? {
+        1 => return None,
+        2 => "a half-year",
+        4 => "a quarter",
+        12 => "a month",
+        52 => "a week",
+        365 => "a day",
+        _ => "a period",
+    })
+}
+
 /// `decimals`, or more when a rate above -100% would round to -100% at `decimals`
 /// places (a hurdle of -99.9999% is not a total loss): the fewest places, up to 15,
 /// at which it prints above -100%.

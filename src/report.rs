@@ -645,12 +645,44 @@ fn balance_rows(rows: &[BalanceRow], flows: &[FlowRow]) -> Vec<BalanceRowView> {
         .collect()
 }
 
+/// A certified interval as the memo shows it: the lower end rounded down and the upper
+/// end up at `decimals` places of a percent, so that the interval shown still contains
+/// the root (rounding each end to nearest could cut the root off). A lower end just
+/// above -100% gets more places rather than round onto -100%.
+fn format_interval(lo: f64, hi: f64, decimals: usize) -> String {
+    let outward = |rate: f64, up: bool| -> (f64, usize) {
+        if !rate.is_finite() || (rate * 100.0).abs() >= crate::format::FULL_DIGITS_LIMIT {
+            return (rate, decimals);
+        }
+        let mut places = crate::format::places_short_of_minus_100(rate, decimals);
+        loop {
+            let scale = 10f64.powi(places as i32);
+            let p = rate * 100.0 * scale;
+            // Nudged past the product's own rounding error before the rounding.
+            let shown = if up {
+                (p + p.abs() * 1e-15).ceil()
+            } else {
+                (p - p.abs() * 1e-15).floor()
+            } / scale
+                / 100.0;
+            if shown > -1.0 || rate <= -1.0 || places >= 15 {
+                return (shown, places);
+            }
+            places += 1;
+        }
+    };
+    let (lo, lo_places) = outward(lo, false);
+    let (hi, hi_places) = outward(hi, true);
+    let places = lo_places.max(hi_places);
+    format!("{} to {}", format_rate(lo, places), format_rate(hi, places))
+}
+
 fn root_view(
     number: usize,
     root: &Root,
     decimals: usize,
     flows: &[FlowRow],
-    periodic: bool,
+    period: Option<&str>,
 ) -> RootView {
     let all = balance_rows(&root.balance_path, flows);
     let total_rows = all.len();
@@ -665,18 +697,13 @@ fn root_view(
     RootView {
         number,
         rate: format_root(root, decimals),
-        periodic_rate: if periodic {
-            root.periodic_rate.map(|r| format_rate(r, decimals + 2))
-        } else {
-            None
-        },
+        periodic_rate: period.and_then(|word| {
+            root.periodic_rate
+                .map(|r| format!("{} {word}", format_rate(r, decimals + 2)))
+        }),
         multiplicity: multiplicity_word(root.multiplicity),
         interval: match root.interval {
-            Some([lo, hi]) => format!(
-                "{} to {}",
-                format_rate(lo, interval_decimals),
-                format_rate(hi, interval_decimals)
-            ),
+            Some([lo, hi]) => format_interval(lo, hi, interval_decimals),
             None => format!(
                 "1 + rate between 10^{:.6} and 10^{:.6}",
                 root.log10_interval[0], root.log10_interval[1]
@@ -709,13 +736,13 @@ fn scenario_view(
     charts: Option<&ScenarioCharts>,
 ) -> ScenarioView {
     let decimals = scenario_rate_decimals(s);
-    let periodic = s.periods_per_year.is_some_and(|m| m != 1);
+    let period = crate::format::per_period(s.periods_per_year);
     let roots: Vec<RootView> = s
         .irr
         .roots
         .iter()
         .enumerate()
-        .map(|(i, r)| root_view(i + 1, r, decimals, &s.flows, periodic))
+        .map(|(i, r)| root_view(i + 1, r, decimals, &s.flows, period))
         .collect();
     let irr_summary = if s.irr.roots.is_empty() {
         "none".to_string()
@@ -906,6 +933,25 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_certified_interval_is_shown_rounded_outwards() {
+        // Common practice for intervals that must contain a value: round the lower end
+        // down and the upper end up. To the nearest, these ends would both show 12.34568%
+        // and cut off a root at 12.345679%.
+        let shown = format_interval(0.123_456_789, 0.123_456_791, 5);
+        assert_eq!(shown, "12.34567% to 12.34568%");
+        // Narrower than the last place: the ends still differ by one unit.
+        let shown = format_interval(0.074_107_504_1, 0.074_107_504_2, 5);
+        assert_eq!(shown, "7.41075% to 7.41076%");
+        // Negative rates: down is away from zero.
+        let shown = format_interval(-0.456_842_11, -0.456_842_09, 5);
+        assert_eq!(shown, format!("{MINUS}45.68422% to {MINUS}45.68420%"));
+        // Just above -100%: more places rather than a lower end of -100%.
+        let shown = format_interval(-0.999_999_999_95, -0.999_999_999_9, 5);
+        assert!(!shown.starts_with(&format!("{MINUS}100.0")), "{shown}");
+        assert!(shown.starts_with(&format!("{MINUS}99.99999999")), "{shown}");
+    }
 
     /// Every character with a meaning in Typst markup (Typst reference, "Syntax":
     /// markup mode, plus the shorthands `~`, `--`, `---`, `...`, `-?` and smart quotes).

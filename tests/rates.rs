@@ -196,3 +196,31 @@ fn batch_screening_keeps_going_past_bad_lines() {
         .collect();
     assert!(close(r[0], 0.25, 1e-12) && close(r[1], 4.0, 1e-11), "{r:?}");
 }
+
+/// The terminal report of every example deal, kept as a snapshot: what an analyst reads
+/// first (user-facing text; a change to it is reviewed with `cargo insta review`).
+/// The figures themselves are checked against outside sources in the tests above and
+/// in the cross-check; this test keeps their wording and layout from drifting.
+#[test]
+fn terminal_report_of_every_example_deal() {
+    let mut deals: Vec<String> = std::fs::read_dir("example-deals")
+        .unwrap()
+        .filter_map(Result::ok)
+        .map(|e| e.file_name().to_string_lossy().into_owned())
+        .filter(|n| n.ends_with(".yaml"))
+        .collect();
+    deals.sort();
+    assert!(deals.len() >= 5, "{deals:?}");
+    for name in deals {
+        let rel = format!("example-deals/{name}");
+        let out = candor().args(["rates", &rel]).output().unwrap();
+        let stdout = String::from_utf8(out.stdout).unwrap();
+        assert!(
+            out.status.success(),
+            "{name}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let stem = name.trim_end_matches(".yaml");
+        insta::assert_snapshot!(format!("terminal__{stem}"), stdout);
+    }
+}

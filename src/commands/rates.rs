@@ -5,7 +5,7 @@ use super::load::load_deal;
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::RatesArgs;
 use crate::engine::{self, Analysis, ScenarioAnalysis};
-use crate::format::{decimals_to_separate, npv_in, percent, ratio};
+use crate::format::{decimals_to_separate, npv_in, per_period, percent, ratio};
 use std::fmt::Write as _;
 use std::io::Write as _;
 
@@ -106,21 +106,21 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     let places = decimals_to_separate(&annual).max(4);
     for r in &irr.roots {
         let rate = match r.annual_rate {
-            Some(x) => percent(x, places),
-            None => format!("1e{:.1}", r.log10_annual_growth),
+            Some(x) => format!("{} a year", percent(x, places)),
+            None => format!("growth of 10^{:.1} a year", r.log10_annual_growth),
         };
         let mult = if r.multiplicity > 1 {
             format!(" (multiplicity {})", r.multiplicity)
         } else {
             String::new()
         };
-        let periodic = r
-            .periodic_rate
-            .map(|p| format!(", {} a period", percent(p, places)))
+        let periodic = per_period(s.periods_per_year)
+            .zip(r.periodic_rate)
+            .map(|(word, p)| format!(" ({} {word})", percent(p, places)))
             .unwrap_or_default();
         let _ = writeln!(
             o,
-            "    {rate:>12}{mult}{periodic}: {}, {} -> {}",
+            "    {rate:>19}{periodic}{mult}: {}, {} -> {}",
             r.balance_kind.label(),
             r.stance.label(),
             r.decision.label()
