@@ -934,6 +934,31 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
 mod tests {
     use super::*;
 
+    proptest::proptest! {
+        /// Whatever the rates and places, the interval shown contains the interval given
+        /// (read back from the text: the lower end at or below, the upper at or above).
+        #[test]
+        fn a_shown_interval_contains_the_certified_one(
+            lo in -0.999_999_9f64..50.0,
+            width in 0.0f64..1e-3,
+            decimals in 2usize..10,
+        ) {
+            let hi = lo + width * (1.0 + lo.abs());
+            let shown = format_interval(lo, hi, decimals);
+            let (a, b) = shown.split_once(" to ").expect("two ends");
+            let read = |t: &str| -> f64 {
+                t.trim_end_matches('%')
+                    .replace(MINUS, "-")
+                    .replace(',', "")
+                    .parse()
+                    .expect("a number")
+            };
+            proptest::prop_assert!(read(a) <= lo * 100.0, "{shown} for [{lo}, {hi}]");
+            proptest::prop_assert!(read(b) >= hi * 100.0, "{shown} for [{lo}, {hi}]");
+            proptest::prop_assert!(read(a) > -100.0, "{shown} for [{lo}, {hi}]");
+        }
+    }
+
     #[test]
     fn a_certified_interval_is_shown_rounded_outwards() {
         // Common practice for intervals that must contain a value: round the lower end
