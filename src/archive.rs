@@ -440,9 +440,13 @@ impl ArchiveLock {
                         && started.elapsed() < LOCK_WAIT =>
                 {
                     if let Some(folder) = path.parent() {
-                        let _ = std::fs::create_dir_all(folder);
+                        std::fs::create_dir_all(folder).map_err(|e| {
+                            archive_error(
+                                format!("cannot create the archive folder: {}", io_words(&e)),
+                                folder,
+                            )
+                        })?;
                     }
-                    std::thread::sleep(std::time::Duration::from_millis(1));
                 }
                 Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => {
                     if let Some(pid) = dead_owner(path) {
