@@ -313,6 +313,16 @@ struct Failing {
     kind: ErrorKind,
 }
 
+impl Failing {
+    fn new(after: usize, kind: ErrorKind) -> Failing {
+        Failing {
+            after,
+            written: 0,
+            kind,
+        }
+    }
+}
+
 impl Sink for Failing {
     fn put(&mut self, file: &mut std::fs::File, bytes: &[u8]) -> std::io::Result<()> {
         let room = self.after.saturating_sub(self.written);
@@ -351,11 +361,7 @@ fn a_read_only_folder_refuses_the_memo_and_keeps_the_earlier_one() {
             std::fs::set_permissions(&out_dir, std::fs::Permissions::from_mode(0o755)).unwrap();
             // No other user to run as: the refusal is injected at the write itself.
             eprintln!("read-only folder: running as root without setpriv, so injected");
-            let mut sink = Failing {
-                after: 0,
-                written: 0,
-                kind: ErrorKind::PermissionDenied,
-            };
+            let mut sink = Failing::new(0, ErrorKind::PermissionDenied);
             let f = write_memo(&out, b"%PDF-new", &mut sink).unwrap_err();
             let shown = f.diagnostic.render(None);
             assert_eq!(f.code, 2);
@@ -416,11 +422,7 @@ fn a_full_disk_is_reported_and_the_earlier_memo_kept_injected() {
     // The writer does not look at the bytes; a memo-sized block stands in for a memo.
     let new = vec![b'%'; before.len() + 1000];
     for after in [0, 1, 4096, before.len(), new.len() - 1] {
-        let mut sink = Failing {
-            after,
-            written: 0,
-            kind: ErrorKind::StorageFull,
-        };
+        let mut sink = Failing::new(after, ErrorKind::StorageFull);
         let f = write_memo(&out, &new, &mut sink).unwrap_err();
         let shown = f.diagnostic.render(None);
         assert_eq!(f.code, 2, "after {after} bytes");
@@ -438,14 +440,53 @@ fn a_full_disk_is_reported_and_the_earlier_memo_kept_injected() {
         assert_eq!(names(dir.path()), listing, "no temporary file is left");
     }
     // The same writer with room enough writes the file whole.
-    let mut sink = Failing {
-        after: usize::MAX,
-        written: 0,
-        kind: ErrorKind::StorageFull,
-    };
+    let mut sink = Failing::new(usize::MAX, ErrorKind::StorageFull);
     write_memo(&out, &new, &mut sink).unwrap();
     assert_eq!(std::fs::read(&out).unwrap(), new);
     assert_eq!(names(dir.path()), listing);
+}
+
+/// What a filing needs besides the archive, loaded from a deal file once: the test
+/// then files it through a sink of its own. The archive does not read the PDF; a short
+/// stand-in keeps the tests quick.
+struct FilingInputs {
+    loaded: candor::commands::load::LoadedDeal,
+    analysis: candor::engine::Analysis,
+    templates: BTreeMap<String, String>,
+    pdf: Vec<u8>,
+    created: chrono::NaiveDateTime,
+}
+
+impl FilingInputs {
+    fn load(deal: &Path) -> FilingInputs {
+        let loaded = load_deal(deal).map_err(|f| f.diagnostics).unwrap();
+        let analysis = candor::engine::analyse(&loaded.deal);
+        FilingInputs {
+            loaded,
+            analysis,
+            templates: BTreeMap::new(),
+            pdf: b"%PDF-1.7 stand-in".to_vec(),
+            created: chrono::DateTime::from_timestamp(1798675200, 0)
+                .unwrap()
+                .naive_utc(),
+        }
+    }
+
+    /// The filing of these inputs after version `previous` (`None`: the first).
+    fn filing<'a>(&'a self, previous: Option<&'a str>) -> Filing<'a> {
+        Filing {
+            deal: &self.loaded.deal,
+            deal_file_name: "ferrow.yaml",
+            source: &self.loaded.source,
+            companions: &self.loaded.companions,
+            templates: &self.templates,
+            analysis: &self.analysis,
+            pdf: &self.pdf,
+            memo_created: self.created,
+            filed_at: self.created,
+            previous,
+        }
+    }
 }
 
 #[test]
@@ -455,29 +496,12 @@ fn a_full_disk_while_filing_leaves_the_archive_as_it_was_injected() {
     file_first_version(&deal, &archive);
     revise(&deal);
     let before = tree(&archive);
-    let loaded = load_deal(&deal).map_err(|f| f.diagnostics).unwrap();
-    let analysis = candor::engine::analyse(&loaded.deal);
-    let created = chrono::DateTime::from_timestamp(1798675200, 0)
-        .unwrap()
-        .naive_utc();
-    let templates = BTreeMap::new();
-    // The archive does not read the PDF; a short stand-in keeps the test quick.
-    let pdf = b"%PDF-1.7 stand-in".to_vec();
-    let filing = Filing {
-        deal: &loaded.deal,
-        deal_file_name: "ferrow.yaml",
-        source: &loaded.source,
-        companions: &loaded.companions,
-        templates: &templates,
-        analysis: &analysis,
-        pdf: &pdf,
-        memo_created: created,
-        filed_at: created,
-        previous: Some("001"),
-    };
+    let inputs = FilingInputs::load(&deal);
+    let filing = inputs.filing(Some("001"));
+    let pdf = &inputs.pdf;
     // Fails in the deal file, the analysis, the PDF and the manifest in turn.
-    let analysis_len = serde_json::to_vec_pretty(&analysis).unwrap().len();
-    let deal_len = loaded.source.len();
+    let analysis_len = serde_json::to_vec_pretty(&inputs.analysis).unwrap().len();
+    let deal_len = inputs.loaded.source.len();
     for after in [
         0,
         deal_len / 2,
@@ -485,11 +509,7 @@ fn a_full_disk_while_filing_leaves_the_archive_as_it_was_injected() {
         deal_len + analysis_len + 3,
         deal_len + analysis_len + pdf.len() + 40,
     ] {
-        let mut sink = Failing {
-            after,
-            written: 0,
-            kind: ErrorKind::StorageFull,
-        };
+        let mut sink = Failing::new(after, ErrorKind::StorageFull);
         let d = archive::file_with(&archive, &filing, &mut sink).unwrap_err();
         let shown = d.render(None);
         assert!(shown.contains("the disk is full"), "{shown}");
@@ -521,32 +541,11 @@ fn a_full_disk_on_a_first_filing_leaves_no_empty_deal_folder() {
     let (dir, deal) = deal_folder();
     let archive = dir.path().join("archive");
     std::fs::create_dir(&archive).unwrap();
-    let loaded = load_deal(&deal).map_err(|f| f.diagnostics).unwrap();
-    let analysis = candor::engine::analyse(&loaded.deal);
-    let created = chrono::DateTime::from_timestamp(1798675200, 0)
-        .unwrap()
-        .naive_utc();
-    let templates = BTreeMap::new();
-    let pdf = b"%PDF-1.7 stand-in".to_vec();
-    let filing = Filing {
-        deal: &loaded.deal,
-        deal_file_name: "ferrow.yaml",
-        source: &loaded.source,
-        companions: &loaded.companions,
-        templates: &templates,
-        analysis: &analysis,
-        pdf: &pdf,
-        memo_created: created,
-        filed_at: created,
-        previous: None,
-    };
+    let inputs = FilingInputs::load(&deal);
+    let filing = inputs.filing(None);
     // Fails at once, and in the middle of the deal file.
-    for after in [0, loaded.source.len() / 2] {
-        let mut sink = Failing {
-            after,
-            written: 0,
-            kind: ErrorKind::StorageFull,
-        };
+    for after in [0, inputs.loaded.source.len() / 2] {
+        let mut sink = Failing::new(after, ErrorKind::StorageFull);
         let d = archive::file_with(&archive, &filing, &mut sink).unwrap_err();
         let shown = d.render(None);
         assert!(shown.contains("of version 001"), "{shown}");
@@ -559,11 +558,7 @@ fn a_full_disk_on_a_first_filing_leaves_no_empty_deal_folder() {
     }
     // A deal folder that was there before the failed filing stays.
     std::fs::create_dir(archive.join(SLUG)).unwrap();
-    let mut sink = Failing {
-        after: 0,
-        written: 0,
-        kind: ErrorKind::StorageFull,
-    };
+    let mut sink = Failing::new(0, ErrorKind::StorageFull);
     archive::file_with(&archive, &filing, &mut sink).unwrap_err();
     assert_eq!(names(&archive), [SLUG]);
     std::fs::remove_dir(archive.join(SLUG)).unwrap();
