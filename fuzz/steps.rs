@@ -67,7 +67,7 @@ pub fn pipeline(data: &[u8]) -> PipelineOutcome {
     };
     let ctx = candor::report::MemoContext {
         source_name: "deal.yaml".to_string(),
-        source_sha256: candor::commands::memo::sha256_hex(text.as_bytes()),
+        source_sha256: candor::memo::sha256_hex(text.as_bytes()),
         // As `candor memo` without SOURCE_DATE_EPOCH: midnight of the deal's as-of date.
         created: candor::pdf::creation_time(deal.as_of, None).unwrap_or_default(),
         charts,

@@ -6,10 +6,6 @@
 //! white print stays readable; the colours are the Okabe–Ito palette, which was
 //! designed to stay distinct under the common colour-vision deficiencies.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
-#![allow(clippy::result_large_err)]
-
 use crate::diag::Diagnostic;
 use crate::engine::{Analysis, FlowRow, ScenarioAnalysis};
 use crate::report::{format_rate, MINUS};

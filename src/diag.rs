@@ -191,6 +191,94 @@ pub fn has_errors(diags: &[Diagnostic]) -> bool {
     diags.iter().any(|d| d.severity == Severity::Error)
 }
 
+/// Whose fault a failure is, which decides the exit code.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FailureClass {
+    /// The input (a deal, a house style, an option, the environment) is at fault, or a
+    /// verification found a problem: exit code 1.
+    Invalid,
+    /// candor itself, or the system under it, failed: exit code 2.
+    Internal,
+}
+
+impl FailureClass {
+    /// The exit code of a run that ends with this failure.
+    pub fn exit_code(self) -> u8 {
+        match self {
+            FailureClass::Invalid => 1,
+            FailureClass::Internal => 2,
+        }
+    }
+}
+
+/// Why a run could not finish: every diagnostic, the text of each file they point
+/// into (so that each is shown under its own file's line), and the exit class. The
+/// one failure type of the library; commands render it with [`Failure::render`].
+#[derive(Debug, Clone)]
+pub struct Failure {
+    /// The problems found, all at once.
+    pub diagnostics: Vec<Diagnostic>,
+    /// Text of the files named by the diagnostics, by the name they carry in `file`.
+    pub sources: Vec<(String, String)>,
+    /// Whose fault it is.
+    pub class: FailureClass,
+}
+
+impl Failure {
+    /// A failure caused by the input, with one diagnostic.
+    pub fn invalid(diagnostic: Diagnostic) -> Self {
+        Self::many(vec![diagnostic], FailureClass::Invalid)
+    }
+
+    /// A failure of candor or the system, with one diagnostic.
+    pub fn internal(diagnostic: Diagnostic) -> Self {
+        Self::many(vec![diagnostic], FailureClass::Internal)
+    }
+
+    /// A failure with several diagnostics.
+    pub fn many(diagnostics: Vec<Diagnostic>, class: FailureClass) -> Self {
+        Self {
+            diagnostics,
+            sources: Vec::new(),
+            class,
+        }
+    }
+
+    /// Keeps the text of `file` for showing source lines (the name as in
+    /// [`Diagnostic::file`]).
+    pub fn with_source(mut self, file: impl Into<String>, text: impl Into<String>) -> Self {
+        let file = file.into();
+        if !self.sources.iter().any(|(f, _)| *f == file) {
+            self.sources.push((file, text.into()));
+        }
+        self
+    }
+
+    /// The text kept for `file`, if any.
+    pub fn source_of(&self, file: Option<&str>) -> Option<&str> {
+        let file = file?;
+        self.sources
+            .iter()
+            .find(|(f, _)| f == file)
+            .map(|(_, t)| t.as_str())
+    }
+
+    /// The exit code of a run that ends with this failure.
+    pub fn exit_code(&self) -> u8 {
+        self.class.exit_code()
+    }
+
+    /// Every diagnostic for a person, one block each, separated by blank lines; each
+    /// shows the line of the file it names.
+    pub fn render(&self) -> String {
+        self.diagnostics
+            .iter()
+            .map(|d| d.render(self.source_of(d.file.as_deref())))
+            .collect::<Vec<_>>()
+            .join("\n\n")
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -228,6 +316,28 @@ mod tests {
         // A column past the end of the line still lands one cell per column.
         assert_eq!(display_width_before("\u{6771}", 3), 3);
         assert_eq!(display_width_before("ab", 1), 0);
+    }
+
+    #[test]
+    fn each_diagnostic_is_shown_under_its_own_files_line() {
+        let f = Failure::many(
+            vec![
+                Diagnostic::error("a", "in the deal")
+                    .in_file("d.yaml")
+                    .at(2, 1),
+                Diagnostic::error("b", "in the csv")
+                    .in_file("f.csv")
+                    .at(1, 3),
+            ],
+            FailureClass::Invalid,
+        )
+        .with_source("d.yaml", "one\ntwo\n")
+        .with_source("f.csv", "date,amount\n");
+        let text = f.render();
+        assert!(text.contains(" 2 | two"), "{text}");
+        assert!(text.contains(" 1 | date,amount"), "{text}");
+        assert!(!text.contains("| one"), "{text}");
+        assert_eq!(f.exit_code(), 1);
     }
 
     #[test]

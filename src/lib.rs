@@ -2,20 +2,27 @@
 //! rate of return of its cash flows, with a certified count.
 //!
 //! The pipeline, one module per stage, each a plain function from one owned type to the
-//! next (nothing reaches back to an earlier stage):
+//! next. Every module only uses the modules above it in this table (a test reads the
+//! sources and holds the library to it):
 //!
-//! | stage | entry point | output |
-//! | --- | --- | --- |
-//! | [`input`] | [`input::parse`] | [`input::RawDeal`]: the YAML as written, with positions |
-//! | [`model`] | [`model::validate`] | [`model::Deal`]: exact money, resolved flows per scenario |
-//! | [`engine`] | [`engine::analyse`] | [`engine::Analysis`]: roots, figures, cautions (plain data) |
-//! | [`chart`] | [`chart::render`] | SVG strings |
-//! | [`report`] | [`report::render`] | Typst markup |
-//! | [`pdf`] | [`pdf::typeset`] | PDF/A-3b bytes with the deal file attached |
-//! | [`archive`] | [`archive::file`] | a filed version: PDF, inputs, figures, manifest ([`diff`] compares two) |
+//! | layer | module | entry point | output |
+//! | --- | --- | --- | --- |
+//! | diagnostics | [`diag`] | [`diag::Diagnostic`], [`diag::Failure`] | problems, with their files' text and exit class |
+//! | input | [`input`] | [`input::parse`] | [`input::RawDeal`]: the YAML as written, with positions |
+//! | model | [`model`] | [`model::validate`] | [`model::Deal`]: exact money, resolved flows per scenario |
+//! | engine | [`engine`] | [`engine::analyse`] | [`engine::Analysis`]: roots, figures, cautions (plain data) |
+//! | engine | [`screen`] | [`screen::screen_stream`] | `rates --batch`: one JSON line per series |
+//! | presentation | [`format`], [`chart`], [`diff`] | [`chart::render`], [`diff::diff`] | words and numbers, SVG charts, differences |
+//! | markup | [`report`] | [`report::render`] | Typst markup |
+//! | typesetting | [`pdf`] | [`pdf::typeset`] | PDF/A-3b bytes with the deal file attached |
+//! | files | [`files`] | [`files::load::load_deal`], [`files::output::write_output`] | a deal read from disk; output written atomically |
+//! | building | [`memo`], [`pack`] | [`memo::build_memo`], [`pack::build`] | a memo, a pack of memos |
+//! | archive | [`archive`] | [`archive::file_memo`], [`archive::verify`] | filed versions, and their verification |
+//! | commands | [`cli`], [`commands`] | [`cli::run`] | arguments parsed, the library called, the outcome printed, an exit code |
 //!
-//! [`diag`] holds the one diagnostic type every stage reports problems with. Only the
-//! command-line layer ([`cli`], [`commands`]) touches the file system for user paths.
+//! [`files`] is the one module that reads and writes user paths; [`memo`], [`pack`]
+//! and [`archive`] go through it, and [`commands`] calls them. Nothing in the library
+//! names [`commands`] or [`cli`].
 
 pub mod archive;
 pub mod chart;
@@ -24,9 +31,12 @@ pub mod commands;
 pub mod diag;
 pub mod diff;
 pub mod engine;
+pub mod files;
 pub mod format;
 pub mod input;
+pub mod memo;
 pub mod model;
+pub mod pack;
 pub mod pdf;
 pub mod report;
 pub mod schema;

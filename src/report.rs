@@ -7,10 +7,6 @@
 //! prints unless the value was produced by one of our own filters, which build Typst
 //! string literals or escaped text themselves.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
-#![allow(clippy::result_large_err)]
-
 use crate::chart::{ChartKind, ScenarioCharts};
 use crate::diag::Diagnostic;
 use crate::engine::{
@@ -243,7 +239,7 @@ pub const MINUS: char = '\u{2212}';
 fn group_thousands(digits: &str) -> String {
     let mut out = String::with_capacity(digits.len() + digits.len() / 3);
     for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i) % 3 == 0 {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
             out.push(',');
         }
         out.push(c);

@@ -5,7 +5,7 @@
 //! Hashes are checked against coreutils `sha256sum`, an independent implementation, and
 //! the hash function itself against the FIPS 180-2 example.
 
-use candor::commands::memo::sha256_hex;
+use candor::memo::sha256_hex;
 use serde_json::Value;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};

@@ -318,3 +318,31 @@ fn columns_count_characters_on_lines_with_non_ascii_text() {
     assert_eq!(d["position"]["line"], 2);
     assert_eq!(d["position"]["column"], 48);
 }
+
+/// A mistake in a deal's CSV file is shown under the CSV's own line by every command
+/// that reads deals, not under the deal file's line of the same number.
+#[test]
+fn a_csv_mistake_shows_the_csv_line_in_every_command() {
+    let deal = "tests/fixtures/malformed/csv-format--text-amount.yaml";
+    let dir = tempfile::tempdir().expect("tempdir");
+    let out = dir.path().join("out.pdf");
+    let out = out.to_string_lossy();
+    let runs: [Vec<&str>; 4] = [
+        vec!["rates", deal],
+        vec!["memo", deal, "-o", &out],
+        vec!["pack", deal, "-o", &out],
+        vec!["diff", deal, deal],
+    ];
+    for args in runs {
+        let run = candor(&args);
+        let err = text(&run.stderr);
+        assert_eq!(run.status.code(), Some(1), "{args:?}: {err}");
+        assert!(
+            err.contains("--> tests/fixtures/malformed/text-amount.csv:3:3"),
+            "{args:?}: {err}"
+        );
+        assert!(err.contains(" 3 | 1,six hundred,"), "{args:?}: {err}");
+        // Line 3 of the deal file is `name: Fixture deal`; it must not be shown.
+        assert!(!err.contains("Fixture deal"), "{args:?}: {err}");
+    }
+}

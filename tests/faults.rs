@@ -12,9 +12,9 @@
 //! cannot be caught), not from candor's own output.
 
 use candor::archive::{self, Filing};
-use candor::commands::load::load_deal;
-use candor::commands::memo::write_memo;
-use candor::commands::output::{Sink, PAUSE_HOOK};
+use candor::files::load::load_deal;
+use candor::files::output::{Sink, PAUSE_HOOK};
+use candor::memo::write_memo;
 use std::collections::BTreeMap;
 use std::io::{ErrorKind, Write as _};
 use std::path::{Path, PathBuf};
@@ -363,8 +363,8 @@ fn a_read_only_folder_refuses_the_memo_and_keeps_the_earlier_one() {
             eprintln!("read-only folder: running as root without setpriv, so injected");
             let mut sink = Failing::new(0, ErrorKind::PermissionDenied);
             let f = write_memo(&out, b"%PDF-new", &mut sink).unwrap_err();
-            let shown = f.diagnostic.render(None);
-            assert_eq!(f.code, 2);
+            let shown = f.render();
+            assert_eq!(f.exit_code(), 2);
             assert!(
                 shown.contains("cannot write the memo: permission denied"),
                 "{shown}"
@@ -424,8 +424,8 @@ fn a_full_disk_is_reported_and_the_earlier_memo_kept_injected() {
     for after in [0, 1, 4096, before.len(), new.len() - 1] {
         let mut sink = Failing::new(after, ErrorKind::StorageFull);
         let f = write_memo(&out, &new, &mut sink).unwrap_err();
-        let shown = f.diagnostic.render(None);
-        assert_eq!(f.code, 2, "after {after} bytes");
+        let shown = f.render();
+        assert_eq!(f.exit_code(), 2, "after {after} bytes");
         assert!(
             shown.contains("cannot write the memo: the disk is full"),
             "{shown}"
@@ -450,7 +450,7 @@ fn a_full_disk_is_reported_and_the_earlier_memo_kept_injected() {
 /// then files it through a sink of its own. The archive does not read the PDF; a short
 /// stand-in keeps the tests quick.
 struct FilingInputs {
-    loaded: candor::commands::load::LoadedDeal,
+    loaded: candor::files::load::LoadedDeal,
     analysis: candor::engine::Analysis,
     templates: BTreeMap<String, String>,
     pdf: Vec<u8>,
@@ -780,7 +780,7 @@ fn a_filing_killed_mid_write_leaves_the_archive_intact_and_the_next_run_recovers
     assert_eq!(left[1], ".lock");
     assert_eq!(left[2], "001", "no version 002 is visible");
     let lock = std::fs::read_to_string(deal_dir.join(".lock")).unwrap();
-    assert!(lock.starts_with(&format!("{pid} ")), "{lock}");
+    assert_eq!(lock.trim(), pid.to_string(), "the lock names its holder");
     // The half-built folder is no version: the archive still verifies.
     verify_ok(&archive, 1);
 

@@ -169,7 +169,11 @@ fn npv_to_the_cent_at_ten_to_the_fifteen_against_exact_rationals() {
         // Whole units below 10^15 and a micro-unit part from the same draw.
         let units = i128::from(seed % 1_000_000_000_000_000);
         let micros = i128::from((seed >> 20) % 1_000_000);
-        let sign = if k == 0 || seed % 3 == 0 { -1 } else { 1 };
+        let sign = if k == 0 || seed.is_multiple_of(3) {
+            -1
+        } else {
+            1
+        };
         let amount = Decimal::from_i128_with_scale(sign * (units * 1_000_000 + micros), 6);
         amounts.push(amount.normalize());
     }

@@ -4,13 +4,11 @@
 //! The PDF checks use poppler-utils (`pdftotext`, `pdffonts`, `pdfdetach`, `pdfinfo`)
 //! and `qpdf`, independent readers of the files we write.
 
-use candor::commands::memo::{
-    build_memo, build_memo_with_changes, sha256_hex, MemoInputs, MemoOutput,
-};
 use candor::engine::{
     Analysis, BalanceKind, BalanceRow, Caution, Decision, FlowRow, Flows, IrrReport, Payback,
     ProfilePoint, Root, ScenarioAnalysis, SignBounds, Stance, Totals,
 };
+use candor::memo::{build_memo, build_memo_with_changes, sha256_hex, MemoInputs, MemoOutput};
 use candor::model::{
     Clock, Deal, Frequency, Memo, MemoSection, Rates, Scenario, Signoff, SignoffDecision,
 };
@@ -215,7 +213,7 @@ fn memo_of(analysis: &Analysis, deal: &Deal) -> MemoOutput {
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
         },
     )
-    .unwrap_or_else(|f| panic!("memo failed: {}", f.diagnostic))
+    .unwrap_or_else(|f| panic!("memo failed: {}", f.render()))
 }
 
 fn tool(name: &str, args: &[&str]) -> String {
@@ -467,7 +465,7 @@ fn every_example_deal_builds_a_memo() {
     assert!(!deals.is_empty());
     let dir = tempfile::tempdir().expect("tempdir");
     for path in deals {
-        let loaded = candor::commands::load::load_deal(&path)
+        let loaded = candor::files::load::load_deal(&path)
             .unwrap_or_else(|f| panic!("{}: {:?}", path.display(), f.diagnostics));
         let analysis = candor::engine::analyse(&loaded.deal);
         let name = path
@@ -485,7 +483,7 @@ fn every_example_deal_builds_a_memo() {
                 created: loaded.deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
             },
         )
-        .unwrap_or_else(|f| panic!("{name}: {}", f.diagnostic));
+        .unwrap_or_else(|f| panic!("{name}: {}", f.render()));
         let pdf = write_pdf(dir.path(), &format!("{name}.pdf"), &memo.pdf);
         let text = normalise(&tool("pdftotext", &["-enc", "UTF-8", &pdf, "-"]));
         for s in &analysis.scenarios {
@@ -544,7 +542,7 @@ fn changes_since_a_version_print_literally() {
         },
         Some(changes),
     )
-    .unwrap_or_else(|f| panic!("memo failed: {}", f.diagnostic));
+    .unwrap_or_else(|f| panic!("memo failed: {}", f.render()));
     assert!(!memo.markup.contains(HOSTILE), "unescaped in the markup");
     let dir = tempfile::tempdir().expect("tempdir");
     let pdf = write_pdf(dir.path(), "memo.pdf", &memo.pdf);

@@ -15,8 +15,8 @@
 //! markup property, which needs no typesetting, runs 256.
 
 use candor::chart;
-use candor::commands::memo::{build_memo, sha256_hex, MemoInputs};
 use candor::engine::{self, Analysis, ScenarioAnalysis};
+use candor::memo::{build_memo, sha256_hex, MemoInputs};
 use candor::model::Deal;
 use candor::report::{self, MemoContext};
 use proptest::prelude::*;
@@ -253,7 +253,7 @@ proptest! {
                 .expect("time"),
         };
         let memo = build_memo(&analysis, &deal, inputs)
-            .map_err(|f| f.diagnostic.message)
+            .map_err(|f| f.render())
             .expect("the memo is made");
         let text = pdf_text(&memo.pdf);
         for figure in expected_figures(s) {

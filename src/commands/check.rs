@@ -3,10 +3,10 @@
 //! Exit codes: 0 when every file is valid, 1 when any file is invalid or cannot be
 //! read (a problem with the input), 2 when candor cannot write its report.
 
-use super::load::{load_deal, LoadFailure};
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::CheckArgs;
 use crate::diag::Diagnostic;
+use crate::files::load::load_deal;
 use serde::Serialize;
 use std::io::Write;
 
@@ -22,25 +22,6 @@ struct FileReport {
     #[serde(skip_serializing_if = "Option::is_none")]
     scenarios: Option<Vec<String>>,
     diagnostics: Vec<Diagnostic>,
-}
-
-/// Renders every diagnostic of a failed load for a person, one block each, separated
-/// by blank lines. Source lines come from the file each diagnostic names.
-pub fn render_failure(failure: &LoadFailure, deal_file: &str) -> String {
-    let mut blocks = Vec::with_capacity(failure.diagnostics.len());
-    for d in &failure.diagnostics {
-        let other;
-        let source = match d.file.as_deref() {
-            Some(f) if f != deal_file => {
-                // A CSV file's lines, read again only to show them.
-                other = std::fs::read(f).ok().map(|b| super::load::shown_text(&b));
-                other.as_deref()
-            }
-            _ => failure.source.as_deref(),
-        };
-        blocks.push(d.render(source));
-    }
-    blocks.join("\n\n")
 }
 
 /// Runs the command and returns its exit code.
@@ -71,7 +52,7 @@ pub fn run(args: &CheckArgs) -> u8 {
             }
             Err(failure) => {
                 let n = failure.diagnostics.len();
-                human_err.push_str(&render_failure(&failure, &shown));
+                human_err.push_str(&failure.render());
                 let plural = if n == 1 { "" } else { "s" };
                 human_err.push_str(&format!("\n\n{n} problem{plural} in {shown}\n\n"));
                 reports.push(FileReport {

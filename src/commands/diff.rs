@@ -1,15 +1,11 @@
 //! `candor diff`: load two deals (deal files or filed version folders), analyse both
 //! and print what changed ([`crate::diff`]).
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
-#![allow(clippy::result_large_err)]
-
-use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
+use super::{fail, EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::archive::{Manifest, MANIFEST};
 use crate::cli::DiffArgs;
-use crate::commands::load::{load_deal, LoadedDeal};
-use crate::diag::Diagnostic;
+use crate::diag::{Diagnostic, Failure};
+use crate::files::load::{load_deal, LoadedDeal};
 use std::io::Write as _;
 use std::path::{Path, PathBuf};
 
@@ -33,11 +29,11 @@ fn deal_file(path: &Path) -> Result<PathBuf, Diagnostic> {
 }
 
 fn load(path: &Path) -> Result<LoadedDeal, ()> {
-    let file = deal_file(path).map_err(|d| eprintln!("{}", d.render(None)))?;
+    let file = deal_file(path).map_err(|d| {
+        fail(&Failure::invalid(d));
+    })?;
     load_deal(&file).map_err(|failure| {
-        for d in &failure.diagnostics {
-            eprintln!("{}", d.render(failure.source.as_deref()));
-        }
+        fail(&failure);
     })
 }
 

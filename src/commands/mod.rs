@@ -1,18 +1,20 @@
-//! One module per subcommand. These are the only places that read and write user paths;
-//! each loads bytes, calls the library stages and prints or writes the result.
+//! The command layer, one module per subcommand: each turns its arguments into calls
+//! of the library, prints the outcome and chooses the exit code. No logic lives here
+//! that a library caller would need; failures arrive as [`crate::diag::Failure`] and
+//! are printed by [`fail`], the one place diagnostics are rendered for a person.
 
 pub mod check;
 pub mod completions;
 pub mod diff;
-pub mod load;
 pub mod memo;
 pub mod new;
-pub mod output;
 pub mod pack;
 pub mod rates;
 pub mod schema;
 pub mod verify;
 pub mod watch;
+
+use crate::diag::Failure;
 
 /// Exit code: everything held.
 pub const EXIT_OK: u8 = 0;
@@ -20,3 +22,9 @@ pub const EXIT_OK: u8 = 0;
 pub const EXIT_INVALID: u8 = 1;
 /// Exit code: candor itself failed (I/O, internal error).
 pub const EXIT_INTERNAL: u8 = 2;
+
+/// Prints a failure on standard error and returns its exit code.
+pub fn fail(failure: &Failure) -> u8 {
+    eprintln!("{}", failure.render());
+    failure.exit_code()
+}

@@ -199,7 +199,7 @@ pub fn run(args: &NewArgs) -> u8 {
         }
         Err(e) if e.kind() == std::io::ErrorKind::NotFound => {
             // The folder named in `-o` does not exist: a mistake in the input.
-            let folder = super::output::folder_of(&path);
+            let folder = crate::files::output::folder_of(&path);
             eprintln!(
                 "error: cannot write {shown}: its folder does not exist; create it first \
                  (`mkdir -p {}`) or choose another path with `-o FILE.yaml`",

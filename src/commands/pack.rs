@@ -1,229 +1,24 @@
-//! `candor pack`: the memos of several deals in one PDF for a committee meeting: a
-//! cover with a summary table of every deal, a linked table of contents, then each
-//! deal's memo, with continuous page numbers and every deal file attached.
-//!
-//! The deals are loaded, analysed and charted in parallel; the one document is then
-//! typeset once, so that page numbers and the contents run across all memos.
+//! `candor pack`: the memos of several deals in one PDF ([`crate::pack`]), written
+//! atomically.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
-#![allow(clippy::result_large_err)]
-
-use super::memo::sha256_hex;
-use super::output;
-use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
+use super::{fail, EXIT_OK};
 use crate::cli::PackArgs;
-use crate::commands::load::{load_deal, LoadFailure, LoadedDeal};
-use crate::diag::Diagnostic;
-use crate::engine::{self, Analysis, Stance};
-use crate::{chart, pdf, report};
-use chrono::NaiveDateTime;
-use rayon::prelude::*;
-use serde::Serialize;
-use std::collections::{BTreeMap, BTreeSet};
+use crate::diag::Failure;
+use crate::files::output;
 use std::io::IsTerminal as _;
-use std::path::PathBuf;
-
-/// The pack's cover and summary template.
-pub const PACK_TEMPLATE: (&str, &str) =
-    ("pack.typ.j2", include_str!("../../templates/pack.typ.j2"));
-
-/// One deal ready to be typeset into the pack.
-#[derive(Debug, Clone)]
-pub struct PackedDeal {
-    /// The deal as loaded.
-    pub loaded: LoadedDeal,
-    /// Its analysis.
-    pub analysis: Analysis,
-    /// Its charts, in the analysis' order.
-    pub charts: Vec<chart::ScenarioCharts>,
-    /// The deal file's name as the pack shows and attaches it.
-    pub source_name: String,
-}
-
-#[derive(Debug, Serialize)]
-struct PackView {
-    title: String,
-    date: String,
-    created: report::CreatedView,
-    deal_count: usize,
-    skipped: Vec<String>,
-    rows: Vec<RowView>,
-    version: String,
-}
-
-#[derive(Debug, Serialize)]
-struct RowView {
-    number: usize,
-    deal: String,
-    first: bool,
-    scenario: String,
-    irrs: String,
-    npv: String,
-    mirr: String,
-    decision: String,
-    stance: String,
-    cautions: String,
-}
-
-fn summary_rows(number: usize, d: &PackedDeal) -> Vec<RowView> {
-    d.analysis
-        .scenarios
-        .iter()
-        .enumerate()
-        .map(|(i, s)| {
-            let decimals = report::scenario_rate_decimals(s);
-            let irrs = if s.irr.roots.is_empty() {
-                "none".to_string()
-            } else {
-                s.irr
-                    .roots
-                    .iter()
-                    .map(|r| report::format_root(r, decimals))
-                    .collect::<Vec<_>>()
-                    .join(", ")
-            };
-            let irrs = if s.irr.certified {
-                irrs
-            } else {
-                format!("{irrs} (count not certified)")
-            };
-            let stances: BTreeSet<&str> =
-                s.irr.roots.iter().map(|r| stance_word(r.stance)).collect();
-            let stance = match (&s.irr.complex_reading, stances.is_empty()) {
-                (Some(c), true) => stance_word(c.stance).to_string(),
-                (None, true) => "none".to_string(),
-                _ => stances.into_iter().collect::<Vec<_>>().join("; "),
-            };
-            let codes: Vec<&str> = s.cautions.iter().map(|c| c.code.as_str()).collect();
-            RowView {
-                number,
-                deal: d.loaded.deal.name.clone(),
-                first: i == 0,
-                scenario: if s.name == "base" {
-                    "Base case".to_string()
-                } else {
-                    s.name.clone()
-                },
-                irrs,
-                npv: report::format_npv_with_code(s, &d.analysis.currency),
-                mirr: s
-                    .mirr
-                    .map(|m| report::format_rate(m, 2))
-                    .unwrap_or_else(|| "not defined".to_string()),
-                decision: s.decision.label().to_string(),
-                stance,
-                cautions: if codes.is_empty() {
-                    "none".to_string()
-                } else {
-                    codes.join(", ")
-                },
-            }
-        })
-        .collect()
-}
-
-/// A root's stance in one word for the summary table (the memo spells it out).
-fn stance_word(s: Stance) -> &'static str {
-    match s {
-        Stance::Investment => "investment",
-        Stance::Borrowing => "borrowing",
-        Stance::Neutral => "neutral",
-    }
-}
-
-/// Files the typesetter can read, as (virtual path, bytes).
-pub type Files = Vec<(String, Vec<u8>)>;
-
-/// Builds the pack's markup and the files it reads. No file system access.
-pub fn pack_markup(
-    title: &str,
-    created: NaiveDateTime,
-    deals: &[PackedDeal],
-    skipped: &[String],
-) -> Result<(String, Files), Diagnostic> {
-    let view = PackView {
-        title: title.to_string(),
-        date: report::format_date_long(created.date()),
-        created: report::CreatedView::of(created),
-        deal_count: deals.len(),
-        skipped: skipped.to_vec(),
-        rows: deals
-            .iter()
-            .enumerate()
-            .flat_map(|(i, d)| summary_rows(i + 1, d))
-            .collect(),
-        version: env!("CARGO_PKG_VERSION").to_string(),
-    };
-    let mut markup = report::render_template(PACK_TEMPLATE.0, PACK_TEMPLATE.1, &view)?;
-    let mut files: Files = Vec::new();
-    let bodies: Vec<Result<String, Diagnostic>> = deals
-        .par_iter()
-        .enumerate()
-        .map(|(i, d)| {
-            // Two deal files of one name (from different folders) must still be told
-            // apart in the attachment list.
-            let name = if deals[..i].iter().any(|e| {
-                report::attachment_name(&e.source_name) == report::attachment_name(&d.source_name)
-            }) {
-                format!("{}-{}", i + 1, d.source_name)
-            } else {
-                d.source_name.clone()
-            };
-            let ctx = report::MemoContext {
-                source_name: name,
-                source_sha256: sha256_hex(&d.loaded.source),
-                created,
-                charts: d.charts.clone(),
-                templates: BTreeMap::new(),
-                changes: None,
-            };
-            report::render_body(&d.analysis, &d.loaded.deal, &ctx, &prefix(i))
-        })
-        .collect();
-    for (i, (d, body)) in deals.iter().zip(bodies).enumerate() {
-        let body = body?;
-        let p = prefix(i);
-        files.extend(
-            d.charts
-                .iter()
-                .enumerate()
-                .flat_map(|(k, c)| c.files(k))
-                .map(|(n, b)| (format!("{p}{n}"), b)),
-        );
-        files.push((
-            format!("{p}{}", report::SOURCE_FILE),
-            d.loaded.source.clone(),
-        ));
-        // Each memo's settings (page style, helpers) stay inside its own content block.
-        markup.push_str(&format!("\n#pagebreak(weak: true)\n#[\n{body}\n]\n"));
-    }
-    Ok((markup, files))
-}
-
-fn prefix(i: usize) -> String {
-    format!("/deals/{}", i + 1)
-}
-
-fn analyse(loaded: LoadedDeal, source_name: String) -> Result<PackedDeal, Diagnostic> {
-    let analysis = engine::analyse(&loaded.deal);
-    let charts = chart::render_all(&analysis)?;
-    Ok(PackedDeal {
-        loaded,
-        analysis,
-        charts,
-        source_name,
-    })
-}
 
 /// Runs the command.
 pub fn run(args: &PackArgs) -> u8 {
     output::clean_up_on_interrupt();
-    // Checked first: a pack of many deals takes a while to make.
-    if let Err(f) = output::check_destination(&args.output, "pack", "-o FILE.pdf") {
-        eprintln!("{}", f.diagnostic.render(None));
-        return f.code;
+    match make(args) {
+        Ok(()) => EXIT_OK,
+        Err(f) => fail(&f),
     }
+}
+
+fn make(args: &PackArgs) -> Result<(), Failure> {
+    // Checked first: a pack of many deals takes a while to make.
+    output::check_destination(&args.output, "pack", "-o FILE.pdf")?;
     for note in output::sweep_leftovers(&output::folder_of(&args.output)) {
         eprintln!("note: {note}");
     }
@@ -231,89 +26,22 @@ pub fn run(args: &PackArgs) -> u8 {
     if progress {
         eprintln!("candor pack: analysing {} deals", args.files.len());
     }
-    let created =
-        match crate::archive::filing_time(std::env::var("SOURCE_DATE_EPOCH").ok().as_deref()) {
-            Ok(c) => c,
-            Err(d) => {
-                eprintln!("{}", d.render(None));
-                return EXIT_INVALID;
-            }
-        };
-    type Loaded = Result<Result<PackedDeal, Diagnostic>, LoadFailure>;
-    let results: Vec<(PathBuf, Loaded)> = args
-        .files
-        .par_iter()
-        .map(|path| {
-            let name = path
-                .file_name()
-                .map(|n| n.to_string_lossy().to_string())
-                .unwrap_or_else(|| "deal.yaml".to_string());
-            (path.clone(), load_deal(path).map(|l| analyse(l, name)))
-        })
-        .collect();
-    let mut deals = Vec::new();
-    let mut skipped = Vec::new();
-    for (path, result) in results {
-        match result {
-            Ok(Ok(d)) => deals.push(d),
-            Ok(Err(d)) => {
-                eprintln!("{}", d.render(None));
-                return EXIT_INTERNAL;
-            }
-            Err(failure) => {
-                for d in &failure.diagnostics {
-                    eprintln!("{}", d.render(failure.source.as_deref()));
-                }
-                skipped.push(path.display().to_string());
-            }
-        }
+    let epoch = std::env::var("SOURCE_DATE_EPOCH").ok();
+    let created = crate::archive::filing_time(epoch.as_deref()).map_err(Failure::invalid)?;
+    let pack = crate::pack::build(&args.files, &args.title, created, args.skip_invalid)?;
+    for (_, failure) in &pack.skipped {
+        eprintln!("{}\n", failure.render());
     }
-    if !skipped.is_empty() && !args.skip_invalid {
-        eprintln!(
-            "nothing written: {} of {} deal files are invalid (--skip-invalid packs the rest)",
-            skipped.len(),
-            args.files.len()
-        );
-        return EXIT_INVALID;
+    output::write_output(
+        &args.output,
+        &pack.pdf,
+        "pack",
+        "-o FILE.pdf",
+        &mut output::Disk,
+    )?;
+    for (name, _) in &pack.skipped {
+        eprintln!("skipped {name}");
     }
-    if deals.is_empty() {
-        eprintln!("nothing written: no valid deal file to pack");
-        return EXIT_INVALID;
-    }
-    if progress {
-        eprintln!("candor pack: typesetting {} memos", deals.len());
-    }
-    let (markup, files) = match pack_markup(&args.title, created, &deals, &skipped) {
-        Ok(m) => m,
-        Err(d) => {
-            eprintln!("{}", d.render(None));
-            return EXIT_INTERNAL;
-        }
-    };
-    let ident = sha256_hex(
-        deals
-            .iter()
-            .map(|d| sha256_hex(&d.loaded.source))
-            .collect::<Vec<_>>()
-            .join(" ")
-            .as_bytes(),
-    );
-    let pdf = match pdf::typeset(&markup, &files, &pdf::TypesetOptions { created, ident }) {
-        Ok(p) => p,
-        Err(d) => {
-            eprintln!("{}", d.render(None));
-            return EXIT_INTERNAL;
-        }
-    };
-    let written =
-        output::write_output(&args.output, &pdf, "pack", "-o FILE.pdf", &mut output::Disk);
-    if let Err(f) = written {
-        eprintln!("{}", f.diagnostic.render(None));
-        return f.code;
-    }
-    for s in &skipped {
-        eprintln!("skipped {s}");
-    }
-    eprintln!("wrote {} ({} deals)", args.output.display(), deals.len());
-    EXIT_OK
+    eprintln!("wrote {} ({} deals)", args.output.display(), pack.deals);
+    Ok(())
 }

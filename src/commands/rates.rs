@@ -1,10 +1,10 @@
 //! `candor rates`: every real IRR and the committee figures, per scenario, as a
 //! terminal report, as JSON, or as batch screening of many series.
 
-use super::load::load_deal;
-use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
+use super::{fail, EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::RatesArgs;
 use crate::engine::{self, Analysis, ScenarioAnalysis};
+use crate::files::load::load_deal;
 use crate::format::{decimals_to_separate, npv_in, per_period, percent, ratio};
 use std::fmt::Write as _;
 use std::io::Write as _;
@@ -20,12 +20,7 @@ pub fn run(args: &RatesArgs) -> u8 {
     };
     let loaded = match load_deal(path) {
         Ok(l) => l,
-        Err(failure) => {
-            for d in &failure.diagnostics {
-                eprintln!("{}\n", d.render(failure.source.as_deref()));
-            }
-            return EXIT_INVALID;
-        }
+        Err(failure) => return fail(&failure),
     };
     let analysis = engine::analyse(&loaded.deal);
     let text = if args.json {

@@ -6,7 +6,7 @@
 //! system, including network shares where change notifications are unreliable.
 
 use crate::cli::MemoArgs;
-use crate::commands::load::load_deal;
+use crate::files::load::load_deal;
 use std::path::{Path, PathBuf};
 use std::time::{Duration, SystemTime};
 

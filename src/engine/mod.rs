@@ -6,12 +6,11 @@ pub mod cautions;
 pub mod complex;
 pub mod dd;
 pub mod figures;
-pub mod flows;
 pub mod irr;
 pub mod roots;
 
+pub use crate::model::flows::{self, FlowPoint, Flows};
 pub use analysis::*;
-pub use flows::{FlowPoint, Flows};
 
 use crate::model::{Deal, Rates};
 use rust_decimal::prelude::*;

@@ -135,7 +135,7 @@ struct Point {
 impl Point {
     /// Positive and negative parts of the d-th derivative (sign (-1)^d folded in).
     fn parts(&self, d: usize) -> (f64, f64) {
-        if d % 2 == 0 {
+        if d.is_multiple_of(2) {
             (self.a[d], self.b[d])
         } else {
             (self.b[d], self.a[d])
@@ -155,7 +155,7 @@ impl Point {
 
     /// Value of the scaled f^(d) (for Newton steps only).
     fn value(&self, d: usize) -> f64 {
-        if d % 2 == 0 {
+        if d.is_multiple_of(2) {
             self.s[d]
         } else {
             -self.s[d]
@@ -711,7 +711,7 @@ impl<'a> Solver<'a> {
     fn newton(&self, p: &Point, d: usize, lo: f64, hi: f64) -> f64 {
         let (pos, neg) = p.parts(d);
         // The parts' slopes are minus the next order's parts, paired the same way.
-        let (pos1, neg1) = if d % 2 == 0 {
+        let (pos1, neg1) = if d.is_multiple_of(2) {
             (p.a[d + 1], p.b[d + 1])
         } else {
             (p.b[d + 1], p.a[d + 1])
@@ -1350,7 +1350,10 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     out.roots = roots;
     out.evaluations = solvers.iter().map(|s| s.evals).sum();
     let count = out.count();
-    if solvers.iter().any(|s| s.exhausted()) || count > descartes || (descartes - count) % 2 != 0 {
+    if solvers.iter().any(|s| s.exhausted())
+        || count > descartes
+        || !(descartes - count).is_multiple_of(2)
+    {
         out.certified = false;
     }
     if !zero_is_root {
@@ -1362,7 +1365,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
             .sum::<u32>();
         let below = count - above;
         if above_zero.is_some_and(|b| above > b || (b - above) % 2 != 0)
-            || below_zero.is_some_and(|b| below > b || (b - below) % 2 != 0)
+            || below_zero.is_some_and(|b| below > b || !(b - below).is_multiple_of(2))
         {
             out.certified = false;
         }
@@ -2463,7 +2466,7 @@ mod tests {
                 .tail_bound(a)
                 .expect("signs are clear away from the roots");
             assert!(
-                bound >= above && (bound - above) % 2 == 0,
+                bound >= above && (bound - above).is_multiple_of(2),
                 "a = {a}: {bound} vs {above}"
             );
         }

@@ -1,12 +1,13 @@
 //! The validated deal. A [`Deal`] can only be built by [`validate`], so an invalid deal
 //! cannot exist: money is exact, rates are checked, flows are resolved per scenario.
 
-use crate::engine::Flows;
 use chrono::NaiveDate;
+pub use flows::{FlowPoint, Flows};
 use rust_decimal::Decimal;
 use serde::Serialize;
 
 pub mod daycount;
+pub mod flows;
 mod validate;
 pub mod values;
 

@@ -2,12 +2,12 @@
 //! way rather than stopping at the first, each with its field path, position, a
 //! stable code and a hint where one helps.
 
+use super::flows::{FlowPoint, Flows};
 use super::values::{self, ValueError};
 use super::{
     Clock, DayCount, Deal, Frequency, Memo, MemoSection, Rates, Scenario, Signoff, SignoffDecision,
 };
 use crate::diag::{Diagnostic, Position};
-use crate::engine::{FlowPoint, Flows};
 use crate::input::{csv, Node, RawDeal, Value};
 use chrono::{Days, Months, NaiveDate};
 use rust_decimal::Decimal;

@@ -6,15 +6,11 @@
 //!
 //! A file appears at its destination only complete: it is written to a temporary file
 //! `.candor-<process id>-<random>.part` in the same folder, synced, and renamed over
-//! the destination. The process id in the name lets a later run tell a file left by a
-//! killed run from one that another candor is writing at that moment.
+//! the destination. The writer holds a kernel lock on the temporary file while it
+//! writes, and the process id is in the name: a later run removes a file only when
+//! nobody holds its lock and its process has ended.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
-#![allow(clippy::result_large_err)]
-
-use super::{EXIT_INTERNAL, EXIT_INVALID};
-use crate::diag::Diagnostic;
+use crate::diag::{Diagnostic, Failure, FailureClass};
 use std::fs::File;
 use std::io::{self, ErrorKind, Write as _};
 use std::path::{Path, PathBuf};
@@ -61,16 +57,6 @@ impl Sink for Disk {
     }
 }
 
-/// A failure to write an output file: the message and the exit code it calls for.
-#[derive(Debug, Clone)]
-pub struct WriteFailure {
-    /// What happened, to which file, and what to do.
-    pub diagnostic: Diagnostic,
-    /// [`EXIT_INVALID`] when the path given is wrong (its folder does not exist),
-    /// [`EXIT_INTERNAL`] when candor cannot write there.
-    pub code: u8,
-}
-
 /// The folder a file is written in (`.` for a bare file name).
 pub fn folder_of(path: &Path) -> PathBuf {
     match path.parent() {
@@ -115,14 +101,18 @@ fn hint_for(e: &io::Error, option: &str) -> String {
 /// `path`: its folder exists and is a folder, the path is not a folder, and a file can
 /// be created in the folder (a probe file, removed at once). `option` is how the user
 /// chooses another path, named in the hint.
-pub fn check_destination(path: &Path, what: &str, option: &str) -> Result<(), WriteFailure> {
+pub fn check_destination(path: &Path, what: &str, option: &str) -> Result<(), Failure> {
     let folder = folder_of(path);
     let shown = path.display().to_string();
-    let fail = |message: String, hint: String, code: u8| WriteFailure {
-        diagnostic: Diagnostic::error("write", format!("cannot write the {what}: {message}"))
-            .in_file(shown.clone())
-            .with_hint(hint),
-        code,
+    let fail = |message: String, hint: String, class: FailureClass| {
+        Failure::many(
+            vec![
+                Diagnostic::error("write", format!("cannot write the {what}: {message}"))
+                    .in_file(shown.clone())
+                    .with_hint(hint),
+            ],
+            class,
+        )
     };
     match std::fs::metadata(&folder) {
         Err(e) if e.kind() == ErrorKind::NotFound => {
@@ -132,7 +122,7 @@ pub fn check_destination(path: &Path, what: &str, option: &str) -> Result<(), Wr
                     "create it first (`mkdir -p {}`), or write elsewhere with `{option}`",
                     folder.display()
                 ),
-                EXIT_INVALID,
+                FailureClass::Invalid,
             ))
         }
         Err(e) => {
@@ -143,14 +133,14 @@ pub fn check_destination(path: &Path, what: &str, option: &str) -> Result<(), Wr
                     cause(&e)
                 ),
                 hint_for(&e, option),
-                EXIT_INTERNAL,
+                FailureClass::Internal,
             ))
         }
         Ok(m) if !m.is_dir() => {
             return Err(fail(
                 format!("`{}` is a file, not a folder", folder.display()),
                 format!("write inside a folder with `{option}`"),
-                EXIT_INTERNAL,
+                FailureClass::Internal,
             ))
         }
         Ok(_) => {}
@@ -159,7 +149,7 @@ pub fn check_destination(path: &Path, what: &str, option: &str) -> Result<(), Wr
         return Err(fail(
             format!("`{shown}` is a folder"),
             format!("give a file name, such as `{option} {shown}/{what}.pdf`"),
-            EXIT_INTERNAL,
+            FailureClass::Internal,
         ));
     }
     // Permission bits do not tell the whole story (root, access lists, read-only
@@ -180,7 +170,7 @@ pub fn check_destination(path: &Path, what: &str, option: &str) -> Result<(), Wr
                 cause(&e)
             ),
             hint_for(&e, option),
-            EXIT_INTERNAL,
+            FailureClass::Internal,
         )),
     }
 }
@@ -194,6 +184,10 @@ pub fn write_atomically_with(path: &Path, bytes: &[u8], sink: &mut dyn Sink) -> 
         .prefix(&temp_prefix())
         .suffix(".part")
         .tempfile_in(&folder)?;
+    // Held until the file is renamed or removed, so that another run's sweep of
+    // leftovers never takes a file being written for one (the kernel drops the lock
+    // when this process ends, however it ends).
+    tmp.as_file().lock()?;
     let pending = Unfinished::register(tmp.path(), Kind::File, path);
     let written = sink.put(tmp.as_file_mut(), bytes).and_then(|()| {
         // A temporary file is private (0600); the output is an ordinary document.
@@ -228,15 +222,15 @@ pub fn write_output(
     what: &str,
     option: &str,
     sink: &mut dyn Sink,
-) -> Result<(), WriteFailure> {
+) -> Result<(), Failure> {
     write_atomically_with(path, bytes, sink).map_err(|e| {
-        let code = if e.kind() == ErrorKind::NotFound {
-            EXIT_INVALID
+        let class = if e.kind() == ErrorKind::NotFound {
+            FailureClass::Invalid
         } else {
-            EXIT_INTERNAL
+            FailureClass::Internal
         };
-        WriteFailure {
-            diagnostic: Diagnostic::error(
+        Failure::many(
+            vec![Diagnostic::error(
                 "write",
                 format!(
                     "cannot write the {what}: {}; nothing was written, and a file already at \
@@ -245,9 +239,9 @@ pub fn write_output(
                 ),
             )
             .in_file(path.display().to_string())
-            .with_hint(hint_for(&e, option)),
-            code,
-        }
+            .with_hint(hint_for(&e, option))],
+            class,
+        )
     })
 }
 
@@ -259,18 +253,13 @@ pub fn process_ended(pid: u32) -> bool {
         && !Path::new("/proc").join(pid.to_string()).exists()
 }
 
-/// Who process `pid` is beyond its number, as `<boot id>/<start time>`: the id of this
-/// boot of the machine and the clock tick after boot at which the process started
-/// (Linux `/proc/<pid>/stat`, field 22). A number the system has since given to a later
-/// process comes with another identity. `None` where `/proc` does not tell.
-pub fn process_identity(pid: u32) -> Option<String> {
-    let stat = std::fs::read_to_string(format!("/proc/{pid}/stat")).ok()?;
-    // Field 2, the command name, is in parentheses and may itself hold spaces or
-    // parentheses; the fields after the last `)` start at field 3.
-    let after = stat.get(stat.rfind(')')? + 1..)?;
-    let start = after.split_whitespace().nth(22 - 3)?;
-    let boot = std::fs::read_to_string("/proc/sys/kernel/random/boot_id").ok()?;
-    Some(format!("{}/{start}", boot.trim()))
+/// True when a live candor run holds the kernel lock that every writer takes on its
+/// temporary file (see [`write_atomically_with`]): the file is being written now.
+fn held_by_a_writer(path: &Path) -> bool {
+    match File::open(path) {
+        Ok(f) => matches!(f.try_lock_shared(), Err(std::fs::TryLockError::WouldBlock)),
+        Err(_) => false,
+    }
 }
 
 /// Removes the temporary files that killed candor runs left in `folder`, and returns
@@ -292,6 +281,9 @@ pub fn sweep_leftovers(folder: &Path) -> Vec<String> {
             .trim_start_matches(".candor-")
             .split_once('-')
             .and_then(|(pid, _)| pid.parse::<u32>().ok());
+        if owner == Some(std::process::id()) || held_by_a_writer(&path) {
+            continue;
+        }
         match owner {
             Some(pid) if process_ended(pid) => match std::fs::remove_file(&path) {
                 Ok(()) => notes.push(format!(
@@ -306,7 +298,6 @@ pub fn sweep_leftovers(folder: &Path) -> Vec<String> {
                     cause(&e)
                 )),
             },
-            Some(pid) if pid == std::process::id() => {}
             _ => notes.push(format!(
                 "{} looks like an unfinished file of another candor run; remove it if no \
                  candor is writing in this folder",

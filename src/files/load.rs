@@ -1,7 +1,7 @@
 //! Reading a deal file (and any CSV it names) from disk, then parsing and validating it.
 //! Every subcommand that takes a deal file goes through [`load_deal`].
 
-use crate::diag::Diagnostic;
+use crate::diag::{Diagnostic, Failure, FailureClass};
 use crate::input::DecodeError;
 use crate::model::values::grouped;
 use crate::model::Deal;
@@ -26,15 +26,6 @@ pub struct LoadedDeal {
     pub source: Vec<u8>,
     /// Every other file the deal read (CSV flows), as (path relative to the deal file, bytes).
     pub companions: Vec<(String, Vec<u8>)>,
-}
-
-/// Why a deal could not be loaded: every diagnostic, plus the text to show source lines.
-#[derive(Debug, Clone)]
-pub struct LoadFailure {
-    /// The problems found, all at once.
-    pub diagnostics: Vec<Diagnostic>,
-    /// The deal file's text, when it could be read, for rendering source lines.
-    pub source: Option<String>,
 }
 
 /// Reads a file of at most [`MAX_FILE_BYTES`], checking the size before reading.
@@ -98,11 +89,17 @@ fn io_words(e: &std::io::Error) -> String {
 }
 
 /// Reads, parses and validates a deal file.
-pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
+///
+/// A failure carries the text of the deal file and of every CSV file it read, so that
+/// each diagnostic shows a line of the file it is about.
+pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
     let shown = path.display().to_string();
-    let fail = |d: Diagnostic, source: Option<String>| LoadFailure {
-        diagnostics: vec![d.in_file(shown.clone())],
-        source,
+    let fail = |d: Diagnostic, source: Option<String>| {
+        let failure = Failure::invalid(d.in_file(shown.clone()));
+        match source {
+            Some(text) => failure.with_source(shown.clone(), text),
+            None => failure,
+        }
     };
     let source = match read_limited(path) {
         Ok(b) => b,
@@ -132,15 +129,17 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
             .map(|d| d.in_file(shown.clone()))
             .collect()
     };
-    let raw = crate::input::parse(&text).map_err(|diags| LoadFailure {
-        diagnostics: with_file(diags),
-        source: Some(shown_text(text.as_bytes())),
+    let raw = crate::input::parse(&text).map_err(|diags| {
+        Failure::many(with_file(diags), FailureClass::Invalid)
+            .with_source(shown.clone(), shown_text(text.as_bytes()))
     })?;
 
     let folder = path.parent().map(Path::to_path_buf).unwrap_or_default();
     let mut companions: Vec<(String, Vec<u8>)> = Vec::new();
     // CSV files that are not UTF-8: reported in the CSV file itself, at the bad byte.
     let mut undecodable: Vec<(String, DecodeError)> = Vec::new();
+    // The shown text of every CSV file read, by the name its diagnostics carry.
+    let mut csv_texts: Vec<(String, String)> = Vec::new();
     let mut read = |name: &str| -> Result<String, String> {
         let full = folder.join(name);
         let bytes = read_limited(&full).map_err(|(why, _)| why)?;
@@ -148,10 +147,14 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
             Ok(t) => t.to_string(),
             Err(e) => {
                 let why = e.message().replacen("the file ", "it ", 1);
+                if e.position().is_some() {
+                    csv_texts.push((full.display().to_string(), shown_text(&bytes)));
+                }
                 undecodable.push((name.to_string(), e));
                 return Err(why);
             }
         };
+        csv_texts.push((full.display().to_string(), shown_text(&bytes)));
         if !companions.iter().any(|(n, _)| n == name) {
             companions.push((name.to_string(), bytes));
         }
@@ -164,8 +167,8 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
             source,
             companions,
         }),
-        Err(diags) => Err(LoadFailure {
-            diagnostics: diags
+        Err(diags) => {
+            let diagnostics = diags
                 .into_iter()
                 .map(|d| {
                     let bad_csv = undecodable.iter().find(|(name, _)| {
@@ -186,8 +189,13 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, LoadFailure> {
                         (None, None) => d.in_file(shown.clone()),
                     }
                 })
-                .collect(),
-            source: Some(shown_text(text.as_bytes())),
-        }),
+                .collect();
+            let mut failure = Failure::many(diagnostics, FailureClass::Invalid)
+                .with_source(shown.clone(), shown_text(text.as_bytes()));
+            for (file, text) in csv_texts {
+                failure = failure.with_source(file, text);
+            }
+            Err(failure)
+        }
     }
 }

@@ -1,0 +1,202 @@
+//! Building a memo: draw the charts of an analysed deal, render the markup and typeset
+//! the PDF with the deal file attached. No file system access except where a function
+//! says so (reading a house-style folder, writing the PDF atomically).
+
+use crate::diag::{Diagnostic, Failure};
+use crate::engine::Analysis;
+use crate::files::output;
+use crate::model::Deal;
+use crate::{chart, pdf, report};
+use chrono::NaiveDateTime;
+use sha2::{Digest, Sha256};
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+/// A finished memo: the markup and the PDF typeset from it.
+#[derive(Debug, Clone)]
+pub struct MemoOutput {
+    /// The generated Typst markup.
+    pub markup: String,
+    /// The PDF/A-3b bytes.
+    pub pdf: Vec<u8>,
+}
+
+/// The inputs of a memo besides the analysis and the deal.
+#[derive(Debug, Clone)]
+pub struct MemoInputs<'a> {
+    /// The exact bytes of the deal file, attached to the PDF.
+    pub source: &'a [u8],
+    /// The deal file's name (without folders).
+    pub source_name: &'a str,
+    /// Templates replacing built-in ones, by name.
+    pub templates: BTreeMap<String, String>,
+    /// Creation time written into the PDF.
+    pub created: NaiveDateTime,
+}
+
+/// SHA-256 of bytes as lower-case hex.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    Sha256::digest(bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
+}
+
+/// Builds the memo of an analysed deal: charts, markup, PDF. No file system access.
+pub fn build_memo(
+    analysis: &Analysis,
+    deal: &Deal,
+    inputs: MemoInputs<'_>,
+) -> Result<MemoOutput, Failure> {
+    build_memo_with_changes(analysis, deal, inputs, None)
+}
+
+/// Builds the memo of a filed version, with its section on what changed since the
+/// previous version (`None` for a first version, which has no such section).
+pub fn build_memo_with_changes(
+    analysis: &Analysis,
+    deal: &Deal,
+    inputs: MemoInputs<'_>,
+    changes: Option<report::ChangesSince>,
+) -> Result<MemoOutput, Failure> {
+    let charts = draw_charts(analysis)?;
+    let markup = render_markup(analysis, deal, &inputs, &charts, changes)?;
+    let pdf = typeset_markup(&markup, &charts, &inputs)?;
+    Ok(MemoOutput { markup, pdf })
+}
+
+/// A failure to render or typeset: the house style's fault when one is in use, else
+/// candor's.
+fn blame(d: Diagnostic, house_style: bool) -> Failure {
+    if house_style {
+        Failure::invalid(d)
+    } else {
+        Failure::internal(d)
+    }
+}
+
+/// Draws the charts of every scenario.
+pub fn draw_charts(analysis: &Analysis) -> Result<Vec<chart::ScenarioCharts>, Failure> {
+    chart::render_all(analysis).map_err(Failure::internal)
+}
+
+/// Renders the memo's Typst markup (the house style's templates where given).
+pub fn render_markup(
+    analysis: &Analysis,
+    deal: &Deal,
+    inputs: &MemoInputs<'_>,
+    charts: &[chart::ScenarioCharts],
+    changes: Option<report::ChangesSince>,
+) -> Result<String, Failure> {
+    let house_style = !inputs.templates.is_empty();
+    let ctx = report::MemoContext {
+        source_name: inputs.source_name.to_string(),
+        source_sha256: sha256_hex(inputs.source),
+        created: inputs.created,
+        charts: charts.to_vec(),
+        templates: inputs.templates.clone(),
+        changes,
+    };
+    report::render(analysis, deal, &ctx).map_err(|d| blame(d, house_style))
+}
+
+/// Typesets markup into the PDF/A-3b memo, with the charts and the deal file attached.
+pub fn typeset_markup(
+    markup: &str,
+    charts: &[chart::ScenarioCharts],
+    inputs: &MemoInputs<'_>,
+) -> Result<Vec<u8>, Failure> {
+    let house_style = !inputs.templates.is_empty();
+    let mut files: Vec<(String, Vec<u8>)> = charts
+        .iter()
+        .enumerate()
+        .flat_map(|(i, c)| c.files(i))
+        .collect();
+    files.push((report::SOURCE_FILE.to_string(), inputs.source.to_vec()));
+    let options = pdf::TypesetOptions {
+        created: inputs.created,
+        ident: sha256_hex(inputs.source),
+    };
+    pdf::typeset(markup, &files, &options).map_err(|d| blame(d, house_style))
+}
+
+/// A file-name-safe slug of a deal's name: ASCII letters and digits, words joined by
+/// dashes, at most 80 characters; `memo` when nothing is left.
+pub fn slug(name: &str) -> String {
+    let mut out = String::new();
+    for c in name.chars() {
+        if c.is_ascii_alphanumeric() {
+            out.push(c.to_ascii_lowercase());
+        } else if !out.is_empty() && !out.ends_with('-') {
+            out.push('-');
+        }
+    }
+    let mut out: String = out.trim_end_matches('-').chars().take(80).collect();
+    while out.ends_with('-') {
+        out.pop();
+    }
+    if out.is_empty() {
+        "memo".to_string()
+    } else {
+        out
+    }
+}
+
+/// The default output path: the slug of the deal's name with `.pdf`, next to the deal.
+pub fn default_output(deal_path: &Path, deal_name: &str) -> PathBuf {
+    let folder = deal_path.parent().unwrap_or_else(|| Path::new(""));
+    folder.join(format!("{}.pdf", slug(deal_name)))
+}
+
+/// Writes bytes to `path` through a temporary file in the same folder, so the file
+/// appears only when complete (see [`output::write_atomically_with`]).
+pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    output::write_atomically_with(path, bytes, &mut output::Disk)
+}
+
+/// Reads every `*.j2` file of a house-style folder, by file name.
+pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Diagnostic> {
+    let shown = dir.display().to_string();
+    let entries = std::fs::read_dir(dir).map_err(|e| {
+        Diagnostic::error("templates", format!("cannot read the template folder: {e}"))
+            .in_file(shown.clone())
+    })?;
+    let mut out = BTreeMap::new();
+    for entry in entries {
+        let entry = entry.map_err(|e| {
+            Diagnostic::error("templates", format!("cannot read the template folder: {e}"))
+                .in_file(shown.clone())
+        })?;
+        let name = entry.file_name().to_string_lossy().to_string();
+        if !name.ends_with(".j2") {
+            continue;
+        }
+        let text = std::fs::read_to_string(entry.path()).map_err(|e| {
+            Diagnostic::error("templates", format!("cannot read the template: {e}"))
+                .in_file(entry.path().display().to_string())
+        })?;
+        out.insert(name, text);
+    }
+    if out.is_empty() {
+        return Err(Diagnostic::error(
+            "templates",
+            "the template folder holds no templates (files ending in `.j2`)",
+        )
+        .in_file(shown)
+        .with_hint(format!(
+            "the built-in templates are named {}",
+            report::BUILTIN_TEMPLATES
+                .iter()
+                .map(|(n, _)| *n)
+                .collect::<Vec<_>>()
+                .join(", ")
+        )));
+    }
+    Ok(out)
+}
+
+/// Writes a memo's PDF at `path` through `sink` (the disk, or in tests one that fails
+/// on purpose), with the message the user sees when that fails.
+pub fn write_memo(path: &Path, pdf: &[u8], sink: &mut dyn output::Sink) -> Result<(), Failure> {
+    output::write_output(path, pdf, "memo", "-o FILE.pdf", sink)
+}
