@@ -21,8 +21,8 @@
 //! the next filing of the deal removes them (the lock only once its process has ended)
 //! and says so.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use crate::commands::load::load_deal;

@@ -6,8 +6,8 @@
 //! white print stays readable; the colours are the Okabe–Ito palette, which was
 //! designed to stay distinct under the common colour-vision deficiencies.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use crate::diag::Diagnostic;

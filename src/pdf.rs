@@ -4,8 +4,8 @@
 //! date is fixed by the caller, so the same markup and files give the same bytes on any
 //! machine. Typst's errors come back as candor diagnostics with the code `typeset`.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use crate::diag::Diagnostic;

@@ -7,8 +7,8 @@
 //! prints unless the value was produced by one of our own filters, which build Typst
 //! string literals or escaped text themselves.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use crate::chart::{ChartKind, ScenarioCharts};

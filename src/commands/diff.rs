@@ -1,8 +1,8 @@
 //! `candor diff`: load two deals (deal files or filed version folders), analyse both
 //! and print what changed ([`crate::diff`]).
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};

@@ -1,8 +1,8 @@
 //! `candor memo`: load the deal, analyse it, draw the charts, render the markup and
 //! typeset the PDF with the deal file attached; write it atomically.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use super::output::{self, WriteFailure};

@@ -9,8 +9,8 @@
 //! the destination. The process id in the name lets a later run tell a file left by a
 //! killed run from one that another candor is writing at that moment.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use super::{EXIT_INTERNAL, EXIT_INVALID};

@@ -5,8 +5,8 @@
 //! The deals are loaded, analysed and charted in parallel; the one document is then
 //! typeset once, so that page numbers and the contents run across all memos.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use super::memo::sha256_hex;

@@ -1,8 +1,8 @@
 //! `candor verify`: check filed memo versions (see [`crate::archive`]), and the filing
 //! step `candor memo --archive` calls.
 
-// Every stage reports through the one `Diagnostic` type (DESIGN.md); errors are the
-// cold path, so their size does not matter.
+// Every stage reports through the one `Diagnostic` type (docs/design.md, Pipeline);
+// errors are the cold path, so their size does not matter.
 #![allow(clippy::result_large_err)]
 
 use super::output::{self, WriteFailure};
