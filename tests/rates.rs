@@ -1,5 +1,6 @@
-//! `candor rates` end to end: deal files in, the JSON contract of DESIGN.md out,
-//! checked against published worked examples (sources named beside each check).
+//! `candor rates` end to end: deal files in, the JSON contract of docs/design.md out,
+//! checked against published worked examples (sources named beside each check; the
+//! values and their sources are collected in docs/methods.md, Check values).
 
 use serde_json::Value;
 use std::path::Path;
@@ -50,7 +51,7 @@ fn close(a: f64, b: f64, tol: f64) -> bool {
 fn lorie_savage_pump() {
     // Lorie & Savage, "Three problems in rationing capital", Journal of Business 28
     // (1955) [flows from memory]; IRRs 25% and 400%, NPV@10% = -773.5537,
-    // MIRR(10%, 10%) = 5.598956% (values per FIELD.md, computed).
+    // MIRR(10%, 10%) = 5.598956% (values per docs/methods.md, computed).
     let dir = tempfile::tempdir().unwrap();
     let v = rates_json(dir.path(), &periodic("Pump", "10%", "-1600, 10000, -10000"));
     let s = &v["scenarios"][0];
@@ -76,7 +77,7 @@ fn lorie_savage_pump() {
 fn mine_with_closure_cost() {
     // Corporate-finance textbook mine example [memory]: -30, +10 for 9 years, -65.
     // IRRs 3.503024% and 19.542150%, NPV@10% = 2.529924, MIRR(10%,10%) = 10.495274%
-    // (values per FIELD.md, computed).
+    // (values per docs/methods.md, computed).
     let dir = tempfile::tempdir().unwrap();
     let v = rates_json(
         dir.path(),
@@ -100,7 +101,7 @@ fn mine_with_closure_cost() {
 #[test]
 fn no_real_irr() {
     // Corporate-finance textbook example [memory]: 1000, -3000, 2500 has only the
-    // complex IRRs 50% +- 50i%; NPV@10% = 338.8430 (values per FIELD.md, computed).
+    // complex IRRs 50% +- 50i%; NPV@10% = 338.8430 (values per docs/methods.md, computed).
     let dir = tempfile::tempdir().unwrap();
     let v = rates_json(dir.path(), &periodic("Prepaid", "10%", "1000, -3000, 2500"));
     let s = &v["scenarios"][0];
@@ -119,7 +120,8 @@ fn no_real_irr() {
 
 #[test]
 fn double_root() {
-    // -100, 220, -121 = -(10 - 11v)^2: one IRR, 10%, of multiplicity 2 (FIELD.md, computed).
+    // -100, 220, -121 = -(10 - 11v)^2: one IRR, 10%, of multiplicity 2 (docs/methods.md,
+    // computed).
     let dir = tempfile::tempdir().unwrap();
     let v = rates_json(dir.path(), &periodic("Touch", "8%", "-100, 220, -121"));
     let s = &v["scenarios"][0];
@@ -133,7 +135,7 @@ fn double_root() {
 fn dated_day_counts() {
     // Lorie & Savage flows dated 2024-01-01, 2025-01-01, 2026-01-01: Act/365F 25.025516%
     // and 397.076089%; Act/360 24.643578% and 386.275997%; Act/Act ISDA 25% and 400%
-    // (FIELD.md, computed).
+    // (docs/methods.md, computed).
     let dir = tempfile::tempdir().unwrap();
     for (dc, lo, hi) in [
         ("act/365f", 0.25025516, 3.97076089),
@@ -181,13 +183,13 @@ fn batch_screening_keeps_going_past_bad_lines() {
     assert_eq!(lines.len(), 4);
     assert_eq!(lines[0]["id"], "pump");
     assert_eq!(lines[0]["count"], 2);
-    // Lorie & Savage (1955) [flows from memory]: NPV@10% = -773.55 (FIELD.md).
+    // Lorie & Savage (1955) [flows from memory]: NPV@10% = -773.55 (docs/methods.md).
     assert_eq!(lines[0]["npv_at_hurdle"], "-773.55");
     assert_eq!(lines[1]["id"], "broken");
     assert_eq!(lines[1]["error"]["code"], "unknown-value");
     assert_eq!(lines[2]["error"]["code"], "bad-line");
     assert_eq!(lines[3]["id"], 7);
-    // Act/Act ISDA on whole calendar years gives exactly 25% and 400% (FIELD.md).
+    // Act/Act ISDA on whole calendar years gives exactly 25% and 400% (docs/methods.md).
     let r: Vec<f64> = lines[3]["roots"]
         .as_array()
         .unwrap()

@@ -1,5 +1,5 @@
-//! The engine's output: plain data, serialised as the JSON contract of DESIGN.md
-//! (`candor rates --json`) and handed to the chart and report stages.
+//! The engine's output: plain data, serialised as the JSON contract of `candor rates --json`
+//! (docs/design.md, JSON contract) and handed to the chart and report stages.
 //!
 //! Rates are fractions (0.09 = 9%). Money is an exact decimal, serialised as a string.
 

@@ -659,7 +659,7 @@ mod tests {
     }
 
     /// Everything the cautions need for a series, with the figures computed here and the
-    /// IRRs supplied from FIELD.md.
+    /// IRRs supplied from the check values of docs/methods.md.
     struct Case {
         flows: Flows,
         roots: Vec<Root>,
@@ -799,7 +799,8 @@ mod tests {
 
     #[test]
     fn double_root_cautions() {
-        // -100, 220, -121: one IRR, 10%, multiplicity 2 (FIELD.md, computed).
+        // -100, 220, -121: one IRR, 10%, multiplicity 2 (docs/methods.md, Check values;
+        // computed).
         let c = Case::new(periodic(&["-100", "220", "-121"], 1), &[(0.1, 2)], 0.08).run();
         assert!(codes(&c).contains(&"double-root"));
         assert!(!codes(&c).contains(&"multiple-irr"));

@@ -277,7 +277,8 @@ mod tests {
     #[test]
     fn textbook_series_reads_accept() {
         // 1000, -3000, 2500: complex IRRs 50% +- 50i%, NPV > 0 at every rate, NPV@10% =
-        // 338.84 (FIELD.md: corporate-finance textbook example [memory]; values computed).
+        // 338.84 (docs/methods.md, Check values: corporate-finance textbook example
+        // [memory]; values computed).
         let r = complex_reading(&no_real_irr(), 0.1).unwrap();
         assert!(close(r.real_rate, 0.5, 1e-12), "{r:?}");
         assert!(close(r.imaginary_rate, 0.5, 1e-12), "{r:?}");

@@ -332,7 +332,7 @@ pub fn npv_f64(flows: &Flows, annual_rate: f64) -> f64 {
 
 /// Modified IRR (annual): every outflow discounted to the start at `finance`, every
 /// inflow compounded to the last flow's time `T` at `reinvest`, and
-/// `MIRR = (FV inflows / PV outflows)^(1/T) - 1` (FIELD.md, Lin 1976).
+/// `MIRR = (FV inflows / PV outflows)^(1/T) - 1` (docs/methods.md, MIRR; Lin 1976).
 /// `None` without an inflow and an outflow, when `T` is zero, or a rate is -100% or lower.
 pub fn mirr(flows: &Flows, finance: f64, reinvest: f64) -> Option<f64> {
     if finance.is_nan() || reinvest.is_nan() || finance <= -1.0 || reinvest <= -1.0 {
@@ -952,10 +952,10 @@ pub(crate) mod tests {
 
     #[test]
     fn mirr_check_values() {
-        // Lorie & Savage 1955 (FIELD.md): MIRR(10%, 10%) = 5.598956%
+        // Lorie & Savage 1955 (docs/methods.md, Check values): MIRR(10%, 10%) = 5.598956%
         let m = mirr(&lorie_savage(), 0.1, 0.1).unwrap();
         assert!(close(m, 0.05598956, 5e-9), "{m}");
-        // mine example (FIELD.md): MIRR(10%, 10%) = 10.495274%
+        // mine example (docs/methods.md, Check values): MIRR(10%, 10%) = 10.495274%
         let m = mirr(&mine(), 0.1, 0.1).unwrap();
         assert!(close(m, 0.10495274, 5e-9), "{m}");
         // 1000, -3000, 2500: 0.1663332857006754 [numpy-financial 1.0 mirr, computed]
@@ -1087,7 +1087,7 @@ pub(crate) mod tests {
 
     #[test]
     fn balance_path_lorie_savage() {
-        // Lorie & Savage at 25% (FIELD.md): -1600, 8000, 0 (mixed)
+        // Lorie & Savage at 25% (docs/methods.md, Check values): -1600, 8000, 0 (mixed)
         let path = balance_path(&lorie_savage(), 1.25f64.ln());
         let bals: Vec<Decimal> = path.iter().map(|r| r.balance).collect();
         assert_eq!(bals, vec![dec("-1600"), dec("8000"), dec("0")]);
@@ -1131,7 +1131,7 @@ pub(crate) mod tests {
         assert!(down.iter().all(|r| r.balance == r.flow));
     }
 
-    /// Every check-value series with its IRRs from FIELD.md.
+    /// Every check-value series with its IRRs from docs/methods.md (Check values).
     fn series_with_roots() -> Vec<(Flows, Vec<f64>)> {
         vec![
             (lorie_savage(), vec![0.25, 4.0]),

@@ -180,11 +180,11 @@ mod tests {
     #[test]
     fn act_act_isda_check_values() {
         // ISDA 2006 s4.16 examples as reproduced in QuantLib's test suite, values per
-        // FIELD.md [computed].
+        // docs/methods.md, Check values (day counts) [computed].
         let f = DayCount::ActActIsda.year_fraction(date(2003, 11, 1), date(2004, 5, 1));
         assert!((f - 0.497724380567).abs() < 1e-12, "{f}");
         let f = DayCount::ActActIsda.year_fraction(date(1999, 7, 1), date(2000, 7, 1));
-        // FIELD.md prints this one to 12 places as ...8600; the exact value is
+        // That reproduction prints this one to 12 places as ...8600; the exact value is
         // 184/365 + 182/366 = 1.00137734860394..., so compare within 1e-11 and check
         // the exact units below.
         assert!((f - 1.001377348600).abs() < 1e-11, "{f}");
@@ -201,8 +201,8 @@ mod tests {
 
     #[test]
     fn thirty_360_check_values() {
-        // ISDA 2006 s4.16(f) and (g); day counts per FIELD.md [computed, matching the
-        // ISDA examples as reproduced in QuantLib's test suite].
+        // ISDA 2006 s4.16(f) and (g); day counts per docs/methods.md, Check values
+        // [computed, matching the ISDA examples as reproduced in QuantLib's test suite].
         assert_eq!(
             DayCount::Thirty360.units(date(2007, 2, 28), date(2007, 8, 31)),
             183

@@ -11,8 +11,8 @@ Runs the binary on the seeded corpus (corpus.py) and compares every line with
   the MIRR;
 * the balance path at each root (pure investment / mixed / pure borrowing) and the
   investment-or-borrowing stance from the sign of NPV(h) and of (IRR - h)
-  [Hazen, The Engineering Economist 48 (2003) 31-51, via FIELD.md];
-* the published check values of FIELD.md, each with its source.
+  [Hazen, The Engineering Economist 48 (2003) 31-51; docs/methods.md, Reading an IRR];
+* the published check values of docs/methods.md (Check values), each with its source.
 
 Usage: python3 tests/crosscheck/check.py [BINARY] [--jobs 2] [--out DIR]
        python3 tests/crosscheck/check.py --reference-only   (no binary: the
@@ -80,7 +80,7 @@ def to_fraction(v) -> Fraction:
 
 
 def days_30360(d1: dt.date, d2: dt.date, variant: str) -> int:
-    """Day count numerator of the 30/360 family (ISDA 2006, 4.16, via FIELD.md)."""
+    """Day count numerator of the 30/360 family (ISDA 2006, 4.16; docs/methods.md, Day counts)."""
     y1, m1, a = d1.year, d1.month, d1.day
     y2, m2, b = d2.year, d2.month, d2.day
     if variant == "30/360":
@@ -135,7 +135,8 @@ class Series:
         self.hurdle = to_fraction(obj["hurdle_rate"]) if "hurdle_rate" in obj else None
         self.finance = to_fraction(obj["finance_rate"]) if "finance_rate" in obj else self.hurdle
         self.reinvest = to_fraction(obj["reinvestment_rate"]) if "reinvestment_rate" in obj else self.hurdle
-        # Netted, zero flows dropped, in time order (FIELD.md: net first, drop zeros).
+        # Netted, zero flows dropped, in time order (docs/methods.md, Notation: net first,
+        # drop zeros).
         self.flows = sorted((e, a) for e, a in self.terms.items() if a != 0)
 
     def int_poly(self) -> list[int]:
@@ -240,7 +241,7 @@ def balance_kind(s: Series, growth) -> str:
 
 
 def mirr_mp(s: Series):
-    """MIRR by its definition (FIELD.md, after Lin 1976): annual, None when undefined."""
+    """MIRR by its definition (docs/methods.md, MIRR; Lin 1976): annual, None when undefined."""
     f = mp_rate(s.finance)
     g = mp_rate(s.reinvest)
     T = s.years(s.n_periods) if s.periodic else s.years(s.flows[-1][0])
@@ -560,10 +561,10 @@ def decimals_tol(s: str) -> float:
 
 
 def check_published(pub, ref, got, ans) -> list[str]:
-    """FIELD.md's check values (source in the corpus' answers: ans['source'])."""
+    """The check values of docs/methods.md (source in the corpus' answers: ans['source'])."""
     who = "REFERENCE" if got is None else "engine"
     bad = []
-    src = ans.get("source", "FIELD.md")
+    src = ans.get("source", "docs/methods.md, Check values")
     if "annual_rates" in pub:
         if got is None:
             vals = [r["annual"] for r in ref["roots"]]

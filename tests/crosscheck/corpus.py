@@ -6,7 +6,7 @@ describing line i of the other:
 * corpus.jsonl: the batch input, one series a line (the command-line contract);
 * answers.jsonl: what the generator knows about each line: its kind, exact
   roots where the series was built from chosen roots, published values where a
-  series comes from FIELD.md, whether certification may honestly fail
+  series comes from the check values of docs/methods.md, whether certification may honestly fail
   ("ambiguous"), whether the line is meant to be rejected ("expect_error").
 
 Every series is drawn from one random.Random(seed), so the same seed gives the
@@ -412,10 +412,10 @@ def make_dated_30360(rng: random.Random, idx: int):
 
 
 def field_series() -> list[tuple[dict, dict]]:
-    """The check values of /work/shared/FIELD.md, with their sources."""
-    src_ls = "Lorie & Savage, Journal of Business 28 (1955) 229-239 [flows from memory; values computed], via FIELD.md"
-    src_mine = "corporate-finance textbook mine example [memory]; values computed, via FIELD.md"
-    src_nr = "corporate-finance textbook example [memory]; values computed, via FIELD.md"
+    """The check values of docs/methods.md (Check values), with their sources."""
+    src_ls = "Lorie & Savage, Journal of Business 28 (1955) 229-239 [flows from memory; values computed], via docs/methods.md"
+    src_mine = "corporate-finance textbook mine example [memory]; values computed, via docs/methods.md"
+    src_nr = "corporate-finance textbook example [memory]; values computed, via docs/methods.md"
     out = []
     out.append((
         {"id": "field-lorie-savage", "every": "year", "amounts": [-1600, 10000, -10000], "hurdle_rate": 0.10},
@@ -434,7 +434,7 @@ def field_series() -> list[tuple[dict, dict]]:
     ))
     out.append((
         {"id": "field-double-root", "every": "year", "amounts": [-100, 220, -121]},
-        {"kind": "field", "source": "computed (NPV = -(10 - 11v)^2), via FIELD.md",
+        {"kind": "field", "source": "computed (NPV = -(10 - 11v)^2), via docs/methods.md",
          "published": {"annual_rates": ["0.10"], "multiplicities": [2]},
          "known_growth": [{"x": "11/10", "multiplicity": 2}]},
     ))
@@ -443,7 +443,7 @@ def field_series() -> list[tuple[dict, dict]]:
             {"id": f"field-lorie-savage-dated-{dc.replace('/', '')}", "day_count": dc,
              "dated": [{"date": "2024-01-01", "amount": -1600}, {"date": "2025-01-01", "amount": 10000},
                        {"date": "2026-01-01", "amount": -10000}]},
-            {"kind": "field", "source": "computed, via FIELD.md", "published": {"annual_rates": rates}},
+            {"kind": "field", "source": "computed, via docs/methods.md", "published": {"annual_rates": rates}},
         ))
     for line, ans in out:
         ans["id"] = line["id"]
