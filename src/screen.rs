@@ -507,6 +507,7 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
         certified: report.certified,
         roots,
         unresolved: report.unresolved,
+        exact_check: report.exact_check,
         npv_at_hurdle,
         mirr,
     })
@@ -522,6 +523,9 @@ struct Screened {
     roots: Vec<ScreenedRoot>,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     unresolved: Vec<[f64; 2]>,
+    /// Present when the exact check ran: "settled" or "over-budget".
+    #[serde(skip_serializing_if = "Option::is_none")]
+    exact_check: Option<&'static str>,
     /// Only with a hurdle rate: the NPV as a decimal string, or null.
     #[serde(skip_serializing_if = "Option::is_none")]
     npv_at_hurdle: Option<Option<String>>,

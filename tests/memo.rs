@@ -95,6 +95,7 @@ fn pump_scenario(name: &str, cautions: Vec<Caution>) -> ScenarioAnalysis {
                 root(4.0, ["-1600", "2000", "0"], [3.9999999, 4.0000001]),
             ],
             unresolved: vec![],
+            exact_check: None,
             complex_reading: None,
         },
         npv_at_hurdle: Some(dec("-773.55")),

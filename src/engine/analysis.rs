@@ -147,6 +147,11 @@ pub struct IrrReport {
     pub roots: Vec<Root>,
     /// Annual-rate intervals that could not be decided (empty when certified).
     pub unresolved: Vec<[f64; 2]>,
+    /// Present when the exact check ran (for multiple roots, undecided intervals or
+    /// roots too close for floats): "settled" when it proved the whole answer,
+    /// "over-budget" when the work did not fit its budget and the float answer stands.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub exact_check: Option<&'static str>,
     /// For a series with no real IRR: the rate-based reading from a complex root.
     pub complex_reading: Option<ComplexReading>,
 }

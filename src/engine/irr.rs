@@ -3,7 +3,7 @@
 
 use super::analysis::{BalanceKind, IrrReport, Root, SignBounds};
 use super::flows::Flows;
-use super::roots::{find_roots, RootSet};
+use super::roots::{find_roots, ExactCheck, RootSet};
 use super::{figures, Decision, Stance};
 
 /// Annual rates above this, or below -99%, describe no economic reality.
@@ -24,18 +24,45 @@ fn rate_from_log(log_growth: f64) -> Option<f64> {
     r.is_finite().then_some(r)
 }
 
-/// Widens a float interval by a few units in the last place on each side, so that the
-/// rounding of the conversion from `y` cannot move an end past the root.
-fn widen(lo: f64, hi: f64) -> [f64; 2] {
-    let down = lo - 8.0 * f64::EPSILON * lo.abs().max(f64::MIN_POSITIVE);
-    let up = hi + 8.0 * f64::EPSILON * hi.abs().max(f64::MIN_POSITIVE);
-    [down, up]
+/// Relative error allowed for the scaling of a log-growth bound to a year (the
+/// clock's step in years and its reciprocal are each rounded once, the product
+/// once more) and for the platform's `exp_m1` (not correctly rounded: glibc documents
+/// 1 to 2 ulp): four ulp for each, to spare.
+const SCALE_ULPS: f64 = 8.0 * f64::EPSILON;
+
+fn next_toward(v: f64, up: bool) -> f64 {
+    if v.is_nan() || v.is_infinite() {
+        return v;
+    }
+    if v == 0.0 {
+        let tiny = f64::from_bits(1);
+        return if up { tiny } else { -tiny };
+    }
+    let b = v.to_bits();
+    let away = (v > 0.0) == up;
+    f64::from_bits(if away { b + 1 } else { b - 1 })
 }
 
-/// The annual-rate interval for an interval of annual log growth, when both ends
-/// are finite binary floats.
+/// `v` moved down (`up` false) or up by the relative allowance `rel` and one more ulp.
+fn pad(v: f64, rel: f64, up: bool) -> f64 {
+    let d = rel * v.abs();
+    next_toward(if up { v + d } else { v - d }, up)
+}
+
+/// An outward interval for a float interval computed with a relative error of at most
+/// [`SCALE_ULPS`] at each end.
+fn widen(lo: f64, hi: f64) -> [f64; 2] {
+    [pad(lo, SCALE_ULPS, false), pad(hi, SCALE_ULPS, true)]
+}
+
+/// The annual-rate interval for an interval of annual log growth (each end computed
+/// with a relative error of at most [`SCALE_ULPS`]), when both ends are finite binary
+/// floats. The log ends are widened before `exp_m1`, whose slope 1 + r turns an
+/// absolute error in the log into a relative error of the rate that grows with the
+/// log itself (a root near 10^20 % carries 46 times the log's relative error).
 fn annual_interval(log_lo: f64, log_hi: f64) -> Option<[f64; 2]> {
-    let [lo, hi] = widen(log_lo.exp_m1(), log_hi.exp_m1());
+    let [l, h] = widen(log_lo, log_hi);
+    let [lo, hi] = widen(l.exp_m1(), h.exp_m1());
     (lo.is_finite() && hi.is_finite()).then_some([lo.max(-1.0), hi])
 }
 
@@ -110,10 +137,11 @@ pub fn report_from_set(
                 log10_annual_growth: log_annual / std::f64::consts::LN_10,
                 multiplicity: r.multiplicity,
                 interval: annual_interval(log_lo, log_hi),
-                log10_interval: widen(
-                    log_lo / std::f64::consts::LN_10,
-                    log_hi / std::f64::consts::LN_10,
-                ),
+                log10_interval: {
+                    // The scaled log ends, then the division by the rounded ln 10.
+                    let [l, h] = widen(log_lo, log_hi);
+                    widen(l / std::f64::consts::LN_10, h / std::f64::consts::LN_10)
+                },
                 balance_kind,
                 stance,
                 decision,
@@ -139,6 +167,11 @@ pub fn report_from_set(
             .iter()
             .map(|&(a, b)| annual_interval(a * per_year, b * per_year).unwrap_or([-1.0, f64::MAX]))
             .collect(),
+        exact_check: match set.exact {
+            ExactCheck::NotNeeded => None,
+            ExactCheck::Settled => Some("settled"),
+            ExactCheck::OverBudget => Some("over-budget"),
+        },
         complex_reading: None,
     }
 }
@@ -331,6 +364,19 @@ fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) ->
 /// One sentence saying how the count was established.
 fn certificate_text(set: &RootSet) -> String {
     let count = set.count();
+    if !set.certified && set.exact == ExactCheck::OverBudget {
+        return format!(
+            "Not certified: {count} root(s) found in binary floating point, with {} interval(s) undecided or roots too close to tell apart; the exact check (integer polynomial, square-free split, Descartes isolation) needed more than its work budget. The sign-change bound is {}.",
+            set.unresolved.len(),
+            set.descartes
+        );
+    }
+    if set.certified && set.exact == ExactCheck::Settled {
+        return format!(
+            "Count {count} proven exactly: the NPV as an integer polynomial, its square-free split by integer gcds giving each multiplicity, and every root isolated by Descartes' rule of signs in exact integers. Sign-change bound of the flows: {}.",
+            set.descartes
+        );
+    }
     if !set.certified {
         return format!(
             "Not certified: {count} root(s) found, but {} interval(s) could not be decided in binary floating point; the sign-change bound is {}.",

@@ -23,6 +23,8 @@
 //! against the Descartes/Laguerre bound and its parity. Anything left undecided is
 //! reported as such and the count is then not certified.
 
+pub mod exact;
+
 use super::dd::Dd;
 use num_bigint::BigInt;
 use num_traits::{One, Zero};
@@ -83,6 +85,23 @@ pub struct RootSet {
     /// and do not depend on the amounts' scale, such as the balance classification of
     /// batch screening.
     pub coefficients: Vec<f64>,
+    /// Whether the exact settling ran and what it gave (see [`exact`]).
+    pub exact: ExactCheck,
+    /// Word operations the exact settling spent (0 when it did not run).
+    pub exact_work: u64,
+}
+
+/// What the exact settling of a series did.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ExactCheck {
+    /// Not needed: the floating-point search certified every root as simple.
+    NotNeeded,
+    /// Every root, its multiplicity and its interval were proven in exact arithmetic.
+    Settled,
+    /// Needed, but the exact work did not fit its budget: the floating-point answer
+    /// stands, and a multiple root or undecided interval in it leaves the count
+    /// uncertified unless it was proven exactly at a short decimal rate.
+    OverBudget,
 }
 
 impl RootSet {
@@ -1190,6 +1209,8 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         evaluations: 0,
         proven_at: None,
         coefficients: Vec::new(),
+        exact: ExactCheck::NotNeeded,
+        exact_work: 0,
     };
     if descartes == 0 || amounts.len() < 2 {
         out.coefficients = c;
@@ -1371,8 +1392,70 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
         }
     }
     drop(solvers);
+    // Multiple roots, undecided pieces and intervals that touch are settled exactly.
+    let overlap = out.roots.windows(2).any(|w| w[0].hi >= w[1].lo);
+    if !out.certified || overlap || out.roots.iter().any(|r| r.multiplicity > 1) {
+        settle_exactly(&mut out, amounts, &exps);
+        if overlap && out.exact != ExactCheck::Settled {
+            out.certified = false;
+        }
+    }
     out.coefficients = series.c;
     out
+}
+
+/// Replaces the roots of `out` by those proven in exact arithmetic (see [`exact`])
+/// when that fits the work budget; records the outcome either way.
+fn settle_exactly(out: &mut RootSet, amounts: &[Decimal], exps: &[u64]) {
+    let mut work = exact::Work::new(exact::WORK_LIMIT);
+    let degree = exps.last().copied().unwrap_or(0);
+    // One modular gcd of a dense polynomial alone costs degree^2 word operations.
+    let found = if degree.saturating_mul(degree) >= exact::WORK_LIMIT {
+        Err(exact::OutOfBudget)
+    } else {
+        let p = exact::npv_polynomial(amounts, exps);
+        exact::positive_roots(&p, &mut work)
+    };
+    out.exact_work = work.spent();
+    let Ok(found) = found else {
+        out.exact = ExactCheck::OverBudget;
+        return;
+    };
+    let roots: Vec<FoundRoot> = found.iter().map(exact_found_root).collect();
+    let count: u32 = roots.iter().map(|r| r.multiplicity).sum();
+    let apart = roots.windows(2).all(|w| w[0].hi < w[1].lo);
+    out.roots = roots;
+    out.unresolved.clear();
+    out.exact = ExactCheck::Settled;
+    // Exact roots closer than floats can tell apart would leave intervals that touch.
+    out.certified = apart && count <= out.descartes && (out.descartes - count) % 2 == 0;
+}
+
+/// A root proven exactly, as a root in y with outward-rounded bounds.
+fn exact_found_root(r: &exact::ExactRoot) -> FoundRoot {
+    let (lo, _) = exact::log_bounds(&r.lo_num, &r.lo_den);
+    let (_, hi) = exact::log_bounds(&r.hi_num, &r.hi_den);
+    let exact_rate = if r.exact {
+        decimal_ratio(&r.lo_num, &r.lo_den).map(|x| x - Decimal::ONE)
+    } else {
+        None
+    };
+    FoundRoot {
+        lo,
+        hi,
+        y: if lo == hi { lo } else { 0.5 * (lo + hi) },
+        multiplicity: r.multiplicity,
+        exact_rate,
+    }
+}
+
+/// num / den as an exact decimal, when it is one that fits.
+fn decimal_ratio(num: &BigInt, den: &BigInt) -> Option<Decimal> {
+    use num_traits::ToPrimitive;
+    let (n, d) = (num.to_i128()?, den.to_i128()?);
+    let (n, d) = (Decimal::from_i128(n)?, Decimal::from_i128(d)?);
+    let q = n.checked_div(d)?;
+    (q.checked_mul(d)? == n).then_some(q)
 }
 
 /// A root in u = -y (the reversed series) as a root in y.
@@ -1762,9 +1845,8 @@ fn convex_case(
     }
     // The extremum value is within rounding of zero: a double root, or two roots (or
     // none) closer than binary floats can tell apart. Try to prove a double root exactly.
-    if let Some((rate, m, y0)) = exact_root_near(solver.s, ystar, p.min(a), q.max(b)) {
+    if let Some((rate, m, y0, (lo, hi))) = exact_root_near(solver.s, ystar, p.min(a), q.max(b)) {
         if m == 2 && y0 >= a && y0 <= b {
-            let (lo, hi) = around(y0);
             roots.push(FoundRoot {
                 lo,
                 hi,
@@ -1981,7 +2063,7 @@ fn settle_piece(
     }
     let mid = 0.5 * (a + b);
     let exact = exact_root_near(solver.s, mid, a, b);
-    if let (Some((rate, m0, y0)), Some(m)) = (exact, bound) {
+    if let (Some((rate, m0, y0, (lo, hi))), Some(m)) = (exact, bound) {
         let m0u = m0 as usize;
         if m0u <= m {
             // The proven root accounts for m0 of the at most m roots; the rest must
@@ -1994,7 +2076,6 @@ fn settle_piece(
                 dd_brackets(solver.s, a, b, sa, sb, expected)
             };
             if let Some(brackets) = brackets {
-                let (lo, hi) = around(y0);
                 let mut found = vec![FoundRoot {
                     lo,
                     hi,
@@ -2012,7 +2093,7 @@ fn settle_piece(
             }
         }
     }
-    if let Some((rate, m0, y0)) = exact {
+    if let Some((rate, m0, y0, (lo, hi))) = exact {
         if (m0 as usize) < ORDERS && y0 > a && y0 < b {
             let mut delta = 0.5 * (b - a);
             for _ in 0..40 {
@@ -2033,7 +2114,6 @@ fn settle_piece(
                         if jl > a {
                             found.extend(settle_piece(solver, a, jl, sa, sl, depth + 1)?);
                         }
-                        let (lo, hi) = around(y0);
                         found.push(FoundRoot {
                             lo,
                             hi,
@@ -2060,16 +2140,21 @@ fn settle_piece(
     Some(found)
 }
 
-/// A float interval surely containing ln(1 + rate) when `y0` is its rounded value
-/// (the logarithm is within an ulp or two; a few more for safety).
-fn around(y0: f64) -> (f64, f64) {
-    let d = 8.0 * f64::EPSILON * y0.abs().max(f64::MIN_POSITIVE);
-    (y0 - d, y0 + d)
-}
-
 /// Looks for a short decimal rate per step near `y` (within [lo, hi]) at which f and
-/// its first derivatives vanish exactly. Returns (rate, multiplicity, y of the rate).
-fn exact_root_near(s: &Series, y: f64, lo: f64, hi: f64) -> Option<(Decimal, u32, f64)> {
+/// its first derivatives vanish exactly. Returns (rate, multiplicity, y of the rate,
+/// an interval of floats certain to hold that y).
+///
+/// The interval comes from the exact rate (see [`exact::log_growth_bounds`]), not
+/// from the float `y`: `1 + rate` rounded to binary is off by up to 1.1e-16 absolute,
+/// which is a relative error of 1.1e-16 / |y| in y = ln(1 + rate), far more than a few
+/// ulps of y for a rate near 0% (1e-13 at 0.1%) or near -100%.
+#[allow(clippy::type_complexity)]
+fn exact_root_near(
+    s: &Series,
+    y: f64,
+    lo: f64,
+    hi: f64,
+) -> Option<(Decimal, u32, f64, (f64, f64))> {
     if s.last_n() as u64 > EXACT_DEGREE_LIMIT {
         return None;
     }
@@ -2091,7 +2176,7 @@ fn exact_root_near(s: &Series, y: f64, lo: f64, hi: f64) -> Option<(Decimal, u32
             continue;
         }
         tried.push(cand);
-        let yc = (1.0 + cand.to_f64()?).ln() * if s.reversed { -1.0 } else { 1.0 };
+        let yc = cand.to_f64()?.ln_1p() * if s.reversed { -1.0 } else { 1.0 };
         let margin = 1e-9 * (hi - lo).abs().max(1e-12) + 4.0 * f64::EPSILON * yc.abs();
         if yc < lo - margin || yc > hi + margin {
             continue;
@@ -2103,7 +2188,10 @@ fn exact_root_near(s: &Series, y: f64, lo: f64, hi: f64) -> Option<(Decimal, u32
             std::mem::swap(&mut p, &mut q);
         }
         if let Some(m) = exact_multiplicity(s, &p, &q) {
-            return Some((cand, m, yc));
+            let (glo, ghi) = exact::log_growth_bounds(cand)?;
+            let bounds = if s.reversed { (-ghi, -glo) } else { (glo, ghi) };
+            let y0 = 0.5 * (bounds.0 + bounds.1);
+            return Some((cand, m, y0, bounds));
         }
     }
     None
