@@ -2295,7 +2295,7 @@ mod tests {
 
     #[test]
     fn lorie_savage_two_roots() {
-        // Lorie & Savage, Journal of Business 28 (1955) [flows from memory; values per FIELD.md]
+        // Lorie & Savage, Journal of Business 28 (1955) [flows from memory; values per docs/methods.md, check values]
         let rs = yearly(&[dec!(-1600), dec!(10000), dec!(-10000)]);
         assert!(rs.certified);
         assert_eq!(rs.count(), 2);
@@ -2311,7 +2311,7 @@ mod tests {
 
     #[test]
     fn mine_two_roots() {
-        // Corporate-finance textbook mine example [memory]; roots per FIELD.md [computed]
+        // Corporate-finance textbook mine example [memory]; roots per docs/methods.md [computed]
         let mut a = vec![dec!(-30)];
         a.extend(std::iter::repeat_n(dec!(10), 9));
         a.push(dec!(-65));
@@ -2325,7 +2325,7 @@ mod tests {
 
     #[test]
     fn no_real_root() {
-        // FIELD.md: 1000, -3000, 2500 has complex roots 50% +- 50i% only [computed]
+        // docs/methods.md: 1000, -3000, 2500 has complex roots 50% +- 50i% only [computed]
         let rs = yearly(&[dec!(1000), dec!(-3000), dec!(2500)]);
         assert!(rs.certified);
         assert_eq!(rs.count(), 0);
@@ -2334,7 +2334,7 @@ mod tests {
 
     #[test]
     fn double_root_found() {
-        // FIELD.md: -100, 220, -121 = -(10 - 11v)^2: one IRR 10% of multiplicity 2 [computed]
+        // docs/methods.md: -100, 220, -121 = -(10 - 11v)^2: one IRR 10% of multiplicity 2 [computed]
         let rs = yearly(&[dec!(-100), dec!(220), dec!(-121)]);
         assert!(rs.certified, "{rs:?}");
         assert_eq!(rs.roots.len(), 1);
