@@ -219,11 +219,6 @@ fn stance_and_decision(
     (stance, decision)
 }
 
-/// The balance-path classification without building the rows (batch screening): the
-/// rule of [`figures::balance_kind`] on binary-float balances, computed in the stable
-/// direction as [`figures::balances_at_root`] does (backwards above 0%, forwards at or
-/// below it). Times are integer clock offsets, so the growth factor of each distinct
-/// gap is computed once.
 /// [`balance_kind_f64`] above 0% for evenly spaced flows (`per_unit` the log growth a
 /// clock unit), four steps at a time: the balance four steps back is the current one
 /// (less the flow) shrunk four times, less the other three flows shrunk, and only that
@@ -304,13 +299,38 @@ fn kind_of(positive: bool, negative: bool) -> BalanceKind {
     }
 }
 
+/// Balances within this of zero count as zero: a billionth of the largest flow, the
+/// tolerance of [`figures::balance_kind`].
+fn tolerance(pts: &[(i64, f64)]) -> f64 {
+    pts.iter().map(|p| p.1.abs()).fold(0.0, f64::max) * 1e-9
+}
+
+/// The balance-path classification without building the rows (batch screening): the
+/// rule of [`figures::balance_kind`] on binary-float balances, computed in the stable
+/// direction as [`figures::balances_at_root`] does (backwards above 0%, forwards at or
+/// below it). Times are integer clock offsets, so the growth factor of each distinct
+/// gap is computed once.
 fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) -> BalanceKind {
+    if pts.is_empty() {
+        return BalanceKind::PureInvestment;
+    }
+    if log_growth > 0.0 {
+        let per_unit = log_growth / units_per_year.max(1) as f64;
+        if let Some(kind) = balance_kind_even(pts, tolerance(pts), per_unit) {
+            return kind;
+        }
+    }
+    balance_kind_steps(pts, units_per_year, log_growth)
+}
+
+/// [`balance_kind_f64`] one flow at a time, for any spacing (the reference of
+/// [`balance_kind_even`]).
+fn balance_kind_steps(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) -> BalanceKind {
     let n = pts.len();
     if n == 0 {
         return BalanceKind::PureInvestment;
     }
-    let scale = pts.iter().map(|p| p.1.abs()).fold(0.0, f64::max);
-    let tol = scale * 1e-9;
+    let tol = tolerance(pts);
     let per_unit = log_growth / units_per_year.max(1) as f64;
     let mut cached = (i64::MIN, 1.0f64);
     let mut factor = |gap: i64, sign: f64| {
@@ -340,9 +360,6 @@ fn balance_kind_f64(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) ->
             negative |= bal < -tol;
         }
     } else {
-        if let Some(kind) = balance_kind_even(pts, tol, per_unit) {
-            return kind;
-        }
         // Backwards from the zero balance after the last flow: each step shrinks, so
         // rounding errors do not grow.
         let mut bal = 0.0f64;
@@ -403,4 +420,366 @@ fn certificate_text(set: &RootSet) -> String {
         "Count {count} proven complete: every interval of rates was settled by enclosures with rigorous rounding-error bounds, and the count is within the sign-change bound {} with the same parity (Descartes; Laguerre for uneven times).{norstrom}",
         set.descartes
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::engine::figures::tests::{lorie_savage, periodic};
+    use crate::engine::flows::FlowPoint;
+    use proptest::prelude::*;
+    use rust_decimal::Decimal;
+
+    fn annual_rates(report: &IrrReport) -> Vec<f64> {
+        report
+            .roots
+            .iter()
+            .map(|r| r.annual_rate.expect("a finite rate"))
+            .collect()
+    }
+
+    /// Each rate within `tol` of the expected one, in order, and nothing else.
+    fn assert_rates(report: &IrrReport, expected: &[f64], tol: f64) {
+        let found = annual_rates(report);
+        assert_eq!(
+            found.len(),
+            expected.len(),
+            "{found:?} against {expected:?}"
+        );
+        for (f, e) in found.iter().zip(expected) {
+            assert!((f - e).abs() <= tol, "{found:?} against {expected:?}");
+        }
+        assert_eq!(report.count as usize, expected.len());
+    }
+
+    /// The examples of the `irr` docstring of numpy-financial 1.0.0 (published rounded
+    /// to five decimals), with every real root of each series computed independently
+    /// with mpmath's `polyroots` at 40 digits in the growth factor `1 + r`. numpy-financial
+    /// returns one root per series; the engine must return all of them, that one
+    /// included.
+    #[test]
+    fn the_numpy_financial_examples_with_every_root() {
+        let cases: [(&[&str], &[f64], f64); 5] = [
+            (
+                &["-100", "39", "59", "55", "20"],
+                &[0.2809484211599611],
+                0.28095,
+            ),
+            (&["-100", "0", "0", "74"], &[-0.09549583034897252], -0.0955),
+            (
+                &["-100", "100", "0", "-7"],
+                &[-0.6788943736323865, -0.08329966618493269],
+                -0.0833,
+            ),
+            (&["-100", "100", "0", "7"], &[0.06205848562992946], 0.06206),
+            (
+                &["-5", "10.5", "1", "-8", "1"],
+                &[-0.8702012474847412, 0.08859833852775535, 0.7095595276861836],
+                0.0886,
+            ),
+        ];
+        for (amounts, roots, published) in cases {
+            let report = irr_report(&periodic(amounts, 1), Some(0.1), true);
+            assert_rates(&report, roots, 1e-12);
+            assert!(report.certified, "{amounts:?}");
+            assert!(
+                annual_rates(&report)
+                    .iter()
+                    .any(|r| (r - published).abs() < 5e-5 + 1e-12),
+                "{amounts:?}: the published {published} is not among the roots"
+            );
+        }
+    }
+
+    /// The pump of Lorie and Savage (1955): −1,600, +10,000, −10,000 a year apart have
+    /// IRRs of exactly 25% and 400%. Their balance paths (Teichroew, Robichek and
+    /// Montalbano 1965: F_0 = C_0, F_k = F_(k-1)(1 + r) + C_k) are −1,600, 8,000, 0 at
+    /// 25% and −1,600, 2,000, 0 at 400% (worked by hand): both mixed. At a 10% hurdle
+    /// the NPV is −1,600 + 10,000/1.1 − 10,000/1.21 = −773.55 < 0 (by hand), and by
+    /// Hazen (2003), NPV(h) = (k − h) PV_h at a root k, so with k above h the capital's
+    /// present value is negative at both roots: both are borrowing, both rejected.
+    #[test]
+    fn the_pump_of_lorie_and_savage() {
+        let report = irr_report(&lorie_savage(), Some(0.10), true);
+        assert_rates(&report, &[0.25, 4.0], 1e-13);
+        assert!(report.certified);
+        assert_eq!(report.upper_bound, 2);
+        let balances: Vec<Vec<Decimal>> = report
+            .roots
+            .iter()
+            .map(|r| r.balance_path.iter().map(|b| b.balance).collect())
+            .collect();
+        assert_eq!(
+            balances,
+            [
+                [Decimal::from(-1600), Decimal::from(8000), Decimal::ZERO],
+                [Decimal::from(-1600), Decimal::from(2000), Decimal::ZERO]
+            ]
+        );
+        for r in &report.roots {
+            assert_eq!(r.balance_kind, BalanceKind::Mixed);
+            assert_eq!(r.stance, Stance::Borrowing);
+            assert_eq!(r.decision, Decision::Reject);
+            assert!(
+                !r.extreme,
+                "400% is within the range this module calls ordinary"
+            );
+            assert_eq!(r.multiplicity, 1);
+            // The certified interval holds the exact root, in rates and in log10(1 + r).
+            let [lo, hi] = r.interval.expect("finite interval");
+            let k = r.annual_rate.expect("rate");
+            let exact = if k < 1.0 { 0.25 } else { 4.0 };
+            assert!(lo <= exact && exact <= hi, "{lo} {hi}");
+            let log10 = (1.0f64 + exact).log10();
+            assert!(r.log10_interval[0] <= log10 && log10 <= r.log10_interval[1]);
+        }
+        // Batch screening classifies without the rows, and agrees.
+        let fast = irr_report(&lorie_savage(), Some(0.10), false);
+        assert!(fast.roots.iter().all(|r| r.balance_path.is_empty()));
+        assert_eq!(
+            fast.roots
+                .iter()
+                .map(|r| r.balance_kind)
+                .collect::<Vec<_>>(),
+            [BalanceKind::Mixed, BalanceKind::Mixed]
+        );
+    }
+
+    /// A single investment: −100 then +121 two years later has its IRR at exactly 10%
+    /// (1.1² = 1.21, by hand); below the root an investment is accepted, above it
+    /// rejected (common practice). A loan, +100 then −121, is the mirror: pure
+    /// borrowing, accepted only when the hurdle is above its rate.
+    #[test]
+    fn an_investment_and_a_loan_at_ten_percent() {
+        let invest = periodic(&["-100", "0", "121"], 1);
+        let at_8 = irr_report(&invest, Some(0.08), true);
+        assert_rates(&at_8, &[0.10], 1e-14);
+        let r = &at_8.roots[0];
+        assert_eq!(r.balance_kind, BalanceKind::PureInvestment);
+        assert_eq!(
+            (r.stance, r.decision),
+            (Stance::Investment, Decision::Accept)
+        );
+        let at_12 = irr_report(&invest, Some(0.12), true);
+        assert_eq!(at_12.roots[0].decision, Decision::Reject);
+
+        let loan = periodic(&["100", "0", "-121"], 1);
+        let at_12 = irr_report(&loan, Some(0.12), true);
+        let r = &at_12.roots[0];
+        assert_eq!(r.balance_kind, BalanceKind::PureBorrowing);
+        assert_eq!(
+            (r.stance, r.decision),
+            (Stance::Borrowing, Decision::Accept)
+        );
+        assert_eq!(
+            irr_report(&loan, Some(0.08), true).roots[0].decision,
+            Decision::Reject
+        );
+        // Without a hurdle nothing is decided.
+        let none = irr_report(&invest, None, true);
+        assert_eq!(
+            (none.roots[0].stance, none.roots[0].decision),
+            (Stance::Neutral, Decision::Indifferent)
+        );
+    }
+
+    /// A monthly series: −100 then +101 a month later earns 1% a month, which is
+    /// 1.01¹² − 1 = 0.126825030131969720661201 a year (exact decimal expansion,
+    /// computed by hand from the binomial expansion and checked with Python's
+    /// `decimal` module).
+    #[test]
+    fn a_monthly_rate_and_its_annual_equivalent() {
+        let report = irr_report(&periodic(&["-100", "101"], 12), Some(0.05), true);
+        assert_rates(&report, &[0.12682503013196972], 1e-14);
+        let periodic_rate = report.roots[0].periodic_rate.expect("a periodic rate");
+        assert!((periodic_rate - 0.01).abs() < 1e-15, "{periodic_rate}");
+        // Dated flows carry no periodic rate: the same flows 31 days apart on an
+        // Act/365F clock grow by 1.01^(365/31) a year.
+        let dated = flows_at(&[Decimal::from(-100), Decimal::from(101)], &[0, 31], 365);
+        let report = irr_report(&dated, Some(0.05), true);
+        let expected = 1.01f64.powf(365.0 / 31.0) - 1.0;
+        assert_rates(&report, &[expected], 1e-13);
+        assert_eq!(report.roots[0].periodic_rate, None);
+    }
+
+    /// A double root: −1, +2.2, −1.21 is −(1.1 − x)² in x = 1 + r, so 10% is a root of
+    /// multiplicity two (by hand); Descartes' bound is two and the count, with
+    /// multiplicity, is two.
+    #[test]
+    fn a_double_root_at_ten_percent() {
+        let report = irr_report(&periodic(&["-1", "2.2", "-1.21"], 1), Some(0.05), true);
+        assert_eq!(report.roots.len(), 1);
+        let r = &report.roots[0];
+        assert_eq!(r.multiplicity, 2);
+        assert!((r.annual_rate.expect("rate") - 0.10).abs() < 1e-12);
+        assert_eq!(report.count, 2);
+    }
+
+    /// Flows that never change sign have no IRR (Descartes' rule of signs), and
+    /// 1,000, −3,000, 2,500 has none either: 1000x² − 3000x + 2500 has discriminant
+    /// 9·10⁶ − 10⁷ < 0 (by hand), though its signs change twice.
+    #[test]
+    fn no_real_rate() {
+        let same_sign = irr_report(&periodic(&["100", "50", "25"], 1), Some(0.1), true);
+        assert_eq!((same_sign.count, same_sign.upper_bound), (0, 0));
+        assert!(same_sign.certified && same_sign.roots.is_empty());
+        let complex = irr_report(&periodic(&["1000", "-3000", "2500"], 1), Some(0.1), true);
+        assert_eq!((complex.count, complex.upper_bound), (0, 2));
+        assert!(complex.certified && complex.roots.is_empty());
+    }
+
+    /// −1 then +16 a year later is 1,500% (by hand): beyond [`EXTREME_HIGH`], so flagged;
+    /// −100 then +0.5 is −99.5%, below [`EXTREME_LOW`].
+    #[test]
+    fn extreme_rates_are_flagged() {
+        let high = irr_report(&periodic(&["-1", "16"], 1), None, true);
+        assert_rates(&high, &[15.0], 1e-12);
+        assert!(high.roots[0].extreme);
+        let low = irr_report(&periodic(&["-100", "0.5"], 1), None, true);
+        assert_rates(&low, &[-0.995], 1e-12);
+        assert!(low.roots[0].extreme);
+    }
+
+    /// The conversions this module makes: `rate_from_log` is `e^y − 1` and gives up
+    /// past binary floats; `widen` moves each end outwards.
+    #[test]
+    fn conversions() {
+        assert_eq!(rate_from_log(0.0), Some(0.0));
+        assert!((rate_from_log(2.0f64.ln()).expect("finite") - 1.0).abs() < 1e-15);
+        assert_eq!(rate_from_log(1000.0), None);
+        let [lo, hi] = widen(0.25, 0.25);
+        assert!(lo < 0.25 && 0.25 < hi && hi - lo < 1e-14);
+        let [lo, hi] = widen(-0.5, 0.0);
+        assert!(lo < -0.5 && hi > 0.0);
+        assert_eq!(annual_interval(-800.0, 0.0).expect("finite")[0], -1.0);
+        assert_eq!(annual_interval(0.0, 1000.0), None);
+    }
+
+    /// Periodic amounts (cents) in `-200_000..200_000` as decimals with two places.
+    fn cents(raw: &[i64]) -> Vec<Decimal> {
+        raw.iter().map(|&c| Decimal::new(c, 2)).collect()
+    }
+
+    fn flows_at(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> Flows {
+        Flows {
+            points: amounts
+                .iter()
+                .zip(offsets)
+                .map(|(&amount, &offset)| FlowPoint {
+                    offset,
+                    amount,
+                    date: None,
+                    period: None,
+                    note: None,
+                })
+                .collect(),
+            units_per_year,
+            periods_per_year: None,
+        }
+        .into_normalised()
+    }
+
+    /// A series that changes sign (so may have roots), with strictly increasing offsets.
+    fn series() -> impl Strategy<Value = Flows> {
+        (
+            proptest::collection::vec((-200_000i64..200_000, 1i64..60), 2..40),
+            prop_oneof![Just(1u64), Just(4), Just(12), Just(365)],
+            proptest::bool::ANY,
+        )
+            .prop_map(|(raw, units, even)| {
+                let amounts = cents(&raw.iter().map(|r| r.0).collect::<Vec<_>>());
+                let mut t = 0;
+                let offsets: Vec<i64> = raw
+                    .iter()
+                    .map(|&(_, gap)| {
+                        let at = t;
+                        t += if even { 1 } else { gap };
+                        at
+                    })
+                    .collect();
+                flows_at(&amounts, &offsets, units)
+            })
+    }
+
+    /// The balance rows of a path, bar the last, are either zero or clear of both the
+    /// classification's tolerance and the cent the rows are rounded to: there the
+    /// float and the decimal readings cannot differ by rounding alone.
+    fn clear_of_the_tolerances(path: &[crate::engine::BalanceRow]) -> bool {
+        let scale = path.iter().map(|r| r.flow.abs()).max().unwrap_or_default();
+        let margin = (scale * Decimal::new(2, 9)).max(Decimal::new(2, 2));
+        path[..path.len().saturating_sub(1)]
+            .iter()
+            .all(|r| r.balance.is_zero() || r.balance.abs() > margin)
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(256))]
+
+        /// Batch screening (`with_paths` false) classifies each root's balance path in
+        /// binary floats, by the even-spacing route where it applies and step by step
+        /// otherwise; a deal builds the rows in cents and classifies them with
+        /// [`figures::balance_kind`], the reference. They agree at every root whose
+        /// balances are not within rounding of a tolerance.
+        #[test]
+        fn batch_balance_kinds_match_the_reference(flows in series(), hurdle in -0.5f64..2.0) {
+            let deal = irr_report(&flows, Some(hurdle), true);
+            let batch = irr_report(&flows, Some(hurdle), false);
+            prop_assert_eq!(deal.roots.len(), batch.roots.len());
+            for (d, b) in deal.roots.iter().zip(&batch.roots) {
+                prop_assume!(clear_of_the_tolerances(&d.balance_path));
+                prop_assert_eq!(d.balance_kind, figures::balance_kind(&d.balance_path));
+                prop_assert_eq!(
+                    b.balance_kind, d.balance_kind,
+                    "root {:?}, path {:?}", d.annual_rate, d.balance_path
+                );
+                prop_assert_eq!((b.stance, b.decision), (d.stance, d.decision));
+            }
+        }
+
+        /// The four-steps-at-a-time route gives the step-by-step classification at any
+        /// rate above 0% for evenly spaced flows, whenever it answers (it declines near
+        /// cancellation; the assumption makes proptest fail if it declines too often).
+        #[test]
+        fn four_steps_at_a_time_match_one_step_at_a_time(
+            raw in proptest::collection::vec(-200_000i64..200_000, 8..80),
+            gap in 1i64..4,
+            units in prop_oneof![Just(1u64), Just(12), Just(365)],
+            log_growth in 1e-6f64..3.0,
+        ) {
+            let pts: Vec<(i64, f64)> = raw
+                .iter()
+                .enumerate()
+                .map(|(i, &c)| (i as i64 * gap, c as f64))
+                .collect();
+            prop_assume!(pts.iter().all(|p| p.1 != 0.0));
+            let per_unit = log_growth / units as f64;
+            let even = balance_kind_even(&pts, tolerance(&pts), per_unit);
+            prop_assume!(even.is_some());
+            prop_assert_eq!(even, Some(balance_kind_steps(&pts, units, log_growth)));
+        }
+    }
+
+    /// The even route does answer for an ordinary evenly spaced series (so the property
+    /// above compares something), and declines for uneven spacing and short series.
+    #[test]
+    fn the_even_route_applies_where_it_should() {
+        let pts: Vec<(i64, f64)> = (0..12)
+            .map(|i| (i, if i == 0 { -1000.0 } else { 150.0 }))
+            .collect();
+        let per_unit = 0.08f64.ln_1p();
+        assert_eq!(
+            balance_kind_even(&pts, tolerance(&pts), per_unit),
+            Some(balance_kind_steps(&pts, 1, per_unit))
+        );
+        let mut uneven = pts.clone();
+        uneven[11].0 = 12;
+        assert_eq!(
+            balance_kind_even(&uneven, tolerance(&uneven), per_unit),
+            None
+        );
+        assert_eq!(
+            balance_kind_even(&pts[..7], tolerance(&pts), per_unit),
+            None
+        );
+    }
 }

@@ -1,0 +1,498 @@
+//! The committee memo: markup, escaping, PDF/A-3b with the deal attached, fonts,
+//! reproducible bytes, and (once the engine is in) every example deal end to end.
+//!
+//! The PDF checks read the files back with `support::pdf` (the `lopdf` crate, a PDF
+//! reader independent of the typesetter that wrote them); `.ci/run` also checks the
+//! example memos with poppler-utils and `qpdf` (`poppler` module).
+
+use crate::support::pdf::Pdf;
+use crate::support::{example_deals, words as normalise};
+use candor::memo::{
+    build_memo, build_memo_with_changes, sha256_hex, MemoInputs, MemoOutput,
+};
+use candor::engine::{
+    Analysis, BalanceKind, BalanceRow, Caution, Decision, FlowRow, Flows, IrrReport, Payback,
+    ProfilePoint, Root, ScenarioAnalysis, SignBounds, Stance, Totals,
+};
+use candor::memo::{build_memo, build_memo_with_changes, sha256_hex, MemoInputs, MemoOutput};
+use candor::model::{
+    Clock, Deal, Frequency, Memo, MemoSection, Rates, Scenario, Signoff, SignoffDecision,
+};
+use chrono::NaiveDate;
+use rust_decimal::Decimal;
+use std::collections::BTreeMap;
+
+/// A deal name made of every Typst markup character; it must print literally.
+const HOSTILE: &str = "#read(\"/etc/hostname\") *x* $y$ <z> @w ][";
+
+fn dec(s: &str) -> Decimal {
+    s.parse().expect("test decimal")
+}
+
+/// The pump problem of Lorie and Savage (1955): flows −1,600, +10,000, −10,000 a year
+/// apart have IRRs of 25% and 400%. The balance paths, the NPV at 10% (−773.55), the
+/// MIRR at 10%/10% (5.60%) and the other figures below were worked by hand from
+/// those flows; this is test data for the memo stage, not engine output.
+fn pump_scenario(name: &str, cautions: Vec<Caution>) -> ScenarioAnalysis {
+    let amounts = ["-1600", "10000", "-10000"];
+    let flows: Vec<FlowRow> = amounts
+        .iter()
+        .enumerate()
+        .map(|(i, a)| FlowRow {
+            period: Some(i as u32),
+            date: Some(format!("{}-01-01", 2027 + i)),
+            years: i as f64,
+            amount: dec(a),
+            note: None,
+        })
+        .collect();
+    let path = |balances: [&str; 3]| -> Vec<BalanceRow> {
+        balances
+            .iter()
+            .zip(amounts)
+            .enumerate()
+            .map(|(i, (b, a))| BalanceRow {
+                years: i as f64,
+                flow: dec(a),
+                balance: dec(b),
+            })
+            .collect()
+    };
+    let root = |rate: f64, balances, interval: [f64; 2]| Root {
+        annual_rate: Some(rate),
+        periodic_rate: Some(rate),
+        log10_annual_growth: (1.0 + rate).log10(),
+        multiplicity: 1,
+        interval: Some(interval),
+        log10_interval: [(1.0 + interval[0]).log10(), (1.0 + interval[1]).log10()],
+        balance_kind: BalanceKind::Mixed,
+        stance: Stance::Borrowing,
+        decision: Decision::Reject,
+        extreme: false,
+        balance_path: path(balances),
+    };
+    ScenarioAnalysis {
+        name: name.to_string(),
+        hurdle_rate: 0.10,
+        finance_rate: 0.10,
+        reinvestment_rate: 0.10,
+        periods_per_year: Some(1),
+        flows,
+        totals: Totals {
+            inflows: dec("10000"),
+            outflows: dec("-11600"),
+            net: dec("-1600"),
+            horizon_years: 2.0,
+        },
+        irr: IrrReport {
+            count: 2,
+            upper_bound: 2,
+            certified: true,
+            bounds: SignBounds {
+                descartes: 2,
+                above_zero: Some(2),
+                below_zero: Some(0),
+            },
+            method: "two roots isolated, matching the sign-change bound of two.".to_string(),
+            roots: vec![
+                root(0.25, ["-1600", "8000", "0"], [0.2499999, 0.2500001]),
+                root(4.0, ["-1600", "2000", "0"], [3.9999999, 4.0000001]),
+            ],
+            unresolved: vec![],
+            exact_check: None,
+            complex_reading: None,
+        },
+        npv_at_hurdle: Some(dec("-773.55")),
+        npv_at_hurdle_approx: None,
+        decision: Decision::Reject,
+        mirr: Some(0.05599),
+        return_on_invested_capital: None,
+        money_multiple: Some(dec("0.86")),
+        profitability_index: Some(0.9216),
+        payback: Payback {
+            simple_years: Some(0.16),
+            discounted_years: Some(0.176),
+            turns_negative_again: true,
+        },
+        npv_profile: (0..=50)
+            .map(|i| {
+                let r = -0.2 + 0.1 * i as f64;
+                ProfilePoint {
+                    rate: r,
+                    npv: -1600.0 + 10000.0 / (1.0 + r) - 10000.0 / ((1.0 + r) * (1.0 + r)),
+                }
+            })
+            .collect(),
+        cautions,
+    }
+}
+
+fn caution(code: &str, title: &str, text: &str) -> Caution {
+    Caution {
+        code: code.to_string(),
+        title: title.to_string(),
+        text: text.to_string(),
+    }
+}
+
+fn sample(name: &str, decision: SignoffDecision) -> (Analysis, Deal) {
+    let base = pump_scenario(
+        "base",
+        vec![caution(
+            "multiple-irr",
+            "Two rates of return",
+            "These flows have two IRRs, 25.00% and 400.00%; neither alone describes the deal.",
+        )],
+    );
+    let hostile_scenario = pump_scenario(
+        HOSTILE,
+        vec![caution(
+            "test-hostile",
+            HOSTILE,
+            &format!("{HOSTILE} = - + / ~ ' \\ _"),
+        )],
+    );
+    let analysis = Analysis {
+        deal: name.to_string(),
+        currency: "EUR".to_string(),
+        scenarios: vec![base, hostile_scenario],
+    };
+    let flows = Flows::periodic(["-1600", "10000", "-10000"].iter().map(|a| dec(a)), 1);
+    let deal = Deal {
+        name: name.to_string(),
+        currency: "EUR".to_string(),
+        as_of: NaiveDate::from_ymd_opt(2026, 11, 30).expect("date"),
+        rates: Rates {
+            hurdle: dec("0.10"),
+            finance: dec("0.10"),
+            reinvestment: dec("0.10"),
+        },
+        clock: Clock::Periodic {
+            every: Frequency::Year,
+            start: NaiveDate::from_ymd_opt(2027, 1, 1),
+        },
+        scenarios: vec![
+            Scenario {
+                name: "base".to_string(),
+                description: String::new(),
+                flows: flows.clone(),
+            },
+            Scenario {
+                name: HOSTILE.to_string(),
+                description: "inflows \u{00d7} 1 (unchanged, for the test)".to_string(),
+                flows,
+            },
+        ],
+        memo: Memo {
+            recommendation: Some(format!("Decline. {HOSTILE}")),
+            summary: Some(
+                "A pump replaced early: money in, money out.\n\nSecond paragraph.".to_string(),
+            ),
+            risks: vec![format!("Risk with markup: {HOSTILE}")],
+            sections: vec![MemoSection {
+                title: format!("Section {HOSTILE}"),
+                text: "Body of a further section.".to_string(),
+            }],
+        },
+        signoff: Some(Signoff {
+            prepared_by: Some("A. Analyst".to_string()),
+            reviewed_by: None,
+            decision,
+            date: NaiveDate::from_ymd_opt(2026, 12, 15),
+        }),
+    };
+    (analysis, deal)
+}
+
+const SOURCE: &[u8] =
+    b"candor: 1\ndeal:\n  name: test\n# bytes only; the attachment must equal them\n";
+
+fn memo_of(analysis: &Analysis, deal: &Deal) -> MemoOutput {
+    build_memo(
+        analysis,
+        deal,
+        MemoInputs {
+            source: SOURCE,
+            source_name: "pump.yaml",
+            templates: BTreeMap::new(),
+            created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
+        },
+    )
+    .unwrap_or_else(|f| panic!("memo failed: {}", f.render()))
+}
+
+#[test]
+fn hostile_text_prints_literally() {
+    let (analysis, deal) = sample(HOSTILE, SignoffDecision::Pending);
+    let memo = memo_of(&analysis, &deal);
+    let pdf = Pdf::parse(&memo.pdf);
+    let text = pdf.text();
+    // The name appears in the title block, the headline table, the caution box and the
+    // scenario heading; each must be the literal characters.
+    assert!(
+        text.matches(HOSTILE).count() >= 4,
+        "hostile name not literal in:\n{text}"
+    );
+    assert!(
+        text.contains(&format!("{HOSTILE} = - + / ~ ' \\ _")),
+        "{text}"
+    );
+    // Metadata title is the name too (the document information dictionary).
+    assert_eq!(pdf.info("Title").as_deref(), Some(HOSTILE));
+    assert_eq!(pdf.info("Author").as_deref(), Some("A. Analyst"));
+}
+
+#[test]
+fn pdf_is_archival_with_the_deal_attached() {
+    let (analysis, deal) = sample("Pump replacement", SignoffDecision::Pending);
+    let memo = memo_of(&analysis, &deal);
+    let pdf = Pdf::parse(&memo.pdf);
+    // PDF/A-3b is declared in the XMP metadata (ISO 19005-3: pdfaid:part 3, conformance B).
+    let meta = pdf.xmp();
+    assert!(meta.contains("<pdfaid:part>3</pdfaid:part>"), "{meta}");
+    assert!(
+        meta.contains("<pdfaid:conformance>B</pdfaid:conformance>"),
+        "{meta}"
+    );
+    // The attachment is the exact input.
+    assert_eq!(
+        pdf.attachments(),
+        [("pump.yaml".to_string(), SOURCE.to_vec())]
+    );
+    // Every font is embedded, as a subset (ISO 19005-3, 6.2.11.4: fonts embedded).
+    let fonts = pdf.fonts();
+    assert!(!fonts.is_empty());
+    for font in &fonts {
+        assert!(font.embedded, "font not embedded: {font:?}");
+        assert!(font.subset(), "font not subset: {font:?}");
+    }
+    pdf.check_structure();
+    // The footer: page x of y with the short hash, on every page.
+    let pages = pdf.pages();
+    let short = &sha256_hex(SOURCE)[..12];
+    for p in 1..=pages {
+        let page = pdf.page_text(p);
+        assert!(
+            page.contains(&format!("page {p} of {pages}")),
+            "page {p}: {page}"
+        );
+        assert!(page.contains(short), "page {p} lacks the hash: {page}");
+        assert!(page.contains("DRAFT"), "page {p} lacks the draft mark");
+    }
+}
+
+#[test]
+fn approved_memo_has_no_draft_mark() {
+    let (analysis, deal) = sample("Pump replacement", SignoffDecision::Approved);
+    let memo = memo_of(&analysis, &deal);
+    let text = Pdf::parse(&memo.pdf).text();
+    assert!(!text.contains("DRAFT"), "{text}");
+    assert!(text.contains("Approved"));
+}
+
+#[test]
+fn memo_states_the_figures() {
+    let (analysis, deal) = sample("Pump replacement", SignoffDecision::Pending);
+    let memo = memo_of(&analysis, &deal);
+    let text = Pdf::parse(&memo.pdf).text();
+    // Hand-worked figures of the pump problem (see `pump_scenario`).
+    for needle in [
+        "25.00%",
+        "400.00%",
+        "\u{2212}773.55",
+        "5.60%",
+        "0.86\u{00d7}",
+        "8,000.00",
+        "2,000.00",
+        "Two rates of return",
+        "neither alone describes the deal",
+        "not investment advice",
+    ] {
+        assert!(text.contains(needle), "missing {needle:?} in:\n{text}");
+    }
+}
+
+#[test]
+fn same_input_gives_the_same_bytes() {
+    let (analysis, deal) = sample("Pump replacement", SignoffDecision::Pending);
+    let a = memo_of(&analysis, &deal);
+    let b = memo_of(&analysis, &deal);
+    assert_eq!(a.markup, b.markup);
+    assert!(a.pdf == b.pdf, "two builds of one input differ");
+}
+
+#[test]
+fn markup_snapshot() {
+    let (analysis, deal) = sample("Pump replacement", SignoffDecision::Pending);
+    let memo = memo_of(&analysis, &deal);
+    insta::assert_snapshot!("pump_markup", memo.markup);
+}
+
+#[test]
+fn every_markup_character_survives_typesetting() {
+    // Each character with a meaning in Typst markup, alone and in the combinations
+    // that form shorthands (`--`, `---`, `...`, `-?`, `~`) and line-start markers.
+    let hostile = "\\ # * _ ` $ < > @ [ ] = - + / ~ \" ' . : -- --- ... -? // /* */ 1. http://x.y";
+    let markup = format!(
+        "#set text(font: \"Libertinus Serif\")\n{}\n\n= {}\n",
+        candor::report::escape_markup(hostile),
+        candor::report::escape_markup("- + = / 2. heading-like")
+    );
+    let options = candor::pdf::TypesetOptions {
+        created: NaiveDate::from_ymd_opt(2026, 1, 2)
+            .and_then(|d| d.and_hms_opt(3, 4, 5))
+            .expect("time"),
+        ident: "escape-test".to_string(),
+    };
+    let pdf = candor::pdf::typeset(&markup, &[], &options)
+        .unwrap_or_else(|d| panic!("{}", d.render(Some(&markup))));
+    let text = Pdf::parse(&pdf).text();
+    assert!(text.contains(hostile), "{text}");
+    assert!(text.contains("- + = / 2. heading-like"), "{text}");
+}
+
+#[test]
+fn typst_errors_are_diagnostics() {
+    let options = candor::pdf::TypesetOptions {
+        created: NaiveDate::from_ymd_opt(2026, 1, 2)
+            .and_then(|d| d.and_hms_opt(0, 0, 0))
+            .expect("time"),
+        ident: "error-test".to_string(),
+    };
+    let err = candor::pdf::typeset("#let x = \n#unknown-function()", &[], &options)
+        .expect_err("bad markup must fail");
+    assert_eq!(err.code, "typeset");
+    let err = candor::pdf::typeset("#image(\"/missing.svg\")", &[], &options)
+        .expect_err("a missing file must fail");
+    assert_eq!(err.code, "typeset");
+}
+
+#[test]
+fn charts_are_svg_that_typst_can_read() {
+    let scenario = pump_scenario("base", vec![]);
+    let charts = candor::chart::render(&scenario, "EUR").expect("charts");
+    let files = charts.files(0);
+    assert_eq!(files.len(), 3, "profile, balance paths and cash flows");
+    for (name, svg) in &files {
+        let text = String::from_utf8(svg.clone()).expect("utf-8");
+        assert!(
+            text.starts_with("<svg") && text.trim_end().ends_with("</svg>"),
+            "{name}"
+        );
+        // Text asks for a face the memo bundles, not a generic family.
+        assert!(text.contains("Libertinus Serif"), "{name}");
+        assert!(!text.contains("sans-serif"), "{name}");
+    }
+    // The curve is drawn in Okabe–Ito blue, #0072B2 (Okabe and Ito 2008 palette).
+    assert!(String::from_utf8_lossy(&files[0].1)
+        .to_uppercase()
+        .contains("#0072B2"));
+    assert!(String::from_utf8_lossy(&files[0].1).contains("IRR 2: 400.00%"));
+    assert!(String::from_utf8_lossy(&files[0].1).contains("hurdle 10.00%"));
+    assert_eq!(charts.profile_range, Some((-0.2, -0.2 + 0.1 * 50.0)));
+    // Typst (usvg) parses each SVG: a page per chart typesets without error.
+    let markup: String = files
+        .iter()
+        .map(|(n, _)| format!("#image(\"{n}\", width: 100%)\n"))
+        .collect();
+    let options = candor::pdf::TypesetOptions {
+        created: NaiveDate::from_ymd_opt(2026, 1, 2)
+            .and_then(|d| d.and_hms_opt(0, 0, 0))
+            .expect("time"),
+        ident: "chart-test".to_string(),
+    };
+    let pdf = candor::pdf::typeset(&markup, &files, &options)
+        .unwrap_or_else(|d| panic!("{}", d.render(None)));
+    assert!(pdf.starts_with(b"%PDF-"));
+}
+
+/// Every shipped example deal becomes a memo whose text states each IRR, the NPV at
+/// the hurdle, the MIRR and every caution, as the engine computed them.
+#[test]
+fn every_example_deal_builds_a_memo() {
+    use candor::report::{format_npv, format_rate, format_root, scenario_rate_decimals};
+    for path in example_deals() {
+        let loaded = candor::files::load::load_deal(&path)
+            .unwrap_or_else(|f| panic!("{}: {:?}", path.display(), f.diagnostics));
+        let analysis = candor::engine::analyse(&loaded.deal);
+        let name = path
+            .file_name()
+            .expect("name")
+            .to_string_lossy()
+            .to_string();
+        let memo = build_memo(
+            &analysis,
+            &loaded.deal,
+            MemoInputs {
+                source: &loaded.source,
+                source_name: &name,
+                templates: BTreeMap::new(),
+                created: loaded.deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
+            },
+        )
+        .unwrap_or_else(|f| panic!("{name}: {}", f.render()));
+        let pdf = Pdf::parse(&memo.pdf);
+        let text = pdf.text();
+        for s in &analysis.scenarios {
+            let decimals = scenario_rate_decimals(s);
+            let mut needles: Vec<String> = s
+                .irr
+                .roots
+                .iter()
+                .map(|r| format_root(r, decimals))
+                .collect();
+            needles.push(format_npv(s));
+            if let Some(m) = s.mirr {
+                needles.push(format_rate(m, 2));
+            }
+            for c in &s.cautions {
+                needles.push(normalise(&c.title));
+                needles.push(normalise(&c.text));
+            }
+            for n in needles {
+                assert!(text.contains(&n), "{name}, {}: missing {n:?}", s.name);
+            }
+        }
+        let attached = pdf.attachments();
+        assert_eq!(attached.len(), 1, "{name}");
+        assert_eq!(attached[0].0, name);
+        assert_eq!(attached[0].1, loaded.source, "{name}");
+        pdf.check_structure();
+    }
+}
+
+/// The "changes since" section of a filed version prints its sentences literally, even
+/// when a changed narrative field is made of markup characters, and sits after the
+/// headline figures.
+#[test]
+fn changes_since_a_version_print_literally() {
+    let (analysis, deal) = sample("Pump", SignoffDecision::Pending);
+    let line = format!("Summary changed from \"old\" to \"{HOSTILE}\".");
+    let changes = candor::report::ChangesSince {
+        version: "007".to_string(),
+        lines: vec![line.clone()],
+    };
+    let memo = build_memo_with_changes(
+        &analysis,
+        &deal,
+        MemoInputs {
+            source: SOURCE,
+            source_name: "pump.yaml",
+            templates: BTreeMap::new(),
+            created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
+        },
+        Some(changes),
+    )
+    .unwrap_or_else(|f| panic!("memo failed: {}", f.render()));
+    assert!(!memo.markup.contains(HOSTILE), "unescaped in the markup");
+    let text = Pdf::parse(&memo.pdf).text();
+    assert!(text.contains(&line), "{line} not literal in:\n{text}");
+    let figures = text.find("The figures at a glance").expect("figures");
+    let changes = text
+        .find("Changes since version 007")
+        .expect("section title");
+    assert!(figures < changes);
+    // Without the section, the memo has no such heading.
+    let plain = memo_of(&analysis, &deal);
+    assert!(!plain.markup.contains("Changes since version"));
+}

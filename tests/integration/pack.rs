@@ -1,0 +1,130 @@
+//! `candor pack` end to end: the binary packs example deals into one PDF, read back with
+//! `support::pdf` (a PDF reader independent of candor's typesetter).
+
+use crate::support::pdf::Pdf;
+use crate::support::{candor, example, s};
+use std::path::{Path, PathBuf};
+use std::process::Output;
+
+fn pages(pdf: &Path) -> usize {
+    Pdf::open(pdf).pages()
+}
+
+fn text(pdf: &Path) -> String {
+    Pdf::open(pdf).text()
+}
+
+const DEALS: [(&str, &str); 3] = [
+    ("brannock-mill-hydro.yaml", "Brannock Mill hydro scheme"),
+    ("corrie-vale-quarry.yaml", "Corrie Vale quarry"),
+    ("tollgate-depot.yaml", "Tollgate Road bus depot"),
+];
+
+/// Three deals make one PDF: cover with the summary, contents, then the memos in the
+/// order given, longer than any single memo.
+#[test]
+fn three_deals_make_one_pack() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let out = dir.path().join("pack.pdf");
+    let files: Vec<String> = DEALS
+        .iter()
+        .map(|(f, _)| example(f).to_string_lossy().to_string())
+        .collect();
+    let mut args: Vec<&str> = vec!["pack"];
+    args.extend(files.iter().map(String::as_str));
+    let out_s = out.to_string_lossy().to_string();
+    args.extend(["-o", &out_s, "--title", "December committee"]);
+    let run = candor(&args);
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let t = text(&out);
+    assert!(t.contains("December committee"));
+    assert!(t.contains("Summary of the deals"));
+    assert!(t.contains("Real IRRs"));
+    assert!(t.contains("Contents"));
+    // SOURCE_DATE_EPOCH (support::EPOCH) is 2026-12-31T00:00:00Z.
+    assert!(t.contains("31 December 2026"), "cover date");
+    // Each deal appears in the summary, the contents, then as a memo, in order.
+    let memos = t
+        .find("INVESTMENT COMMIT")
+        .expect("the first memo's heading");
+    let mut at = memos;
+    for (_, name) in DEALS {
+        assert!(
+            t[..memos].contains(name),
+            "{name} missing from the front matter"
+        );
+        let found = t[at..]
+            .find(name)
+            .unwrap_or_else(|| panic!("{name} missing or out of order"));
+        at += found + name.len();
+    }
+    let pack_pages = pages(&out);
+    for (f, _) in DEALS {
+        let memo = dir.path().join(format!("{f}.pdf"));
+        let ex = example(f).to_string_lossy().to_string();
+        let run = candor(&["memo", &ex, "-o", &memo.to_string_lossy()]);
+        assert!(run.status.success());
+        assert!(pack_pages > pages(&memo), "{f}");
+    }
+    // Every deal file is attached, byte for byte.
+    let attached = Pdf::open(&out).attachments();
+    for (f, _) in DEALS {
+        let bytes = std::fs::read(example(f)).expect("example");
+        assert!(
+            attached.iter().any(|(name, b)| name == f && *b == bytes),
+            "{f} not attached: {:?}",
+            attached.iter().map(|a| &a.0).collect::<Vec<_>>()
+        );
+    }
+}
+
+fn broken_copy(dir: &Path) -> PathBuf {
+    let text = std::fs::read_to_string(example("tollgate-depot.yaml")).expect("read");
+    let path = dir.join("broken-deal.yaml");
+    std::fs::write(&path, text.replacen("name:", "nmae:", 1)).expect("write");
+    path
+}
+
+/// Packs the example `good` and a broken copy of another deal into `dir/pack.pdf`.
+fn pack_with_a_broken_deal(dir: &Path, good: &str, more: &[&str]) -> (Output, PathBuf) {
+    let broken = broken_copy(dir);
+    let out = dir.join("pack.pdf");
+    let good = example(good);
+    let mut args = vec!["pack", s(&good), s(&broken), "-o", s(&out)];
+    args.extend(more);
+    (candor(&args), out)
+}
+
+/// With an invalid deal and no `--skip-invalid`, nothing is written and the exit is 1.
+#[test]
+fn an_invalid_deal_stops_the_pack() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let (run, out) = pack_with_a_broken_deal(dir.path(), DEALS[0].0, &[]);
+    assert_eq!(run.status.code(), Some(1));
+    assert!(!out.exists());
+    let err = String::from_utf8_lossy(&run.stderr);
+    assert!(err.contains("broken-deal.yaml"), "{err}");
+    // Nothing else is left in the folder either (no temporary file).
+    let left: Vec<_> = std::fs::read_dir(dir.path()).expect("dir").collect();
+    assert_eq!(left.len(), 1);
+}
+
+/// `--skip-invalid` packs the valid deals and names the skipped file on the cover.
+#[test]
+fn skip_invalid_names_the_skipped_file() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let (run, out) = pack_with_a_broken_deal(dir.path(), DEALS[1].0, &["--skip-invalid"]);
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let t = text(&out);
+    assert!(t.contains("Left out of this pack"), "{t}");
+    assert!(t.contains("broken-deal.yaml"));
+    assert!(t.contains(DEALS[1].1));
+}
