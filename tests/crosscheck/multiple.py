@@ -130,32 +130,69 @@ def corpus(seed: int, count: int):
 def oracle(p):
     """Every positive real root of sum p_k x^(n-k): [((lo, hi), multiplicity)], exact."""
     poly = sympy.Poly(p, X, domain="ZZ")
+    sqf = sympy.Poly(poly.sqf_part(), X)
     roots = []
     for (lo, hi), mult in poly.intervals():
         lo, hi = Fraction(int(lo.p), int(lo.q)), Fraction(int(hi.p), int(hi.q))
         if hi <= 0:
             continue
         while lo < 0 < hi:
-            lo, hi = refine(poly, lo, hi)
+            lo, hi = refine(sqf, lo, hi, 8)
         if lo >= 0:
-            roots.append(((lo, hi), mult, poly))
+            roots.append(((lo, hi), mult, sqf))
     return roots
 
 
-def refine(poly, lo, hi):
-    sqf = sympy.Poly(poly.sqf_part(), X)
-    a, b = sqf.refine_root(sympy.Rational(lo.numerator, lo.denominator),
-                           sympy.Rational(hi.numerator, hi.denominator),
-                           eps=sympy.Rational(hi - lo) / 2**20)
-    return Fraction(int(a.p), int(a.q)), Fraction(int(b.p), int(b.q))
+def refine(sqf, lo, hi, bits):
+    """The isolating interval of a simple root of the square-free `sqf` narrowed by
+    exact bisection (signs of sqf in integers) to 2^-bits of its size."""
+    coeffs = [int(c) for c in sqf.all_coeffs()]
+    deg = len(coeffs) - 1
+    slope = [int(c) for c in sqf.diff(X).all_coeffs()]
+
+    def exact_sign(x: Fraction, coeffs=coeffs, deg=deg) -> int:
+        n, d = x.numerator, x.denominator
+        total = 0
+        npow = 1
+        dpows = [1] * (deg + 1)
+        for i in range(1, deg + 1):
+            dpows[i] = dpows[i - 1] * d
+        for i, c in enumerate(reversed(coeffs)):  # c is the coefficient of x^i
+            total += c * npow * dpows[deg - i]
+            npow *= n
+        return (total > 0) - (total < 0)
+
+    if lo == hi:
+        return lo, hi
+    # An end may be the neighbouring root (sympy's intervals can share an end with
+    # it): the sign just inside is then the slope's there (sqf is square-free).
+    s_lo = exact_sign(lo) or exact_sign(lo, slope, deg - 1)
+    target = (hi - lo) / 2**bits
+    while hi - lo > target:
+        mid = (lo + hi) / 2
+        s = exact_sign(mid)
+        if s == 0:
+            return mid, mid
+        if s == s_lo:
+            lo = mid
+        else:
+            hi = mid
+    return lo, hi
 
 
 def holds(root, e, interval, log10_interval):
     """True when the exact root xi (per period) has xi^e - 1 in [L, H] (or, without a
     finite interval, log10(xi^e) in the log10 interval); False when it surely does not;
-    None when 200 refinements could not tell (an exact tie of an irrational root)."""
-    (lo, hi), _, poly = root
-    for _ in range(200):
+    None when eight more refinements could not tell (an exact tie of an irrational root)."""
+    (lo, hi), _, sqf = root
+    # Straight to about 70 bits below the root's size (the engine's intervals are
+    # about 2^-50 wide), then 64 bits more at a time.
+    size = max(abs(lo), abs(hi), Fraction(1, 2**60))
+    if hi - lo > size / 2**70:
+        bits = max(8, (hi - lo).numerator.bit_length() - (hi - lo).denominator.bit_length()
+                   - (size.numerator.bit_length() - size.denominator.bit_length()) + 72)
+        lo, hi = refine(sqf, lo, hi, bits)
+    for _ in range(8):
         if interval is not None:
             L, H = 1 + Fraction(interval[0]), 1 + Fraction(interval[1])
             if lo == hi:
@@ -173,8 +210,7 @@ def holds(root, e, interval, log10_interval):
                     return False
                 if a >= L and b <= H:
                     return True
-        lo, hi = refine(poly, lo, hi)
-        root = ((lo, hi), root[1], poly)
+        lo, hi = refine(sqf, lo, hi, 64)
     return None
 
 

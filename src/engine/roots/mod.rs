@@ -20,8 +20,15 @@
 //! discounted to another point (Laguerre) prove a whole answer at once when they add
 //! up to the roots found by Newton from the end signs, and end a subdivision early once
 //! at most one root can be left above a point. The total is finally checked
-//! against the Descartes/Laguerre bound and its parity. Anything left undecided is
-//! reported as such and the count is then not certified.
+//! against the Descartes/Laguerre bound and its parity.
+//!
+//! Exact settling ([`exact`]). A series left with a multiple root, an undecided piece or
+//! intervals that touch is solved again in exact arithmetic: the integer polynomial,
+//! its square-free chain, Descartes isolation in big integers; that answer replaces the
+//! float one whenever it fits the work budget ([`exact::WORK_LIMIT`]). Past the budget
+//! the float answer stands (a multiple root in it was proven exactly at a short decimal
+//! rate, its interval rounded outwards from that exact rate), and anything left
+//! undecided is reported as such: the count is then not certified.
 
 pub mod exact;
 
