@@ -32,12 +32,13 @@ pub mod diag;
 pub mod diff;
 pub mod engine;
 pub mod files;
-pub mod format;
+
 pub mod input;
 pub mod memo;
 pub mod model;
 pub mod pack;
 pub mod pdf;
+pub mod present;
 pub mod report;
 pub mod schema;
 pub mod screen;
