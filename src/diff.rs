@@ -127,11 +127,6 @@ fn change<T: PartialEq>(
     }
 }
 
-/// A rate as a percentage, exactly: 0.0925 is `9.25%`.
-fn percent(rate: Decimal) -> String {
-    format!("{}%", (rate * Decimal::from(100)).normalize())
-}
-
 fn clock_words(clock: &Clock) -> String {
     match clock {
         Clock::Periodic { every, start } => match start {
@@ -169,7 +164,7 @@ fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
             new.rates.reinvestment,
         ),
     ] {
-        change(&mut out, field, Some(a), Some(b), percent);
+        change(&mut out, field, Some(a), Some(b), present::exact_percent);
     }
     change(
         &mut out,
@@ -668,12 +663,6 @@ pub fn plain_lines(d: &Diff) -> Vec<String> {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn rates_print_exactly() {
-        assert_eq!(percent("0.0925".parse().unwrap()), "9.25%");
-        assert_eq!(percent("0.09".parse().unwrap()), "9%");
-    }
 
     #[test]
     fn roots_pair_with_their_nearest_and_the_rest_appear_or_vanish() {

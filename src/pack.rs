@@ -96,17 +96,13 @@ fn summary_rows(number: usize, d: &PackedDeal) -> Vec<RowView> {
                 number,
                 deal: d.loaded.deal.name.clone(),
                 first: i == 0,
-                scenario: if s.name == "base" {
-                    "Base case".to_string()
-                } else {
-                    s.name.clone()
-                },
+                scenario: words::scenario_label(&s.name),
                 irrs,
                 npv: present::scenario_npv_in(s, &d.analysis.currency, Style::Print),
                 mirr: s
                     .mirr
                     .map(|m| present::percent(m, 2, Style::Print))
-                    .unwrap_or_else(|| "not defined".to_string()),
+                    .unwrap_or_else(|| words::NOT_DEFINED.to_string()),
                 decision: words::decision(s.decision).to_string(),
                 stance,
                 cautions: if codes.is_empty() {

@@ -498,14 +498,6 @@ fn root_view(
     }
 }
 
-fn scenario_label(name: &str) -> String {
-    if name == "base" {
-        "Base case".to_string()
-    } else {
-        name.to_string()
-    }
-}
-
 fn scenario_view(
     index: usize,
     s: &ScenarioAnalysis,
@@ -563,7 +555,7 @@ fn scenario_view(
     ScenarioView {
         index,
         name: s.name.clone(),
-        label: scenario_label(&s.name),
+        label: words::scenario_label(&s.name),
         description,
         hurdle: present::percent(s.hurdle_rate, 2, PRINT),
         finance: present::percent(s.finance_rate, 2, PRINT),

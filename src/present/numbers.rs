@@ -208,6 +208,12 @@ fn grouped_percent(rate: f64, decimals: usize, minus: &str) -> String {
     )
 }
 
+/// An exact rate (as the deal file states it) in percent, with no more digits than it
+/// has: 0.0925 is `9.25%`, 0.09 is `9%`.
+pub fn exact_percent(rate: Decimal) -> String {
+    format!("{}%", (rate * Decimal::from(100)).normalize())
+}
+
 /// `decimals`, or more when a rate above -100% would round to -100% at `decimals`
 /// places (a hurdle of -99.9999% is not a total loss): the fewest places, up to 15,
 /// at which it prints above -100%.
@@ -359,6 +365,8 @@ mod tests {
         assert_eq!(percent(12.3456, 2, Prose), "1,234.56%");
         assert_eq!(percent(-0.035, 2, Print), "\u{2212}3.50%");
         assert_eq!(percent(-0.035, 2, Prose), "-3.50%");
+        assert_eq!(exact_percent(dec!(0.0925)), "9.25%");
+        assert_eq!(exact_percent(dec!(0.09)), "9%");
     }
 
     #[test]

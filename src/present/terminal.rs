@@ -90,7 +90,7 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
         scenario_npv_in(s, currency, T),
         words::decision(s.decision)
     );
-    let opt = |x: Option<f64>| x.map_or("not defined".to_string(), |v| percent(v, 2, T));
+    let opt = |x: Option<f64>| x.map_or(words::NOT_DEFINED.to_string(), |v| percent(v, 2, T));
     let _ = writeln!(o, "  MIRR        {}", opt(s.mirr));
     let _ = writeln!(
         o,
@@ -101,13 +101,13 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
         o,
         "  multiple    {}",
         s.money_multiple
-            .map_or("not defined".to_string(), |m| format!("{m}x"))
+            .map_or(words::NOT_DEFINED.to_string(), |m| format!("{m}x"))
     );
     let _ = writeln!(
         o,
         "  PI          {}",
         s.profitability_index
-            .map_or("not defined".to_string(), |p| ratio(p, 3, T))
+            .map_or(words::NOT_DEFINED.to_string(), |p| ratio(p, 3, T))
     );
     let years = |y: Option<f64>| y.map_or("never".to_string(), |v| format!("{v:.2} years"));
     let _ = writeln!(

@@ -4,6 +4,19 @@
 use crate::engine::{BalanceKind, Decision, Stance};
 use crate::model::SignoffDecision;
 
+/// What a figure that does not exist for a deal reads as (a MIRR without flows of
+/// both signs, a multiple without outflows).
+pub const NOT_DEFINED: &str = "not defined";
+
+/// A scenario's name as a heading: the scenario called `base` is the `Base case`.
+pub fn scenario_label(name: &str) -> String {
+    if name == "base" {
+        "Base case".to_string()
+    } else {
+        name.to_string()
+    }
+}
+
 /// The decision at the hurdle: `accept`, `reject`, `indifferent`.
 pub fn decision(d: Decision) -> &'static str {
     match d {
