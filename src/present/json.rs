@@ -37,6 +37,15 @@ mod tests {
     use crate::model::Rates;
     use rust_decimal::Decimal;
 
+    /// The keys of a JSON object, in order.
+    fn keys(v: &Value) -> Vec<&str> {
+        v.as_object()
+            .expect("object")
+            .keys()
+            .map(|k| k.as_str())
+            .collect()
+    }
+
     #[test]
     fn the_contract_states_words_where_the_engine_keeps_facts() {
         // The pump of Lorie and Savage (1955) [flows from memory]: -1,600, +10,000,
@@ -61,20 +70,10 @@ mod tests {
         let v = analysis(&a).expect("json");
         let s = &v["scenarios"][0];
         // docs/design.md: the scenario's keys in their order, `cautions` last.
-        let keys: Vec<&str> = s
-            .as_object()
-            .expect("object")
-            .keys()
-            .map(|k| k.as_str())
-            .collect();
-        assert_eq!(keys.first(), Some(&"name"));
-        assert_eq!(keys.last(), Some(&"cautions"));
-        let irr_keys: Vec<&str> = s["irr"]
-            .as_object()
-            .expect("irr")
-            .keys()
-            .map(|k| k.as_str())
-            .collect();
+        let scenario_keys = keys(s);
+        assert_eq!(scenario_keys.first(), Some(&"name"));
+        assert_eq!(scenario_keys.last(), Some(&"cautions"));
+        let irr_keys = keys(&s["irr"]);
         assert_eq!(
             irr_keys,
             [
@@ -95,13 +94,7 @@ mod tests {
         let cautions = s["cautions"].as_array().expect("cautions");
         assert!(!cautions.is_empty());
         for (c, fact) in cautions.iter().zip(&a.scenarios[0].cautions) {
-            let keys: Vec<&str> = c
-                .as_object()
-                .expect("caution")
-                .keys()
-                .map(|k| k.as_str())
-                .collect();
-            assert_eq!(keys, ["code", "title", "text"]);
+            assert_eq!(keys(c), ["code", "title", "text"]);
             assert_eq!(c["code"].as_str(), Some(fact.code()));
         }
         assert_eq!(cautions[0]["code"], "multiple-irr");
