@@ -8,7 +8,7 @@
 
 use crate::diag::Diagnostic;
 use crate::engine::{Analysis, FlowRow, ScenarioAnalysis};
-use crate::report::{format_rate, MINUS};
+use crate::present::{percent, scenario_rate_decimals, Style, MINUS};
 use chrono::NaiveDate;
 use plotters::coord::Shift;
 use plotters::prelude::*;
@@ -309,7 +309,7 @@ fn npv_profile(
             VERMILLION.stroke_width(2),
         ))?;
         chart.draw_series(std::iter::once(Text::new(
-            format!("hurdle {}", format_rate(s.hurdle_rate, 2)),
+            format!("hurdle {}", percent(s.hurdle_rate, 2, Style::Print)),
             (hurdle, yhi),
             font(FONT_SIZE).pos(plotters::style::text_anchor::Pos::new(
                 plotters::style::text_anchor::HPos::Left,
@@ -317,7 +317,7 @@ fn npv_profile(
             )),
         )))?;
     }
-    let decimals = crate::report::scenario_rate_decimals(s);
+    let decimals = scenario_rate_decimals(s);
     let inside: Vec<(usize, f64)> = s
         .irr
         .roots
@@ -332,7 +332,7 @@ fn npv_profile(
         chart.draw_series(std::iter::once(Circle::new(p, 2, BLACK.filled())))?;
         // Alternate labels above and below the axis so that close roots stay legible.
         let above = n % 2 == 0;
-        let label = format!("IRR {}: {}", i + 1, format_rate(*rate, decimals));
+        let label = format!("IRR {}: {}", i + 1, percent(*rate, decimals, Style::Print));
         let vpos = if above {
             plotters::style::text_anchor::VPos::Bottom
         } else {
@@ -406,7 +406,7 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis, currency: &str) -> DrawR
         [(xmin - xspan, 0.0), (xmax + xspan, 0.0)],
         BLACK.stroke_width(1),
     ))?;
-    let decimals = crate::report::scenario_rate_decimals(s);
+    let decimals = scenario_rate_decimals(s);
     let show_markers = series.iter().all(|p| p.len() <= 60);
     for (k, ((i, root), points)) in roots.iter().zip(series).enumerate() {
         let (colour, dash, marker) = LINE_STYLES[k % LINE_STYLES.len()];
@@ -415,7 +415,7 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis, currency: &str) -> DrawR
             "at IRR {}: {}",
             i + 1,
             root.annual_rate
-                .map(|r| format_rate(r, decimals))
+                .map(|r| percent(r, decimals, Style::Print))
                 .unwrap_or_default()
         );
         match dash {

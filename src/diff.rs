@@ -5,7 +5,7 @@
 
 use crate::engine::{Analysis, Decision, Root, ScenarioAnalysis};
 use crate::model::{Clock, Deal, Scenario, SignoffDecision};
-use crate::report::{format_money, format_npv_with_code, format_rate};
+use crate::present::{self, words, Style};
 use rust_decimal::Decimal;
 use serde::Serialize;
 use std::fmt::Write as _;
@@ -127,11 +127,6 @@ fn change<T: PartialEq>(
     }
 }
 
-/// A rate as a percentage, exactly: 0.0925 is `9.25%`.
-fn percent(rate: Decimal) -> String {
-    format!("{}%", (rate * Decimal::from(100)).normalize())
-}
-
 fn clock_words(clock: &Clock) -> String {
     match clock {
         Clock::Periodic { every, start } => match start {
@@ -140,16 +135,6 @@ fn clock_words(clock: &Clock) -> String {
         },
         Clock::Dated { day_count } => format!("dated, day count {day_count:?}"),
     }
-}
-
-fn decision_words(d: SignoffDecision) -> String {
-    match d {
-        SignoffDecision::Pending => "pending",
-        SignoffDecision::Approved => "approved",
-        SignoffDecision::Declined => "declined",
-        SignoffDecision::Deferred => "deferred",
-    }
-    .to_string()
 }
 
 fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
@@ -179,7 +164,7 @@ fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
             new.rates.reinvestment,
         ),
     ] {
-        change(&mut out, field, Some(a), Some(b), percent);
+        change(&mut out, field, Some(a), Some(b), present::exact_percent);
     }
     change(
         &mut out,
@@ -244,7 +229,7 @@ fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
         "signoff.decision",
         Some(a.map_or(SignoffDecision::Pending, |x| x.decision)),
         Some(b.map_or(SignoffDecision::Pending, |x| x.decision)),
-        decision_words,
+        |d| words::signoff(Some(d)).to_string(),
     );
     change(
         &mut out,
@@ -316,7 +301,7 @@ fn root_text(r: &Root) -> RootText {
         annual_rate: r.annual_rate,
         log10_annual_growth: r.log10_annual_growth,
         text: match r.annual_rate {
-            Some(a) => format_rate(a, 2),
+            Some(a) => present::percent(a, 2, Style::Print),
             None => format!("growth of 10^{:.1} a year", r.log10_annual_growth),
         },
     }
@@ -360,15 +345,6 @@ fn match_roots(old: &[f64], new: &[f64]) -> Vec<(usize, usize)> {
     }
 }
 
-fn decision_word(d: Decision) -> String {
-    match d {
-        Decision::Accept => "accept",
-        Decision::Reject => "reject",
-        Decision::Indifferent => "indifferent",
-    }
-    .to_string()
-}
-
 fn result_changes(a: &ScenarioAnalysis, b: &ScenarioAnalysis, currency: &str) -> ScenarioResults {
     let growth = |s: &ScenarioAnalysis| -> Vec<f64> {
         s.irr.roots.iter().map(|r| r.log10_annual_growth).collect()
@@ -408,8 +384,8 @@ fn result_changes(a: &ScenarioAnalysis, b: &ScenarioAnalysis, currency: &str) ->
     change(
         &mut figures,
         "NPV at hurdle",
-        Some(format_npv_with_code(a, currency)),
-        Some(format_npv_with_code(b, currency)),
+        Some(present::scenario_npv_in(a, currency, Style::Print)),
+        Some(present::scenario_npv_in(b, currency, Style::Print)),
         |v| v,
     );
     change(
@@ -417,17 +393,17 @@ fn result_changes(a: &ScenarioAnalysis, b: &ScenarioAnalysis, currency: &str) ->
         "decision at hurdle",
         Some(a.decision),
         Some(b.decision),
-        decision_word,
+        |d: Decision| words::decision(d).to_string(),
     );
     change(
         &mut figures,
         "MIRR",
-        a.mirr.map(|r| format_rate(r, 2)),
-        b.mirr.map(|r| format_rate(r, 2)),
+        a.mirr.map(|r| present::percent(r, 2, Style::Print)),
+        b.mirr.map(|r| present::percent(r, 2, Style::Print)),
         |x| x,
     );
     let codes = |s: &ScenarioAnalysis| -> Vec<String> {
-        let mut c: Vec<String> = s.cautions.iter().map(|c| c.code.clone()).collect();
+        let mut c: Vec<String> = s.cautions.iter().map(|c| c.code().to_string()).collect();
         c.sort();
         c.dedup();
         c
@@ -519,9 +495,13 @@ pub fn render_text(d: &Diff) -> String {
     }
     for f in &d.flows {
         let what = match (f.old, f.new) {
-            (Some(a), Some(b)) => format!("{} → {}", format_money(a), format_money(b)),
-            (None, Some(b)) => format!("added, {}", format_money(b)),
-            (Some(a), None) => format!("removed, was {}", format_money(a)),
+            (Some(a), Some(b)) => format!(
+                "{} → {}",
+                present::money(a, Style::Print),
+                present::money(b, Style::Print)
+            ),
+            (None, Some(b)) => format!("added, {}", present::money(b, Style::Print)),
+            (Some(a), None) => format!("removed, was {}", present::money(a, Style::Print)),
             (None, None) => String::new(),
         };
         let _ = writeln!(out, "  flow at {}, {}: {what}", f.when, label(&f.scenario));
@@ -633,13 +613,17 @@ pub fn plain_lines(d: &Diff) -> Vec<String> {
             (Some(a), Some(b)) => format!(
                 "{who}: the flow at {} changed from {} to {}.",
                 f.when,
-                format_money(a),
-                format_money(b)
+                present::money(a, Style::Print),
+                present::money(b, Style::Print)
             ),
-            (None, Some(b)) => format!("{who}: a flow of {} added at {}.", format_money(b), f.when),
+            (None, Some(b)) => format!(
+                "{who}: a flow of {} added at {}.",
+                present::money(b, Style::Print),
+                f.when
+            ),
             (Some(a), None) => format!(
                 "{who}: the flow of {} at {} removed.",
-                format_money(a),
+                present::money(a, Style::Print),
                 f.when
             ),
             (None, None) => format!("{who}: the flow at {} changed.", f.when),
@@ -679,12 +663,6 @@ pub fn plain_lines(d: &Diff) -> Vec<String> {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn rates_print_exactly() {
-        assert_eq!(percent("0.0925".parse().unwrap()), "9.25%");
-        assert_eq!(percent("0.09".parse().unwrap()), "9%");
-    }
 
     #[test]
     fn roots_pair_with_their_nearest_and_the_rest_appear_or_vanish() {

@@ -10,9 +10,9 @@
 //! | diagnostics | [`diag`] | [`diag::Diagnostic`], [`diag::Failure`] | problems, with their files' text and exit class |
 //! | input | [`input`] | [`input::parse`] | [`input::RawDeal`]: the YAML as written, with positions |
 //! | model | [`model`] | [`model::validate`] | [`model::Deal`]: exact money, resolved flows per scenario |
-//! | engine | [`engine`] | [`engine::analyse`] | [`engine::Analysis`]: roots, figures, cautions (plain data) |
+//! | engine | [`engine`] | [`engine::analyse`] | [`engine::Analysis`]: roots, figures, cautions as facts (no words) |
 //! | engine | [`screen`] | [`screen::screen_stream`] | `rates --batch`: one JSON line per series |
-//! | presentation | [`format`], [`chart`], [`diff`] | [`chart::render`], [`diff::diff`] | words and numbers, SVG charts, differences |
+//! | presentation | [`present`], [`chart`], [`diff`] | [`present::terminal::report`], [`present::json::analysis`], [`chart::render`], [`diff::diff`] | every word and number (terminal, print), the JSON contract, SVG charts, differences |
 //! | markup | [`report`] | [`report::render`] | Typst markup |
 //! | typesetting | [`pdf`] | [`pdf::typeset`] | PDF/A-3b bytes with the deal file attached |
 //! | files | [`files`] | [`files::load::load_deal`], [`files::output::write_output`] | a deal read from disk; output written atomically |
@@ -32,12 +32,13 @@ pub mod diag;
 pub mod diff;
 pub mod engine;
 pub mod files;
-pub mod format;
+
 pub mod input;
 pub mod memo;
 pub mod model;
 pub mod pack;
 pub mod pdf;
+pub mod present;
 pub mod report;
 pub mod schema;
 pub mod screen;

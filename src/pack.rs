@@ -6,9 +6,10 @@
 //! typeset once, so that page numbers and the contents run across all memos.
 
 use crate::diag::{Diagnostic, Failure, FailureClass};
-use crate::engine::{self, Analysis, Stance};
+use crate::engine::{self, Analysis};
 use crate::files::load::{load_deal, LoadedDeal};
 use crate::memo::sha256_hex;
+use crate::present::{self, words, Style};
 use crate::{chart, pdf, report};
 use chrono::NaiveDateTime;
 use rayon::prelude::*;
@@ -63,14 +64,14 @@ fn summary_rows(number: usize, d: &PackedDeal) -> Vec<RowView> {
         .iter()
         .enumerate()
         .map(|(i, s)| {
-            let decimals = report::scenario_rate_decimals(s);
+            let decimals = present::scenario_rate_decimals(s);
             let irrs = if s.irr.roots.is_empty() {
                 "none".to_string()
             } else {
                 s.irr
                     .roots
                     .iter()
-                    .map(|r| report::format_root(r, decimals))
+                    .map(|r| present::root_rate(r, decimals, Style::Print))
                     .collect::<Vec<_>>()
                     .join(", ")
             };
@@ -79,30 +80,30 @@ fn summary_rows(number: usize, d: &PackedDeal) -> Vec<RowView> {
             } else {
                 format!("{irrs} (count not certified)")
             };
-            let stances: BTreeSet<&str> =
-                s.irr.roots.iter().map(|r| stance_word(r.stance)).collect();
+            let stances: BTreeSet<&str> = s
+                .irr
+                .roots
+                .iter()
+                .map(|r| words::stance_word(r.stance))
+                .collect();
             let stance = match (&s.irr.complex_reading, stances.is_empty()) {
-                (Some(c), true) => stance_word(c.stance).to_string(),
+                (Some(c), true) => words::stance_word(c.stance).to_string(),
                 (None, true) => "none".to_string(),
                 _ => stances.into_iter().collect::<Vec<_>>().join("; "),
             };
-            let codes: Vec<&str> = s.cautions.iter().map(|c| c.code.as_str()).collect();
+            let codes: Vec<&str> = s.cautions.iter().map(|c| c.code()).collect();
             RowView {
                 number,
                 deal: d.loaded.deal.name.clone(),
                 first: i == 0,
-                scenario: if s.name == "base" {
-                    "Base case".to_string()
-                } else {
-                    s.name.clone()
-                },
+                scenario: words::scenario_label(&s.name),
                 irrs,
-                npv: report::format_npv_with_code(s, &d.analysis.currency),
+                npv: present::scenario_npv_in(s, &d.analysis.currency, Style::Print),
                 mirr: s
                     .mirr
-                    .map(|m| report::format_rate(m, 2))
-                    .unwrap_or_else(|| "not defined".to_string()),
-                decision: s.decision.label().to_string(),
+                    .map(|m| present::percent(m, 2, Style::Print))
+                    .unwrap_or_else(|| words::NOT_DEFINED.to_string()),
+                decision: words::decision(s.decision).to_string(),
                 stance,
                 cautions: if codes.is_empty() {
                     "none".to_string()
@@ -112,15 +113,6 @@ fn summary_rows(number: usize, d: &PackedDeal) -> Vec<RowView> {
             }
         })
         .collect()
-}
-
-/// A root's stance in one word for the summary table (the memo spells it out).
-fn stance_word(s: Stance) -> &'static str {
-    match s {
-        Stance::Investment => "investment",
-        Stance::Borrowing => "borrowing",
-        Stance::Neutral => "neutral",
-    }
 }
 
 /// Files the typesetter can read, as (virtual path, bytes).
@@ -135,7 +127,7 @@ pub fn pack_markup(
 ) -> Result<(String, Files), Diagnostic> {
     let view = PackView {
         title: title.to_string(),
-        date: report::format_date_long(created.date()),
+        date: present::date_long(created.date()),
         created: report::CreatedView::of(created),
         deal_count: deals.len(),
         skipped: skipped.to_vec(),

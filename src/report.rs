@@ -1,7 +1,7 @@
-//! The memo's view model and its Typst markup: every number is formatted here
-//! (currency, thousands separators, percentages, readable negatives), every string
-//! from the deal file is escaped here, and the minijinja templates (built in, or a
-//! house style that replaces some of them) turn the view into markup.
+//! The memo's view model and its Typst markup: every figure and word comes from
+//! [`crate::present`] in print style, every string from the deal file is escaped here,
+//! and the minijinja templates (built in, or a house style that replaces some of them)
+//! turn the view into markup.
 //!
 //! User text never becomes markup: the template environment escapes every value it
 //! prints unless the value was produced by one of our own filters, which build Typst
@@ -9,15 +9,16 @@
 
 use crate::chart::{ChartKind, ScenarioCharts};
 use crate::diag::Diagnostic;
-use crate::engine::{
-    Analysis, BalanceKind, BalanceRow, Decision, FlowRow, Root, ScenarioAnalysis, Stance,
-};
+use crate::engine::{Analysis, BalanceRow, FlowRow, Root, ScenarioAnalysis};
 use crate::model::{Deal, SignoffDecision};
-use chrono::{Datelike, NaiveDate, NaiveDateTime, Timelike};
+use crate::present::{self, words, Style};
+use chrono::{Datelike, NaiveDateTime, Timelike};
 use minijinja::{Environment, Error as TemplateError, ErrorKind, UndefinedBehavior, Value};
-use rust_decimal::Decimal;
 use serde::Serialize;
 use std::collections::BTreeMap;
+
+/// Figures in the memo are written for print.
+const PRINT: Style = Style::Print;
 
 /// The name of the main template, the one rendered first.
 pub const MAIN_TEMPLATE: &str = "memo.typ.j2";
@@ -232,197 +233,6 @@ pub fn typst_string(text: &str) -> String {
     out
 }
 
-/// The minus sign used for negatives (U+2212): it cannot be mistaken for a hyphen
-/// and lines up with the digits.
-pub const MINUS: char = '\u{2212}';
-
-fn group_thousands(digits: &str) -> String {
-    let mut out = String::with_capacity(digits.len() + digits.len() / 3);
-    for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i).is_multiple_of(3) {
-            out.push(',');
-        }
-        out.push(c);
-    }
-    out
-}
-
-/// Money with thousands separators and two decimals: `1,234,567.89`, `−950,000.00`.
-pub fn format_money(amount: Decimal) -> String {
-    // The terminal's formatting, with a typographic minus sign for print.
-    crate::format::money(amount).replacen('-', &MINUS.to_string(), 1)
-}
-
-/// Money with the currency code in front: `EUR 1,234.00`.
-pub fn format_money_with_code(amount: Decimal, currency: &str) -> String {
-    format!("{currency} {}", format_money(amount))
-}
-
-/// The NPV at the hurdle as printed: money to the cent, its size (`about 6.0 × 10^62`)
-/// when it is beyond an exact decimal's range, or `not computable`.
-pub fn format_npv(s: &ScenarioAnalysis) -> String {
-    match (s.npv_at_hurdle, &s.npv_at_hurdle_approx) {
-        (Some(c), _) => format_money(c),
-        (None, Some(a)) => crate::format::approx(a).replacen('-', &MINUS.to_string(), 1),
-        (None, None) => "not computable".to_string(),
-    }
-}
-
-/// [`format_npv`] with the currency code: `EUR 1,234.00`, `about EUR 6.0 × 10^62`.
-pub fn format_npv_with_code(s: &ScenarioAnalysis, currency: &str) -> String {
-    crate::format::npv_in(s.npv_at_hurdle, s.npv_at_hurdle_approx.as_ref(), currency).replacen(
-        '-',
-        &MINUS.to_string(),
-        1,
-    )
-}
-
-/// A rate (fraction) as a percentage with `decimals` places: `9.00%`, `−3.50%`.
-/// A rate too large to print in full is a power of ten (`7.37 × 10^71%`), and one just
-/// above -100% gets the places that keep it above (`−99.9999%`).
-pub fn format_rate(rate: f64, decimals: usize) -> String {
-    if !rate.is_finite() {
-        return "not finite".to_string();
-    }
-    let decimals = crate::format::places_short_of_minus_100(rate, decimals);
-    if (rate * 100.0).abs() >= crate::format::FULL_DIGITS_LIMIT {
-        let sign = if rate < 0.0 {
-            MINUS.to_string()
-        } else {
-            String::new()
-        };
-        return format!(
-            "{sign}{}%",
-            crate::format::scientific((rate * 100.0).abs(), decimals)
-        );
-    }
-    let text = format!("{:.*}", decimals, (rate * 100.0).abs());
-    let zero = text.chars().all(|c| c == '0' || c == '.');
-    let sign = if rate < 0.0 && !zero {
-        MINUS.to_string()
-    } else {
-        String::new()
-    };
-    let (int, frac) = match text.split_once('.') {
-        Some((i, f)) => (i.to_string(), format!(".{f}")),
-        None => (text.clone(), String::new()),
-    };
-    format!("{sign}{}{frac}%", group_thousands(&int))
-}
-
-/// The fewest decimals (two or more, at most ten) at which the given rates print as
-/// different texts, so that two distinct roots never look the same.
-pub fn rate_decimals(rates: &[f64]) -> usize {
-    let finite: Vec<f64> = rates.iter().copied().filter(|r| r.is_finite()).collect();
-    (2..=10)
-        .find(|&d| {
-            let mut texts: Vec<String> = finite.iter().map(|&r| format_rate(r, d)).collect();
-            texts.sort();
-            texts.dedup();
-            texts.len() == finite.len()
-        })
-        .unwrap_or(10)
-}
-
-/// A root's annual rate as printed in the memo, with the decimals chosen for its
-/// scenario. Roots too large for a float print as a power of ten.
-pub fn format_root(root: &Root, decimals: usize) -> String {
-    match root.annual_rate {
-        Some(r) if r.is_finite() => format_rate(r, decimals),
-        _ => format!(
-            "about 10^{:.1} times the money a year",
-            root.log10_annual_growth
-        ),
-    }
-}
-
-/// The decimals used for every IRR of a scenario.
-pub fn scenario_rate_decimals(scenario: &ScenarioAnalysis) -> usize {
-    let rates: Vec<f64> = scenario
-        .irr
-        .roots
-        .iter()
-        .filter_map(|r| r.annual_rate)
-        .collect();
-    rate_decimals(&rates)
-}
-
-/// Years with two decimals.
-pub fn format_years(years: f64) -> String {
-    if years == 1.0 {
-        "1.00 year".to_string()
-    } else {
-        format!("{years:.2} years")
-    }
-}
-
-/// A ratio with two decimals (negative with a minus sign).
-pub fn format_ratio(value: f64) -> String {
-    if !value.is_finite() {
-        return "not finite".to_string();
-    }
-    let text = crate::format::ratio(value.abs(), 2);
-    if value < 0.0 && text != "0.00" {
-        format!("{MINUS}{text}")
-    } else {
-        text
-    }
-}
-
-/// A long date: `30 November 2026`.
-pub fn format_date_long(date: NaiveDate) -> String {
-    const MONTHS: [&str; 12] = [
-        "January",
-        "February",
-        "March",
-        "April",
-        "May",
-        "June",
-        "July",
-        "August",
-        "September",
-        "October",
-        "November",
-        "December",
-    ];
-    format!(
-        "{} {} {}",
-        date.day(),
-        MONTHS[date.month0() as usize],
-        date.year()
-    )
-}
-
-fn decision_word(d: Decision) -> &'static str {
-    d.label()
-}
-
-fn balance_kind_words(k: BalanceKind) -> &'static str {
-    match k {
-        BalanceKind::PureInvestment => "pure investment: the project never owes the investor",
-        BalanceKind::Mixed => "mixed: the balance changes sign along the way",
-        BalanceKind::PureBorrowing => "pure borrowing: the investor is the borrower throughout",
-    }
-}
-
-fn stance_words(s: Stance) -> &'static str {
-    match s {
-        Stance::Investment => "net investment at the hurdle, so a rate above the hurdle adds value",
-        Stance::Borrowing => "net borrowing at the hurdle, so a rate below the hurdle adds value",
-        Stance::Neutral => "neither net investment nor net borrowing at the hurdle",
-    }
-}
-
-fn multiplicity_word(m: u32) -> String {
-    match m {
-        1 => "simple".to_string(),
-        2 => "double".to_string(),
-        3 => "triple".to_string(),
-        n => format!("of multiplicity {n}"),
-    }
-}
-
-/// Splits narrative text into paragraphs at blank lines.
 fn paragraphs(text: &str) -> Vec<String> {
     let mut out = Vec::new();
     let mut current = String::new();
@@ -634,8 +444,8 @@ fn balance_rows(rows: &[BalanceRow], flows: &[FlowRow]) -> Vec<BalanceRowView> {
             let flow = flows.get(i).filter(|_| rows.len() == flows.len());
             BalanceRowView {
                 when: when(flow, r.years),
-                flow: format_money(r.flow),
-                balance: format_money(r.balance),
+                flow: present::money(r.flow, PRINT),
+                balance: present::money(r.balance, PRINT),
             }
         })
         .collect()
@@ -645,34 +455,6 @@ fn balance_rows(rows: &[BalanceRow], flows: &[FlowRow]) -> Vec<BalanceRowView> {
 /// end up at `decimals` places of a percent, so that the interval shown still contains
 /// the root (rounding each end to nearest could cut the root off). A lower end just
 /// above -100% gets more places rather than round onto -100%.
-fn format_interval(lo: f64, hi: f64, decimals: usize) -> String {
-    let outward = |rate: f64, up: bool| -> (f64, usize) {
-        if !rate.is_finite() || (rate * 100.0).abs() >= crate::format::FULL_DIGITS_LIMIT {
-            return (rate, decimals);
-        }
-        let mut places = crate::format::places_short_of_minus_100(rate, decimals);
-        loop {
-            let scale = 10f64.powi(places as i32);
-            let p = rate * 100.0 * scale;
-            // Nudged past the product's own rounding error before the rounding.
-            let shown = if up {
-                (p + p.abs() * 1e-15).ceil()
-            } else {
-                (p - p.abs() * 1e-15).floor()
-            } / scale
-                / 100.0;
-            if shown > -1.0 || rate <= -1.0 || places >= 15 {
-                return (shown, places);
-            }
-            places += 1;
-        }
-    };
-    let (lo, lo_places) = outward(lo, false);
-    let (hi, hi_places) = outward(hi, true);
-    let places = lo_places.max(hi_places);
-    format!("{} to {}", format_rate(lo, places), format_rate(hi, places))
-}
-
 fn root_view(
     number: usize,
     root: &Root,
@@ -692,35 +474,27 @@ fn root_view(
     let interval_decimals = decimals + 3;
     RootView {
         number,
-        rate: format_root(root, decimals),
+        rate: present::root_rate(root, decimals, PRINT),
         periodic_rate: period.and_then(|word| {
             root.periodic_rate
-                .map(|r| format!("{} {word}", format_rate(r, decimals + 2)))
+                .map(|r| format!("{} {word}", present::percent(r, decimals + 2, PRINT)))
         }),
-        multiplicity: multiplicity_word(root.multiplicity),
+        multiplicity: words::multiplicity(root.multiplicity),
         interval: match root.interval {
-            Some([lo, hi]) => format_interval(lo, hi, interval_decimals),
+            Some([lo, hi]) => present::rate_interval(lo, hi, interval_decimals, PRINT),
             None => format!(
                 "1 + rate between 10^{:.6} and 10^{:.6}",
                 root.log10_interval[0], root.log10_interval[1]
             ),
         },
-        balance_kind: balance_kind_words(root.balance_kind).to_string(),
-        stance: stance_words(root.stance).to_string(),
-        decision: decision_word(root.decision).to_string(),
+        balance_kind: words::balance_kind_explained(root.balance_kind).to_string(),
+        stance: words::stance_explained(root.stance).to_string(),
+        decision: words::decision(root.decision).to_string(),
         extreme: root.extreme,
         head,
         tail,
         hidden,
         total_rows,
-    }
-}
-
-fn scenario_label(name: &str) -> String {
-    if name == "base" {
-        "Base case".to_string()
-    } else {
-        name.to_string()
     }
 }
 
@@ -731,8 +505,8 @@ fn scenario_view(
     currency: &str,
     charts: Option<&ScenarioCharts>,
 ) -> ScenarioView {
-    let decimals = scenario_rate_decimals(s);
-    let period = crate::format::per_period(s.periods_per_year);
+    let decimals = present::scenario_rate_decimals(s);
+    let period = words::per_period(s.periods_per_year);
     let roots: Vec<RootView> = s
         .irr
         .roots
@@ -747,9 +521,9 @@ fn scenario_view(
             .roots
             .iter()
             .map(|r| {
-                let mut t = format_root(r, decimals);
+                let mut t = present::root_rate(r, decimals, PRINT);
                 if r.multiplicity > 1 {
-                    t.push_str(&format!(" ({})", multiplicity_word(r.multiplicity)));
+                    t.push_str(&format!(" ({})", words::multiplicity(r.multiplicity)));
                 }
                 t
             })
@@ -769,7 +543,7 @@ fn scenario_view(
             .roots
             .iter()
             .filter(|r| r.annual_rate.is_none_or(|a| a < lo || a > hi))
-            .map(|r| format_root(r, decimals))
+            .map(|r| present::root_rate(r, decimals, PRINT))
             .collect(),
         None => Vec::new(),
     };
@@ -781,54 +555,61 @@ fn scenario_view(
     ScenarioView {
         index,
         name: s.name.clone(),
-        label: scenario_label(&s.name),
+        label: words::scenario_label(&s.name),
         description,
-        hurdle: format_rate(s.hurdle_rate, 2),
-        finance: format_rate(s.finance_rate, 2),
-        reinvestment: format_rate(s.reinvestment_rate, 2),
+        hurdle: present::percent(s.hurdle_rate, 2, PRINT),
+        finance: present::percent(s.finance_rate, 2, PRINT),
+        reinvestment: present::percent(s.reinvestment_rate, 2, PRINT),
         irr_count: s.irr.count,
         irr_upper_bound: s.irr.upper_bound,
         certified: s.irr.certified,
-        method: s.irr.method.clone(),
+        method: present::certificate::sentence(&s.irr.certificate),
         irr_summary,
         roots,
         unresolved: s
             .irr
             .unresolved
             .iter()
-            .map(|[a, b]| format!("{} to {}", format_rate(*a, 2), format_rate(*b, 2)))
+            .map(|[a, b]| {
+                format!(
+                    "{} to {}",
+                    present::percent(*a, 2, PRINT),
+                    present::percent(*b, 2, PRINT)
+                )
+            })
             .collect(),
         complex: s.irr.complex_reading.as_ref().map(|c| ComplexView {
-            real: format_rate(c.real_rate, 2),
-            imaginary: format_rate(c.imaginary_rate, 2),
-            stance: stance_words(c.stance).to_string(),
-            decision: decision_word(c.decision).to_string(),
+            real: present::percent(c.real_rate, 2, PRINT),
+            imaginary: present::percent(c.imaginary_rate, 2, PRINT),
+            stance: words::stance_explained(c.stance).to_string(),
+            decision: words::decision(c.decision).to_string(),
         }),
-        npv: format_npv(s),
-        npv_with_code: format_npv_with_code(s, currency),
-        decision: decision_word(s.decision).to_string(),
-        mirr: s.mirr.map(|r| format_rate(r, 2)),
-        roic: s.return_on_invested_capital.map(|r| format_rate(r, 2)),
+        npv: present::scenario_npv(s, PRINT),
+        npv_with_code: present::scenario_npv_in(s, currency, PRINT),
+        decision: words::decision(s.decision).to_string(),
+        mirr: s.mirr.map(|r| present::percent(r, 2, PRINT)),
+        roic: s
+            .return_on_invested_capital
+            .map(|r| present::percent(r, 2, PRINT)),
         money_multiple: s
             .money_multiple
-            .map(|m| format!("{}\u{00d7}", format_ratio_decimal(m))),
-        profitability_index: s.profitability_index.map(format_ratio),
-        payback_simple: s.payback.simple_years.map(format_years),
-        payback_discounted: s.payback.discounted_years.map(format_years),
+            .map(|m| format!("{}\u{00d7}", present::decimal_ratio(m, PRINT))),
+        profitability_index: s.profitability_index.map(|v| present::ratio(v, 2, PRINT)),
+        payback_simple: s.payback.simple_years.map(present::years),
+        payback_discounted: s.payback.discounted_years.map(present::years),
         payback_turns_negative: s.payback.turns_negative_again,
-        inflows: format_money(s.totals.inflows),
-        outflows: format_money(s.totals.outflows),
-        net: format_money(s.totals.net),
-        horizon: format_years(s.totals.horizon_years),
+        inflows: present::money(s.totals.inflows, PRINT),
+        outflows: present::money(s.totals.outflows, PRINT),
+        net: present::money(s.totals.net, PRINT),
+        horizon: present::years(s.totals.horizon_years),
         flow_count: s.flows.len(),
         dated: s.periods_per_year.is_none(),
-        cautions: s
-            .cautions
-            .iter()
+        cautions: present::caution_text_list(s, currency)
+            .into_iter()
             .map(|c| CautionView {
-                code: c.code.clone(),
-                title: c.title.clone(),
-                text: c.text.clone(),
+                code: c.code.to_string(),
+                title: c.title.to_string(),
+                text: c.text,
             })
             .collect(),
         charts: ChartPaths {
@@ -836,36 +617,22 @@ fn scenario_view(
             balance_paths: path_of(ChartKind::BalancePaths),
             cash_flows: path_of(ChartKind::CashFlows),
         },
-        profile_range: range
-            .map(|(lo, hi)| format!("{} to {}", format_rate(lo, 0), format_rate(hi, 0))),
+        profile_range: range.map(|(lo, hi)| {
+            format!(
+                "{} to {}",
+                present::percent(lo, 0, PRINT),
+                present::percent(hi, 0, PRINT)
+            )
+        }),
         roots_outside,
-    }
-}
-
-fn format_ratio_decimal(d: Decimal) -> String {
-    let text = format!("{:.2}", d.round_dp(2).abs());
-    if d.is_sign_negative() && !d.round_dp(2).is_zero() {
-        format!("{MINUS}{text}")
-    } else {
-        text
     }
 }
 
 fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
     let decision = deal.signoff.as_ref().map(|s| s.decision);
     let draft = decision != Some(SignoffDecision::Approved);
-    let status = match decision {
-        Some(SignoffDecision::Approved) => "Approved",
-        Some(SignoffDecision::Declined) => "DRAFT (declined by the committee)",
-        Some(SignoffDecision::Deferred) => "DRAFT (decision deferred)",
-        Some(SignoffDecision::Pending) | None => "DRAFT (decision pending)",
-    };
-    let decision_text = match decision {
-        Some(SignoffDecision::Approved) => "approved",
-        Some(SignoffDecision::Declined) => "declined",
-        Some(SignoffDecision::Deferred) => "deferred",
-        Some(SignoffDecision::Pending) | None => "pending",
-    };
+    let status = words::signoff_status(decision);
+    let decision_text = words::signoff(decision);
     let scenarios: Vec<ScenarioView> = analysis
         .scenarios
         .iter()
@@ -876,7 +643,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
     View {
         title: deal.name.clone(),
         currency: deal.currency.clone(),
-        as_of: format_date_long(deal.as_of),
+        as_of: present::date_long(deal.as_of),
         draft,
         status: status.to_string(),
         hash: ctx.source_sha256.clone(),
@@ -916,7 +683,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
                 .signoff
                 .as_ref()
                 .and_then(|s| s.date)
-                .map(format_date_long),
+                .map(present::date_long),
         },
         has_cautions: scenarios.iter().any(|s| !s.cautions.is_empty()),
         scenarios,
@@ -929,50 +696,6 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    proptest::proptest! {
-        /// Whatever the rates and places, the interval shown contains the interval given
-        /// (read back from the text: the lower end at or below, the upper at or above).
-        #[test]
-        fn a_shown_interval_contains_the_certified_one(
-            lo in -0.999_999_9f64..50.0,
-            width in 0.0f64..1e-3,
-            decimals in 2usize..10,
-        ) {
-            let hi = lo + width * (1.0 + lo.abs());
-            let shown = format_interval(lo, hi, decimals);
-            let (a, b) = shown.split_once(" to ").expect("two ends");
-            let read = |t: &str| -> f64 {
-                t.trim_end_matches('%')
-                    .replace(MINUS, "-")
-                    .replace(',', "")
-                    .parse()
-                    .expect("a number")
-            };
-            proptest::prop_assert!(read(a) <= lo * 100.0, "{shown} for [{lo}, {hi}]");
-            proptest::prop_assert!(read(b) >= hi * 100.0, "{shown} for [{lo}, {hi}]");
-            proptest::prop_assert!(read(a) > -100.0, "{shown} for [{lo}, {hi}]");
-        }
-    }
-
-    #[test]
-    fn a_certified_interval_is_shown_rounded_outwards() {
-        // Common practice for intervals that must contain a value: round the lower end
-        // down and the upper end up. To the nearest, these ends would both show 12.34568%
-        // and cut off a root at 12.345679%.
-        let shown = format_interval(0.123_456_789, 0.123_456_791, 5);
-        assert_eq!(shown, "12.34567% to 12.34568%");
-        // Narrower than the last place: the ends still differ by one unit.
-        let shown = format_interval(0.074_107_504_1, 0.074_107_504_2, 5);
-        assert_eq!(shown, "7.41075% to 7.41076%");
-        // Negative rates: down is away from zero.
-        let shown = format_interval(-0.456_842_11, -0.456_842_09, 5);
-        assert_eq!(shown, format!("{MINUS}45.68422% to {MINUS}45.68420%"));
-        // Just above -100%: more places rather than a lower end of -100%.
-        let shown = format_interval(-0.999_999_999_95, -0.999_999_999_9, 5);
-        assert!(!shown.starts_with(&format!("{MINUS}100.0")), "{shown}");
-        assert!(shown.starts_with(&format!("{MINUS}99.99999999")), "{shown}");
-    }
 
     /// Every character with a meaning in Typst markup (Typst reference, "Syntax":
     /// markup mode, plus the shorthands `~`, `--`, `---`, `...`, `-?` and smart quotes).
@@ -1027,37 +750,6 @@ mod tests {
         let root = typst::syntax::parse_code(&lit);
         assert!(root.errors_and_warnings().0.is_empty(), "{lit}");
         assert_eq!(lit, "\"quote \\\" backslash \\\\ newline \\n tab \\t end\"");
-    }
-
-    #[test]
-    fn money_is_grouped_with_a_real_minus() {
-        assert_eq!(format_money("1234567.891".parse().unwrap()), "1,234,567.89");
-        assert_eq!(
-            format_money("-950000".parse().unwrap()),
-            "\u{2212}950,000.00"
-        );
-        assert_eq!(format_money("-0.001".parse().unwrap()), "0.00");
-        assert_eq!(format_money("999.995".parse().unwrap()), "1,000.00");
-        assert_eq!(
-            format_money_with_code("12".parse().unwrap(), "EUR"),
-            "EUR 12.00"
-        );
-    }
-
-    #[test]
-    fn rates_are_percentages() {
-        assert_eq!(format_rate(0.09, 2), "9.00%");
-        assert_eq!(format_rate(-0.035, 2), "\u{2212}3.50%");
-        assert_eq!(format_rate(-0.00001, 2), "0.00%");
-        assert_eq!(format_rate(40.0, 2), "4,000.00%");
-    }
-
-    #[test]
-    fn close_roots_get_more_decimals() {
-        assert_eq!(rate_decimals(&[0.25, 4.0]), 2);
-        // 10.001% and 10.004% print alike at two decimals, apart at three.
-        assert_eq!(rate_decimals(&[0.10001, 0.10004]), 3);
-        assert_eq!(rate_decimals(&[]), 2);
     }
 
     #[test]

@@ -73,11 +73,11 @@ fn version_files(
             text.as_bytes().to_vec(),
         ));
     }
-    let mut analysis = serde_json::to_vec_pretty(filing.analysis).map_err(|e| {
+    // The JSON contract, as `rates --json` prints it.
+    let analysis = crate::present::json::analysis_text(filing.analysis).map_err(|e| {
         Diagnostic::error("archive", format!("cannot write the analysis as JSON: {e}"))
     })?;
-    analysis.push(b'\n');
-    files.push((ANALYSIS.to_string(), Role::Analysis, analysis));
+    files.push((ANALYSIS.to_string(), Role::Analysis, analysis.into_bytes()));
     files.push((format!("{slug}.pdf"), Role::Memo, filing.pdf.to_vec()));
     let mut seen = std::collections::BTreeSet::new();
     for (path, _, _) in &files {

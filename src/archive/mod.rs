@@ -10,7 +10,7 @@
 //! | `inputs/<deal file>` | the exact bytes of the deal file |
 //! | `inputs/<csv>` | every CSV the deal reads, at its path relative to the deal file |
 //! | `templates/<name>.j2` | the house style, when one replaced built-in templates |
-//! | `analysis.json` | the engine's analysis, pretty JSON |
+//! | `analysis.json` | the analysis as the JSON contract of `rates --json` states it |
 //! | `manifest.json` | every file above with its SHA-256, versions, times, sign-off |
 //! | `manifest.sha256` | the SHA-256 of `manifest.json` (`sha256sum` format) |
 //!

@@ -324,7 +324,7 @@ pub fn verify_version(dir: &Path, report: &mut VerifyReport) {
 pub fn compare_analysis(filed: &[u8], recomputed: &Analysis, limit: usize) -> Vec<String> {
     // Both sides go through the same text round trip, so equal figures compare equal
     // whatever the float parser does with the last digit.
-    let fresh = match serde_json::to_string_pretty(recomputed) {
+    let fresh = match crate::present::json::analysis_text(recomputed) {
         Ok(t) => t,
         Err(e) => return vec![format!("the recomputed analysis cannot be written: {e}")],
     };

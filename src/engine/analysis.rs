@@ -3,6 +3,7 @@
 //!
 //! Rates are fractions (0.09 = 9%). Money is an exact decimal, serialised as a string.
 
+use super::cautions::Caution;
 use rust_decimal::Decimal;
 use serde::Serialize;
 
@@ -58,7 +59,8 @@ pub struct ScenarioAnalysis {
     pub payback: Payback,
     /// NPV over a range of annual rates, for the profile chart.
     pub npv_profile: Vec<ProfilePoint>,
-    /// Plain-language cautions generated from the numbers.
+    /// The cautions that apply, with the facts each states (the JSON contract and the
+    /// reports give each its title and paragraph through `present::cautions`).
     pub cautions: Vec<Caution>,
 }
 
@@ -141,8 +143,10 @@ pub struct IrrReport {
     pub certified: bool,
     /// The individual sign-change bounds.
     pub bounds: SignBounds,
-    /// How the count was certified, in a sentence.
-    pub method: String,
+    /// How the count was certified (serialised under `method`; the JSON contract
+    /// states it as a sentence, written by `present::certificate`).
+    #[serde(rename = "method")]
+    pub certificate: Certificate,
     /// The roots, from the lowest rate to the highest.
     pub roots: Vec<Root>,
     /// Annual-rate intervals that could not be decided (empty when certified).
@@ -220,17 +224,6 @@ pub enum BalanceKind {
     PureBorrowing,
 }
 
-impl BalanceKind {
-    /// A short label for terminal and memo text.
-    pub fn label(self) -> &'static str {
-        match self {
-            BalanceKind::PureInvestment => "pure investment",
-            BalanceKind::Mixed => "mixed balance",
-            BalanceKind::PureBorrowing => "pure borrowing",
-        }
-    }
-}
-
 /// Net investment or net borrowing at the hurdle rate for a given IRR (Hazen).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -243,17 +236,6 @@ pub enum Stance {
     Neutral,
 }
 
-impl Stance {
-    /// A short label for terminal and memo text.
-    pub fn label(self) -> &'static str {
-        match self {
-            Stance::Investment => "net investment at the hurdle",
-            Stance::Borrowing => "net borrowing at the hurdle",
-            Stance::Neutral => "neutral at the hurdle",
-        }
-    }
-}
-
 /// Accept or reject.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -264,17 +246,6 @@ pub enum Decision {
     Reject,
     /// Exactly break-even at the hurdle.
     Indifferent,
-}
-
-impl Decision {
-    /// The word for terminal and memo text.
-    pub fn label(self) -> &'static str {
-        match self {
-            Decision::Accept => "accept",
-            Decision::Reject => "reject",
-            Decision::Indifferent => "indifferent",
-        }
-    }
 }
 
 /// The reading from a complex IRR when there is no real one (Hazen).
@@ -310,13 +281,40 @@ pub struct ProfilePoint {
     pub npv: f64,
 }
 
-/// A plain-language caution.
-#[derive(Debug, Clone, Serialize)]
-pub struct Caution {
-    /// Stable code, such as `multiple-irr`.
-    pub code: String,
-    /// A short title for the caution box.
-    pub title: String,
-    /// The paragraph a committee member reads, with the deal's own numbers.
-    pub text: String,
+/// How the count of IRRs was established: the certificate's facts.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(tag = "kind", rename_all = "kebab-case")]
+pub enum Certificate {
+    /// Not certified: some intervals could not be decided in binary floating point.
+    Uncertified {
+        /// Roots found, with multiplicity.
+        count: u32,
+        /// Intervals left undecided.
+        undecided: usize,
+        /// The sign-change bound of the flows.
+        descartes: u32,
+    },
+    /// The flows never change sign, so no rate of return exists (Descartes).
+    NoSignChange,
+    /// Every root isolated where the NPV changes sign, and the count bounded above and
+    /// below `annual_rate` by the sign changes of the discounted partial sums (Laguerre).
+    Laguerre {
+        /// Roots, with multiplicity.
+        count: u32,
+        /// The annual rate at which the flows were discounted.
+        annual_rate: f64,
+        /// The sign-change bound of the flows.
+        descartes: u32,
+    },
+    /// Every interval settled by enclosures, the count within the sign-change bound
+    /// with the same parity.
+    Enclosures {
+        /// Roots, with multiplicity.
+        count: u32,
+        /// The sign-change bound of the flows.
+        descartes: u32,
+        /// Sign changes of the cumulative sums (bound above 0%) and of the backward
+        /// sums (bound below 0%); `None` when the flows sum to zero.
+        cumulative: Option<(u32, u32)>,
+    },
 }

@@ -1,7 +1,7 @@
 //! From the roots in `y` to the IRR report: annual and periodic rates, certified
 //! intervals, the balance path at each root and the stance at the hurdle.
 
-use super::analysis::{BalanceKind, IrrReport, Root, SignBounds};
+use super::analysis::{BalanceKind, Certificate, IrrReport, Root, SignBounds};
 use super::flows::Flows;
 use super::roots::{find_roots, ExactCheck, RootSet};
 use super::{figures, Decision, Stance};
@@ -150,7 +150,6 @@ pub fn report_from_set(
             }
         })
         .collect();
-    let method = certificate_text(set);
     IrrReport {
         count: set.count(),
         upper_bound: set.descartes,
@@ -160,7 +159,7 @@ pub fn report_from_set(
             above_zero: set.above_zero,
             below_zero: set.below_zero,
         },
-        method,
+        certificate: certificate(set),
         roots,
         unresolved: set
             .unresolved
@@ -378,8 +377,8 @@ fn balance_kind_steps(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) 
     kind_of(positive, negative)
 }
 
-/// One sentence saying how the count was established.
-fn certificate_text(set: &RootSet) -> String {
+/// How the count was established.
+fn certificate(set: &RootSet) -> Certificate {
     let count = set.count();
     if !set.certified && set.exact == ExactCheck::OverBudget {
         return format!(
@@ -395,31 +394,27 @@ fn certificate_text(set: &RootSet) -> String {
         );
     }
     if !set.certified {
-        return format!(
-            "Not certified: {count} root(s) found, but {} interval(s) could not be decided in binary floating point; the sign-change bound is {}.",
-            set.unresolved.len(),
-            set.descartes
-        );
+        return Certificate::Uncertified {
+            count,
+            undecided: set.unresolved.len(),
+            descartes: set.descartes,
+        };
     }
     if set.descartes == 0 {
-        return "The flows never change sign, so no rate of return exists (Descartes' rule of signs).".to_string();
+        return Certificate::NoSignChange;
     }
     if let Some(y) = set.proven_at {
-        let rate = (y / set.step_years).exp_m1();
-        return format!(
-            "Count {count} proven complete: each root lies where the NPV changes sign, found with rigorous rounding-error bounds, and with the flows discounted at an annual {} their partial sums change sign {count} time(s) taken forwards and backwards together, which bounds the roots above and below that rate (Laguerre's rule). Sign-change bound of the flows: {}.",
-            crate::format::percent(rate, 2),
-            set.descartes
-        );
+        return Certificate::Laguerre {
+            count,
+            annual_rate: (y / set.step_years).exp_m1(),
+            descartes: set.descartes,
+        };
     }
-    let norstrom = match (set.above_zero, set.below_zero) {
-        (Some(a), Some(b)) => format!(" Cumulative sums change sign {a} time(s) (bound above 0%) and backward sums {b} time(s) (bound below 0%)."),
-        _ => " The flows sum to zero, so 0% is a root.".to_string(),
-    };
-    format!(
-        "Count {count} proven complete: every interval of rates was settled by enclosures with rigorous rounding-error bounds, and the count is within the sign-change bound {} with the same parity (Descartes; Laguerre for uneven times).{norstrom}",
-        set.descartes
-    )
+    Certificate::Enclosures {
+        count,
+        descartes: set.descartes,
+        cumulative: set.above_zero.zip(set.below_zero),
+    }
 }
 
 #[cfg(test)]

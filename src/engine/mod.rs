@@ -11,6 +11,7 @@ pub mod roots;
 
 pub use crate::model::flows::{self, FlowPoint, Flows};
 pub use analysis::*;
+pub use cautions::Caution;
 
 use crate::model::{Deal, Rates};
 use rust_decimal::prelude::*;
@@ -23,18 +24,13 @@ pub fn analyse(deal: &Deal) -> Analysis {
         scenarios: deal
             .scenarios
             .iter()
-            .map(|s| analyse_scenario(&s.name, &s.flows, &deal.rates, &deal.currency))
+            .map(|s| analyse_scenario(&s.name, &s.flows, &deal.rates))
             .collect(),
     }
 }
 
 /// Every figure for one series of flows at the deal's rates.
-pub fn analyse_scenario(
-    name: &str,
-    flows: &Flows,
-    rates: &Rates,
-    currency: &str,
-) -> ScenarioAnalysis {
+pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAnalysis {
     let flows = flows.normalised();
     let hurdle = rates.hurdle.to_f64().unwrap_or(0.0);
     let finance = rates.finance.to_f64().unwrap_or(hurdle);
@@ -122,27 +118,15 @@ pub fn analyse_scenario(
     let one_sign = flows.points.iter().all(|p| p.amount.is_sign_positive())
         || flows.points.iter().all(|p| p.amount.is_sign_negative());
     let input = cautions::CautionInput {
-        currency,
-        hurdle,
-        finance,
-        reinvestment,
-        roots: &analysis.irr.roots,
-        certified: analysis.irr.certified,
-        unresolved: &analysis.irr.unresolved,
-        npv_at_hurdle: analysis.npv_at_hurdle,
-        npv_at_hurdle_approx: analysis.npv_at_hurdle_approx,
-        mirr: analysis.mirr,
+        figures: cautions::CautionFigures::of(&analysis),
         mirr_reinvest_range: analysis.mirr.map(|_| {
             (
                 figures::mirr(&flows, finance, reinvestment - 0.02),
                 figures::mirr(&flows, finance, reinvestment + 0.02),
             )
         }),
-        horizon_years: analysis.totals.horizon_years,
         first_interval_years: (flows.points.len() >= 2).then(|| flows.years(1) - flows.years(0)),
         one_sign,
-        net: analysis.totals.net,
-        complex_reading: analysis.irr.complex_reading.as_ref(),
     };
     let found = cautions::cautions(&input);
     analysis.cautions = found;

@@ -7,8 +7,8 @@
 //! root finder is checked against outside references in `tests/roots.rs`,
 //! `tests/rates.rs` and the cross-checks); they check that the memo prints exactly what
 //! the engine reported: every root, formatted as the memo formats rates
-//! (`report::format_root` with `report::scenario_rate_decimals`), the NPV at the hurdle
-//! (`report::format_money`), the root count, and "no real IRR" when there is none.
+//! (`present::root_rate` with `present::scenario_rate_decimals`), the NPV at the hurdle
+//! (`present::money`), the root count, and "no real IRR" when there is none.
 //!
 //! Typesetting takes a fraction of a second per memo, so the PDF property runs 24 cases
 //! and reads the text back with `support::pdf`, a reader independent of the typesetter; the
@@ -156,20 +156,28 @@ impl Figure {
 }
 
 fn expected_figures(s: &ScenarioAnalysis) -> Vec<Figure> {
-    let decimals = report::scenario_rate_decimals(s);
+    let decimals = candor::present::scenario_rate_decimals(s);
     let mut out: Vec<Figure> = s
         .irr
         .roots
         .iter()
         .enumerate()
-        .map(|(i, r)| Figure::Root(i + 1, report::format_root(r, decimals)))
+        .map(|(i, r)| {
+            Figure::Root(
+                i + 1,
+                candor::present::root_rate(r, decimals, candor::present::Style::Print),
+            )
+        })
         .collect();
     out.push(Figure::Count(match s.irr.count {
         0 => "no real IRR".to_string(),
         1 => "exactly one real IRR".to_string(),
         n => format!("{n} real IRRs"),
     }));
-    out.push(Figure::Npv(report::format_npv(s)));
+    out.push(Figure::Npv(candor::present::scenario_npv(
+        s,
+        candor::present::Style::Print,
+    )));
     out
 }
 
