@@ -4,6 +4,7 @@
 use super::load::load_deal;
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::RatesArgs;
+use crate::diag::terminal_safe;
 use crate::engine::{self, Analysis, ScenarioAnalysis};
 use crate::format::{decimals_to_separate, npv_in, per_period, percent, ratio};
 use std::fmt::Write as _;
@@ -73,7 +74,7 @@ fn run_batch(path: &std::path::Path) -> u8 {
 /// The terminal report: one block per scenario.
 pub fn terminal_report(a: &Analysis) -> String {
     let mut o = String::new();
-    let _ = writeln!(o, "{} ({})", a.deal, a.currency);
+    let _ = writeln!(o, "{} ({})", terminal_safe(&a.deal), a.currency);
     for s in &a.scenarios {
         scenario_block(&mut o, s, &a.currency);
     }
@@ -82,7 +83,7 @@ pub fn terminal_report(a: &Analysis) -> String {
 
 fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     let _ = writeln!(o);
-    let title = format!("scenario: {}", s.name);
+    let title = format!("scenario: {}", terminal_safe(&s.name));
     let _ = writeln!(o, "{title}\n{}", "-".repeat(title.chars().count()));
     let _ = writeln!(
         o,
@@ -185,8 +186,8 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     if !s.cautions.is_empty() {
         let _ = writeln!(o, "  cautions");
         for c in &s.cautions {
-            let _ = writeln!(o, "    [{}] {}", c.code, c.title);
-            for line in wrap(&c.text, 72) {
+            let _ = writeln!(o, "    [{}] {}", c.code, terminal_safe(&c.title));
+            for line in wrap(&terminal_safe(&c.text), 72) {
                 let _ = writeln!(o, "      {line}");
             }
         }

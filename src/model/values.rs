@@ -103,6 +103,31 @@ pub fn parse_decimal(text: &str) -> Result<Decimal, ValueError> {
     Ok(value.normalize())
 }
 
+/// Reads an amount or a factor as deal files and batch lines both write it
+/// ([`parse_decimal`]); a refusal comes with its code: `number-range` for a number
+/// beyond the limits (too large, too many decimal places), `bad-number` otherwise.
+pub fn read_amount(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
+    parse_decimal(text).map_err(|e| {
+        let code = if e.message.contains("out of range") || e.message.contains("decimal places") {
+            "number-range"
+        } else {
+            "bad-number"
+        };
+        (code, e)
+    })
+}
+
+/// Reads an annual rate as deal files and batch lines both write it: [`parse_rate`],
+/// then [`check_rate_form`] and [`check_rate`]; a refusal comes with its code,
+/// `bad-number` for text that is not a rate, `rate-range` for a rate out of bounds.
+pub fn read_rate(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
+    let rate = parse_rate(text).map_err(|e| ("bad-number", e))?;
+    check_rate_form(text, rate)
+        .and_then(|()| check_rate(rate))
+        .map_err(|e| ("rate-range", e))?;
+    Ok(rate)
+}
+
 fn out_of_range(t: &str) -> ValueError {
     ValueError::new(
         format!("`{t}` is out of range"),
