@@ -121,10 +121,10 @@ pub fn batch(data: &[u8]) -> Vec<String> {
 
 /// The input lines `rates --batch` answers: the pieces between newlines (after a
 /// UTF-8 byte-order mark at the start, which is skipped) that hold more than ASCII
-/// white space.
+/// white space, or are longer than a batch line may be.
 pub fn batch_lines(data: &[u8]) -> usize {
     let data = data.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(data);
     data.split(|&b| b == b'\n')
-        .filter(|l| !l.trim_ascii().is_empty())
+        .filter(|l| l.len() > candor::screen::MAX_LINE_BYTES || !l.trim_ascii().is_empty())
         .count()
 }

@@ -3,7 +3,54 @@
 //! A result may carry many diagnostics at once.
 
 use serde::Serialize;
+use std::borrow::Cow;
 use std::fmt::Write as _;
+
+/// User text made safe to print on a terminal: every control character (Unicode
+/// category Cc: line breaks, tabs, ESC, BEL, the C1 range) written as an escape
+/// such as `\n` or `\u{1b}`, so that a value can neither forge an output line nor
+/// send the terminal a command. Text without control characters is returned as it is.
+pub fn terminal_safe(text: &str) -> Cow<'_, str> {
+    if !text.chars().any(char::is_control) {
+        return Cow::Borrowed(text);
+    }
+    let mut out = String::with_capacity(text.len() + 8);
+    for c in text.chars() {
+        match c {
+            '\n' => out.push_str("\\n"),
+            '\r' => out.push_str("\\r"),
+            '\t' => out.push_str("\\t"),
+            c if c.is_control() => {
+                let _ = write!(out, "\\u{{{:x}}}", u32::from(c));
+            }
+            c => out.push(c),
+        }
+    }
+    Cow::Owned(out)
+}
+
+/// Longest message or hint shown whole, in characters; a longer one (which can only
+/// come from echoing a long value) keeps its start and end around an ellipsis.
+const MAX_MESSAGE: usize = 1_000;
+
+/// `text` cut to [`MAX_MESSAGE`] characters, keeping its start and its end.
+fn shortened(text: &str) -> Cow<'_, str> {
+    let count = text.chars().count();
+    if count <= MAX_MESSAGE {
+        return Cow::Borrowed(text);
+    }
+    let head: String = text.chars().take(MAX_MESSAGE * 3 / 4).collect();
+    let tail: String = text.chars().skip(count - MAX_MESSAGE / 5).collect();
+    Cow::Owned(format!(
+        "{head} ... ({} characters left out) ... {tail}",
+        count - head.chars().count() - tail.chars().count()
+    ))
+}
+
+/// A message, hint, field or file name as printed: shortened, then terminal-safe.
+fn shown(text: &str) -> String {
+    terminal_safe(&shortened(text)).into_owned()
+}
 
 /// How serious a diagnostic is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
@@ -50,10 +97,14 @@ pub struct Diagnostic {
 impl Diagnostic {
     /// A new error with a code and a message.
     pub fn error(code: &str, message: impl Into<String>) -> Self {
+        let message = message.into();
         Self {
             severity: Severity::Error,
             code: code.to_string(),
-            message: message.into(),
+            message: match shortened(&message) {
+                Cow::Borrowed(_) => message,
+                Cow::Owned(short) => short,
+            },
             file: None,
             field: None,
             position: None,
@@ -101,8 +152,13 @@ impl Diagnostic {
             Severity::Error => "error",
             Severity::Warning => "warning",
         };
-        let _ = write!(out, "{label}[{}]: {}", self.code, self.message);
-        let mut location = self.file.clone().unwrap_or_default();
+        let _ = write!(
+            out,
+            "{label}[{}]: {}",
+            shown(&self.code),
+            shown(&self.message)
+        );
+        let mut location = self.file.as_deref().map(shown).unwrap_or_default();
         if let Some(p) = self.position {
             let _ = write!(location, ":{}:{}", p.line, p.column);
         }
@@ -113,7 +169,7 @@ impl Diagnostic {
                 if !location.is_empty() {
                     out.push_str("  ");
                 }
-                let _ = write!(out, "(field `{field}`)");
+                let _ = write!(out, "(field `{}`)", shown(field));
             }
         }
         if let (Some(p), Some(src)) = (self.position, source) {
@@ -127,7 +183,7 @@ impl Diagnostic {
             }
         }
         if let Some(hint) = &self.hint {
-            let _ = write!(out, "\n  = hint: {hint}");
+            let _ = write!(out, "\n  = hint: {}", shown(hint));
         }
         out
     }
@@ -141,7 +197,13 @@ const MAX_SHOWN: usize = 100;
 fn excerpt(text: &str, column: usize) -> (String, usize) {
     let chars: Vec<char> = text
         .chars()
-        .map(|c| if c == '\t' { ' ' } else { c })
+        .map(|c| match c {
+            '\t' => ' ',
+            // Control characters as their visible pictures (U+2400 on), one for one.
+            '\0'..='\u{1f}' => char::from_u32(0x2400 + u32::from(c)).unwrap_or('\u{fffd}'),
+            c if c.is_control() => '\u{fffd}',
+            c => c,
+        })
         .collect();
     if chars.len() <= MAX_SHOWN {
         return (chars.into_iter().collect(), column);
@@ -189,6 +251,19 @@ pub type Diagnostics = Vec<Diagnostic>;
 /// True when any diagnostic in the list is an error.
 pub fn has_errors(diags: &[Diagnostic]) -> bool {
     diags.iter().any(|d| d.severity == Severity::Error)
+}
+
+/// A count with thousands separators, for messages: `200,000`.
+pub fn grouped(n: u64) -> String {
+    let digits = n.to_string();
+    let mut out = String::with_capacity(digits.len() + digits.len() / 3);
+    for (i, ch) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(ch);
+    }
+    out
 }
 
 /// Whose fault a failure is, which decides the exit code.
@@ -338,6 +413,39 @@ mod tests {
         assert!(text.contains(" 1 | date,amount"), "{text}");
         assert!(!text.contains("| one"), "{text}");
         assert_eq!(f.exit_code(), 1);
+    }
+
+    #[test]
+    fn control_characters_are_shown_as_escapes() {
+        // ECMA-48: ESC [ 2 K erases the line, ESC ] 0 ; ... BEL retitles the window.
+        let d = Diagnostic::error("unknown-field", "unknown field `a\r\u{1b}[2K`")
+            .in_file("deal\u{7}.yaml")
+            .at_field("scenarios.\u{1b}]0;title\u{7}")
+            .at(1, 1)
+            .with_hint("line one\nerror: forged");
+        let text = d.render(Some("a\u{1b}: 1\n"));
+        assert!(
+            !text.chars().any(|c| c.is_control() && c != '\n'),
+            "{text:?}"
+        );
+        assert_eq!(text.lines().count(), 6, "{text}");
+        assert!(text.contains("unknown field `a\\r\\u{1b}[2K`"), "{text}");
+        assert!(text.contains("= hint: line one\\nerror: forged"), "{text}");
+        assert!(
+            text.contains("(field `scenarios.\\u{1b}]0;title\\u{7}`)"),
+            "{text}"
+        );
+        assert_eq!(terminal_safe("plain é"), Cow::Borrowed("plain é"));
+        assert_eq!(terminal_safe("a\tb\u{9b}"), "a\\tb\\u{9b}");
+    }
+
+    #[test]
+    fn long_messages_keep_their_start_and_end() {
+        let long = format!("`{}` is not a number", "9".repeat(9_000_000));
+        let d = Diagnostic::error("bad-number", long);
+        assert!(d.message.len() < 1_100, "{}", d.message.len());
+        assert!(d.message.starts_with("`999") && d.message.ends_with("` is not a number"));
+        assert!(d.message.contains("characters left out"));
     }
 
     #[test]

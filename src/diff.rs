@@ -8,7 +8,6 @@ use crate::model::{Clock, Deal, Scenario, SignoffDecision};
 use crate::present::{self, words, Style};
 use rust_decimal::Decimal;
 use serde::Serialize;
-use std::fmt::Write as _;
 
 /// One field whose value changed; `None` stands for "not given".
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -485,13 +484,13 @@ pub fn render_text(d: &Diff) -> String {
     let before = out.len();
     for c in &d.inputs {
         let quote = c.field.starts_with("memo.") || c.field.contains(".description");
-        let _ = writeln!(out, "  {}", change_line(c, quote));
+        push_line(&mut out, change_line(c, quote));
     }
     for s in &d.scenarios_added {
-        let _ = writeln!(out, "  scenario {s} added");
+        push_line(&mut out, format!("scenario {s} added"));
     }
     for s in &d.scenarios_removed {
-        let _ = writeln!(out, "  scenario {s} removed");
+        push_line(&mut out, format!("scenario {s} removed"));
     }
     for f in &d.flows {
         let what = match (f.old, f.new) {
@@ -504,7 +503,10 @@ pub fn render_text(d: &Diff) -> String {
             (Some(a), None) => format!("removed, was {}", present::money(a, Style::Print)),
             (None, None) => String::new(),
         };
-        let _ = writeln!(out, "  flow at {}, {}: {what}", f.when, label(&f.scenario));
+        push_line(
+            &mut out,
+            format!("flow at {}, {}: {what}", f.when, label(&f.scenario)),
+        );
     }
     if out.len() == before {
         out.push_str("  no changes\n");
@@ -516,25 +518,36 @@ pub fn render_text(d: &Diff) -> String {
     for r in &d.results {
         let who = label(&r.scenario);
         for x in &r.irr_disappeared {
-            let _ = writeln!(out, "  {who}: IRR {} disappeared", x.text);
+            push_line(&mut out, format!("{who}: IRR {} disappeared", x.text));
         }
         for x in &r.irr_appeared {
-            let _ = writeln!(out, "  {who}: IRR {} appeared", x.text);
+            push_line(&mut out, format!("{who}: IRR {} appeared", x.text));
         }
         for m in &r.irr_moved {
-            let _ = writeln!(out, "  {who}: IRR {} → {}", m.old.text, m.new.text);
+            push_line(
+                &mut out,
+                format!("{who}: IRR {} → {}", m.old.text, m.new.text),
+            );
         }
         for c in &r.figures {
-            let _ = writeln!(out, "  {who}: {}", change_line(c, false));
+            push_line(&mut out, format!("{who}: {}", change_line(c, false)));
         }
         for c in &r.cautions_added {
-            let _ = writeln!(out, "  {who}: new caution {c}");
+            push_line(&mut out, format!("{who}: new caution {c}"));
         }
         for c in &r.cautions_removed {
-            let _ = writeln!(out, "  {who}: caution {c} no longer raised");
+            push_line(&mut out, format!("{who}: caution {c} no longer raised"));
         }
     }
     out
+}
+
+/// Writes one line of the text report, indented, with user text made terminal-safe
+/// (a memo text may hold line breaks; a name, in an older filing, anything).
+fn push_line(out: &mut String, line: String) {
+    out.push_str("  ");
+    out.push_str(&crate::diag::terminal_safe(&line));
+    out.push('\n');
 }
 
 /// A deal-file field or result figure in words, for the memo.
@@ -720,6 +733,31 @@ mod tests {
             results: Vec::new(),
         })
         .is_empty());
+    }
+
+    #[test]
+    fn the_text_report_never_prints_a_control_character() {
+        let d = Diff {
+            inputs: vec![Change {
+                field: "deal.name".to_string(),
+                old: Some("Old\r\u{1b}[2K".to_string()),
+                new: Some("New\nerror: forged".to_string()),
+            }],
+            scenarios_added: vec!["\u{1b}]0;title\u{7}".to_string()],
+            scenarios_removed: Vec::new(),
+            flows: Vec::new(),
+            results: Vec::new(),
+        };
+        let text = render_text(&d);
+        assert!(
+            !text.chars().any(|c| c.is_control() && c != '\n'),
+            "{text:?}"
+        );
+        assert!(!text.lines().any(|l| l.starts_with("error")), "{text}");
+        assert!(
+            text.contains("scenario \\u{1b}]0;title\\u{7} added"),
+            "{text}"
+        );
     }
 
     #[test]

@@ -7,7 +7,7 @@
 //!
 //! | layer | module | entry point | output |
 //! | --- | --- | --- | --- |
-//! | diagnostics | [`diag`] | [`diag::Diagnostic`], [`diag::Failure`] | problems, with their files' text and exit class |
+//! | diagnostics | [`diag`], [`limits`] | [`diag::Diagnostic`], [`diag::Failure`] | problems, with their files' text and exit class; the one set of limits on inputs |
 //! | input | [`input`] | [`input::parse`] | [`input::RawDeal`]: the YAML as written, with positions |
 //! | model | [`model`] | [`model::validate`] | [`model::Deal`]: exact money, resolved flows per scenario |
 //! | engine | [`engine`] | [`engine::analyse`] | [`engine::Analysis`]: roots, figures, cautions as facts (no words) |
@@ -34,6 +34,7 @@ pub mod engine;
 pub mod files;
 
 pub mod input;
+pub mod limits;
 pub mod memo;
 pub mod model;
 pub mod pack;

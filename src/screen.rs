@@ -1,17 +1,15 @@
 //! Batch screening (`candor rates --batch`): portfolio screening of many series, one JSON object a line
 //! in and one JSON line out per series, in input order, using every core.
 
-use crate::engine::{self, FlowPoint, Flows};
-use crate::model::values::{parse_decimal, parse_rate, MAX_AMOUNT, MAX_SCALE};
-use crate::model::{DayCount, Frequency};
+use crate::engine::{self, ApproxAmount, Flows};
+use crate::model::values::{self, grouped, ValueError, MAX_AMOUNT, MAX_SCALE};
+use crate::model::{DayCount, Frequency, MAX_FLOWS};
 use rayon::prelude::*;
 use rust_decimal::prelude::*;
-use serde::{Deserialize, Serialize};
+use serde::{Deserialize, Serialize, Serializer};
 use serde_json::value::RawValue;
-use serde_json::{json, Value};
 
-/// Most flows accepted in one series (as for deal files).
-const MAX_FLOWS: usize = 100_000;
+pub use crate::limits::MAX_LINE_BYTES;
 
 #[derive(Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -23,8 +21,10 @@ struct Line<'a> {
     #[serde(borrow)]
     amounts: Option<&'a RawValue>,
     day_count: Option<String>,
+    /// The whole list, read by [`flows_of`] once its length is known to be within
+    /// the flow limit.
     #[serde(borrow)]
-    dated: Option<Vec<DatedFlow<'a>>>,
+    dated: Option<&'a RawValue>,
     #[serde(borrow)]
     hurdle_rate: Option<&'a RawValue>,
     #[serde(borrow)]
@@ -99,7 +99,7 @@ fn plain_numbers(b: &[u8], open: usize) -> Option<(Vec<Decimal>, usize)> {
         100_000_000,
     ];
     let len = b.len();
-    let mut out = Vec::with_capacity((len - open) / 8 + 1);
+    let mut out = Vec::with_capacity(((len - open) / 8 + 1).min(MAX_FLOWS + 1));
     let skip_space = |i: &mut usize| {
         while *i < len && is_json_space(b[*i]) {
             *i += 1;
@@ -182,6 +182,8 @@ fn plain_numbers(b: &[u8], open: usize) -> Option<(Vec<Decimal>, usize)> {
         }
         skip_space(&mut i);
         match b.get(i)? {
+            // Past the flow limit: the general reader refuses the list, unread.
+            b',' if out.len() > MAX_FLOWS => return None,
             b',' => {
                 i += 1;
                 if b.get(i) == Some(&b' ') {
@@ -267,6 +269,10 @@ fn amounts_of(raw: &RawValue) -> Result<Vec<Decimal>, LineError> {
             }
         }
     }
+    let count = list_len(raw.get());
+    if count > MAX_FLOWS {
+        return Err(too_many(count));
+    }
     let items: Vec<&RawValue> = serde_json::from_str(raw.get()).map_err(|e| {
         (
             "bad-line",
@@ -277,42 +283,53 @@ fn amounts_of(raw: &RawValue) -> Result<Vec<Decimal>, LineError> {
         .iter()
         .enumerate()
         .map(|(i, raw)| {
-            exact_decimal(raw).map_err(|m| ("bad-number", format!("amounts[{i}]: {m}")))
+            exact_decimal(raw).map_err(|(code, m)| (code, format!("amounts[{i}]: {m}")))
         })
         .collect()
 }
 
-/// Reads a JSON number or a decimal string exactly (the text, never a binary float).
-fn exact_decimal(raw: &RawValue) -> Result<Decimal, String> {
-    let text = raw.get().trim();
-    let inner = if let Some(s) = text.strip_prefix('"').and_then(|t| t.strip_suffix('"')) {
-        s
-    } else if text.contains(['e', 'E']) {
-        return Decimal::from_scientific(text).map_err(|_| format!("`{text}` is out of range"));
-    } else {
-        // A JSON number (the parser has checked its grammar): read it directly, with
-        // the same limits as deal files.
-        let value =
-            Decimal::from_str_exact(text).map_err(|_| format!("`{text}` is out of range"))?;
-        if value.abs() > Decimal::from(MAX_AMOUNT) || value.scale() > MAX_SCALE {
-            return parse_decimal(text).map_err(|e| e.message);
-        }
-        return Ok(value);
-    };
-    parse_decimal(inner).map_err(|e| e.message)
+/// Reads a JSON value that stands for an amount with the reader of deal files: a
+/// number or a string is read from its text (never through a binary float) with the
+/// same limits and words; anything else is not a number.
+fn exact_decimal(raw: &RawValue) -> Result<Decimal, LineError> {
+    read_scalar(raw, "a number", values::read_amount)
 }
 
-fn exact_rate(raw: &RawValue) -> Result<Decimal, String> {
+/// Reads a JSON value that stands for a rate with the reader of deal files
+/// ([`values::read_rate`]): `9` means 900% and is refused as in a deal file.
+fn exact_rate(raw: &RawValue) -> Result<Decimal, LineError> {
+    read_scalar(raw, "a rate such as \"8%\" or 0.08", values::read_rate)
+}
+
+/// The text a JSON scalar stands for, as a deal file's scalar would hold it: a
+/// string's contents, a number's or a literal's text; read with `read`. A list or an
+/// object is refused in the words of a deal file.
+fn read_scalar(
+    raw: &RawValue,
+    expected: &str,
+    read: fn(&str) -> Result<Decimal, (&'static str, ValueError)>,
+) -> Result<Decimal, LineError> {
     let text = raw.get().trim();
-    let inner = text
-        .strip_prefix('"')
-        .and_then(|t| t.strip_suffix('"'))
-        .unwrap_or(text);
-    let r = parse_rate(inner).map_err(|e| e.message)?;
-    if r <= -Decimal::ONE {
-        return Err(format!("`{inner}` is not above -100%"));
-    }
-    Ok(r)
+    let scalar: std::borrow::Cow<'_, str> = match text.as_bytes().first() {
+        Some(b'"') => match serde_json::from_str::<String>(text) {
+            Ok(s) => s.into(),
+            Err(e) => return Err(("bad-line", e.to_string())),
+        },
+        Some(b'[') => {
+            return Err((
+                "wrong-type",
+                format!("it should be {expected}, but it is a list"),
+            ))
+        }
+        Some(b'{') => {
+            return Err((
+                "wrong-type",
+                format!("it should be {expected}, but it is an object"),
+            ))
+        }
+        _ => text.into(),
+    };
+    read(&scalar).map_err(|(code, e)| (code, e.message))
 }
 
 fn frequency(name: &str) -> Option<Frequency> {
@@ -340,77 +357,177 @@ fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, Lin
                 ),
             ))?;
             if amounts.len() > MAX_FLOWS {
-                return Err((
-                    "too-many-flows",
-                    format!("{} flows; at most {MAX_FLOWS}", amounts.len()),
-                ));
+                return Err(too_many(amounts.len()));
             }
             Ok(Flows::periodic(amounts, freq.per_year()))
         }
-        (None, Some(dated)) => {
+        (None, Some(raw)) => {
             let name = line.day_count.as_deref().unwrap_or("act/365f");
             let dc = DayCount::parse(name).ok_or((
                 "unknown-value",
                 format!("`day_count: {name}` is not one of act/365f, act/360, act/act-isda, 30/360, 30e/360, 30e/360-isda"),
             ))?;
-            if dated.len() > MAX_FLOWS {
-                return Err((
-                    "too-many-flows",
-                    format!("{} flows; at most {MAX_FLOWS}", dated.len()),
-                ));
+            let count = list_len(raw.get());
+            if count > MAX_FLOWS {
+                return Err(too_many(count));
             }
+            let dated: Vec<DatedFlow<'_>> = serde_json::from_str(raw.get()).map_err(|e| {
+                (
+                    "bad-line",
+                    format!("`dated` must be a list of {{\"date\", \"amount\"}} objects: {e}"),
+                )
+            })?;
             let mut entries = Vec::with_capacity(dated.len());
             for (i, f) in dated.iter().enumerate() {
-                let date =
-                    chrono::NaiveDate::parse_from_str(&f.date, "%Y-%m-%d").map_err(|_| {
-                        (
-                            "bad-date",
-                            format!("dated[{i}].date: `{}` is not a date (YYYY-MM-DD)", f.date),
-                        )
-                    })?;
+                let date = values::parse_date(&f.date)
+                    .map_err(|e| ("bad-date", format!("dated[{i}].date: {}", e.message)))?;
                 let amount = exact_decimal(f.amount)
-                    .map_err(|m| ("bad-number", format!("dated[{i}].amount: {m}")))?;
-                entries.push((date, amount));
+                    .map_err(|(code, m)| (code, format!("dated[{i}].amount: {m}")))?;
+                entries.push((date, amount, None));
             }
-            let first = entries.iter().map(|e| e.0).min();
-            let last = entries.iter().map(|e| e.0).max();
-            let points = entries
-                .into_iter()
-                .map(|(date, amount)| FlowPoint {
-                    offset: first.map_or(0, |f| dc.units_in_series(f, date, last)),
-                    amount,
-                    date: Some(date),
-                    period: None,
-                    note: None,
-                })
-                .collect();
-            Ok(Flows {
-                points,
-                units_per_year: dc.units_per_year(),
-                periods_per_year: None,
-            })
+            Ok(Flows::dated(entries, dc))
         }
     }
 }
 
-/// Screens one line; always returns one JSON object.
-pub fn screen_line(text: &str, index: usize) -> Value {
+/// How many items the JSON list `json` holds, counted without reading them: the
+/// commas outside strings and nested values, plus one unless it is empty. (On text
+/// that is not a list the count means nothing; the parser then says what is wrong.)
+fn list_len(json: &str) -> usize {
+    let b = json.as_bytes();
+    let (mut depth, mut commas, mut any, mut i) = (0i32, 0usize, false, 0usize);
+    while i < b.len() {
+        match b[i] {
+            b'"' => {
+                any |= depth == 1;
+                i += 1;
+                while i < b.len() && b[i] != b'"' {
+                    i += if b[i] == b'\\' { 2 } else { 1 };
+                }
+            }
+            b'[' | b'{' => {
+                any |= depth == 1;
+                depth += 1;
+            }
+            b']' | b'}' => depth -= 1,
+            b',' if depth == 1 => commas += 1,
+            c if depth == 1 && !is_json_space(c) => any = true,
+            _ => {}
+        }
+        i += 1;
+    }
+    if any {
+        commas + 1
+    } else {
+        0
+    }
+}
+
+/// The error for a series of more than [`MAX_FLOWS`] flows, in the words of deal files.
+fn too_many(n: usize) -> LineError {
+    (
+        "too-many-flows",
+        format!(
+            "{} flows; at most {} are accepted",
+            grouped(n as u64),
+            grouped(MAX_FLOWS as u64)
+        ),
+    )
+}
+
+/// Screens one line; always returns one JSON object (read back from [`screen_text`],
+/// so an id beyond what a float holds, such as `1e400`, comes back as null here).
+pub fn screen_line(text: &str, index: usize) -> serde_json::Value {
+    serde_json::from_str(&screen_text(text, index)).unwrap_or(serde_json::Value::Null)
+}
+
+/// Screens one line: one JSON object as compact text, the line's results or its
+/// error, naming the series by its `id` exactly as written (or `line N`).
+pub fn screen_text(text: &str, index: usize) -> String {
     match screened(text, index) {
-        Ok(s) => serde_json::to_value(&s).unwrap_or(Value::Null),
+        Ok(s) => serde_json::to_string(&s).unwrap_or_default(),
         Err(error) => error,
     }
 }
 
-/// Screens one line: the JSON object of [`screen_line`], as its compact text.
-pub fn screen_text(text: &str, index: usize) -> String {
-    match screened(text, index) {
-        Ok(s) => serde_json::to_string(&s).unwrap_or_default(),
-        Err(error) => error.to_string(),
+/// How an output line names its series.
+enum Id {
+    /// The line's `id`, as its JSON text.
+    Given(Box<RawValue>),
+    /// `line N`, counting from 1, for a line without a readable id.
+    Line(usize),
+}
+
+impl Serialize for Id {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        match self {
+            Id::Line(n) => serializer.serialize_str(&format!("line {n}")),
+            // JSON white space other than a space (a tab, a carriage return) is
+            // dropped, so that the output line holds no control character.
+            Id::Given(raw) if raw.get().bytes().any(|b| b == b'\t' || b == b'\r') => {
+                match RawValue::from_string(compact(raw.get())) {
+                    Ok(r) => r.serialize(serializer),
+                    Err(_) => raw.serialize(serializer),
+                }
+            }
+            Id::Given(raw) => raw.serialize(serializer),
+        }
     }
 }
 
-/// One line's results, or the JSON object of its error.
-fn screened(text: &str, index: usize) -> Result<Screened, Value> {
+/// JSON text without white space outside its strings.
+fn compact(json: &str) -> String {
+    let mut out = String::with_capacity(json.len());
+    let (mut in_string, mut escaped) = (false, false);
+    for c in json.chars() {
+        if in_string {
+            in_string = escaped || c != '"';
+            escaped = !escaped && c == '\\';
+        } else if c == '"' {
+            in_string = true;
+        } else if is_json_space_char(c) {
+            continue;
+        }
+        out.push(c);
+    }
+    out
+}
+
+fn is_json_space_char(c: char) -> bool {
+    u8::try_from(c).is_ok_and(is_json_space)
+}
+
+/// The JSON object of a line's error.
+fn error_line(id: &Id, code: &str, message: &str) -> String {
+    #[derive(Serialize)]
+    struct Body<'b> {
+        code: &'b str,
+        message: &'b str,
+    }
+    #[derive(Serialize)]
+    struct ErrorLine<'b> {
+        id: &'b Id,
+        error: Body<'b>,
+    }
+    serde_json::to_string(&ErrorLine {
+        id,
+        error: Body { code, message },
+    })
+    .unwrap_or_default()
+}
+
+/// Only the `id` of a line, to name the series when the rest cannot be read.
+#[derive(Deserialize)]
+struct IdOnly<'a> {
+    #[serde(borrow)]
+    id: Option<&'a RawValue>,
+}
+
+/// One line's results, or the JSON text of its error.
+fn screened(text: &str, index: usize) -> Result<Screened, String> {
+    if text.len() > MAX_LINE_BYTES {
+        return Err(too_long(index));
+    }
     // Most lines are a short object around one long list of plain numbers: read that
     // list directly and leave the parser only the rest.
     let (rest, mut amounts) = match split_amounts(text) {
@@ -429,45 +546,53 @@ fn screened(text: &str, index: usize) -> Result<Screened, Value> {
         Ok(l) => l,
         Err(e) => {
             // Still name the series when its id can be read.
-            let id = serde_json::from_str::<Value>(text)
+            let id = serde_json::from_str::<IdOnly<'_>>(text)
                 .ok()
-                .and_then(|v| v.get("id").cloned())
-                .unwrap_or(json!(format!("line {}", index + 1)));
-            return Err(json!({"id": id, "error": {"code": "bad-line", "message": e.to_string()}}));
+                .and_then(|l| l.id)
+                .map_or(Id::Line(index + 1), |raw| Id::Given(raw.to_owned()));
+            let message = if text.trim_start().starts_with('{') {
+                e.to_string()
+            } else {
+                "the line must be a JSON object, such as {\"id\": \"a\", \"amounts\": [-100, 110]}"
+                    .to_string()
+            };
+            return Err(error_line(&id, "bad-line", &message));
         }
     };
-    let id: Value = line
+    let id = line
         .id
-        .and_then(|r| serde_json::from_str(r.get()).ok())
-        .unwrap_or(json!(format!("line {}", index + 1)));
+        .map_or(Id::Line(index + 1), |raw| Id::Given(raw.to_owned()));
     match screen(&line, amounts) {
         Ok(mut screened) => {
-            screened.id = id;
+            screened.id = Some(id);
             Ok(screened)
         }
-        Err((code, message)) => Err(json!({"id": id, "error": {"code": code, "message": message}})),
+        Err((code, message)) => Err(error_line(&id, code, &message)),
     }
+}
+
+/// The error line of a line longer than [`MAX_LINE_BYTES`] (line `index`, from 0).
+fn too_long(index: usize) -> String {
+    error_line(
+        &Id::Line(index + 1),
+        "line-too-long",
+        &format!(
+            "the line is longer than {} bytes (16 MiB), the most a batch line may hold; it was skipped",
+            grouped(MAX_LINE_BYTES as u64)
+        ),
+    )
 }
 
 fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, LineError> {
     let flows = flows_of(line, amounts)?.into_normalised();
-    let hurdle = line
-        .hurdle_rate
-        .map(exact_rate)
-        .transpose()
-        .map_err(|m| ("rate-range", format!("hurdle_rate: {m}")))?;
-    let finance = line
-        .finance_rate
-        .map(exact_rate)
-        .transpose()
-        .map_err(|m| ("rate-range", format!("finance_rate: {m}")))?
-        .or(hurdle);
-    let reinvest = line
-        .reinvestment_rate
-        .map(exact_rate)
-        .transpose()
-        .map_err(|m| ("rate-range", format!("reinvestment_rate: {m}")))?
-        .or(hurdle);
+    let rate = |raw: Option<&RawValue>, name: &str| {
+        raw.map(exact_rate)
+            .transpose()
+            .map_err(|(code, m)| (code, format!("{name}: {m}")))
+    };
+    let hurdle = rate(line.hurdle_rate, "hurdle_rate")?;
+    let finance = rate(line.finance_rate, "finance_rate")?.or(hurdle);
+    let reinvest = rate(line.reinvestment_rate, "reinvestment_rate")?.or(hurdle);
     if flows.points.is_empty() {
         return Err(("all-zero-flows", "every flow is zero".into()));
     }
@@ -486,9 +611,9 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
             stance: hurdle.map(|_| r.stance),
         })
         .collect();
-    let (npv_at_hurdle, mirr) = match hurdle {
+    let (npv_at_hurdle, npv_at_hurdle_approx, mirr) = match hurdle {
         Some(h) => {
-            let npv = engine::figures::npv_exact(&flows, h).map(|v| v.to_string());
+            let (npv, approx) = engine::npv_at_hurdle(&flows, h);
             let mirr = match (
                 finance.and_then(|x| x.to_f64()),
                 reinvest.and_then(|x| x.to_f64()),
@@ -496,12 +621,12 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
                 (Some(f), Some(g)) => engine::figures::mirr(&flows, f, g),
                 _ => None,
             };
-            (Some(npv), Some(mirr))
+            (Some(npv.map(|v| v.to_string())), approx, Some(mirr))
         }
-        None => (None, None),
+        None => (None, None, None),
     };
     Ok(Screened {
-        id: Value::Null,
+        id: None,
         count: report.count,
         upper_bound: report.upper_bound,
         certified: report.certified,
@@ -509,6 +634,7 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
         unresolved: report.unresolved,
         exact_check: report.exact_check,
         npv_at_hurdle,
+        npv_at_hurdle_approx,
         mirr,
     })
 }
@@ -516,7 +642,7 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
 /// One output line of batch screening (the keys in this order; `id` first).
 #[derive(Serialize)]
 struct Screened {
-    id: Value,
+    id: Option<Id>,
     count: u32,
     upper_bound: u32,
     certified: bool,
@@ -529,6 +655,10 @@ struct Screened {
     /// Only with a hurdle rate: the NPV as a decimal string, or null.
     #[serde(skip_serializing_if = "Option::is_none")]
     npv_at_hurdle: Option<Option<String>>,
+    /// Only when the NPV is beyond an exact decimal (as in a deal's analysis): its
+    /// sign and size in scientific form, such as `"6.00e62"`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    npv_at_hurdle_approx: Option<ApproxAmount>,
     /// Only with a hurdle rate (finance and reinvestment rates default to it).
     #[serde(skip_serializing_if = "Option::is_none")]
     mirr: Option<Option<f64>>,
@@ -574,8 +704,27 @@ pub fn screen_stream(
     /// Appends up to a block of input to `buf` (more when a line is longer than
     /// that); the number of bytes read, 0 at the end.
     fn fill(input: impl std::io::Read, buf: &mut Vec<u8>) -> std::io::Result<usize> {
-        let want = CHUNK.max(buf.len());
+        // Doubling the buffer for a long line, but never far past the longest line.
+        let want = CHUNK
+            .max(buf.len())
+            .min((MAX_LINE_BYTES + 1).saturating_sub(buf.len()))
+            .max(CHUNK);
         std::io::Read::read_to_end(&mut std::io::Read::take(input, want as u64), buf)
+    }
+    /// Reads past the rest of a line longer than [`MAX_LINE_BYTES`], a block at a
+    /// time: `buf` then holds what follows the line's newline; true at the end of the
+    /// input.
+    fn skip_line(mut input: impl std::io::Read, buf: &mut Vec<u8>) -> std::io::Result<bool> {
+        loop {
+            buf.clear();
+            if fill(&mut input, buf)? == 0 {
+                return Ok(true);
+            }
+            if let Some(k) = memchr::memchr(b'\n', buf) {
+                buf.drain(..=k);
+                return Ok(false);
+            }
+        }
     }
     let mut cur: Vec<u8> = Vec::with_capacity(2 * CHUNK);
     let mut next: Vec<u8> = Vec::with_capacity(2 * CHUNK);
@@ -591,6 +740,21 @@ pub fn screen_stream(
         } else {
             memchr::memrchr(b'\n', &cur).map_or(0, |k| k + 1)
         };
+        if complete == 0 && cur.len() > MAX_LINE_BYTES {
+            // A line longer than any accepted, its end not in sight: answer it at once
+            // (the answer is flushed, as the rest of the line may be endless, as
+            // /dev/zero is), then read past it without keeping it.
+            out.write_all(too_long(line_no).as_bytes())
+                .and_then(|()| out.write_all(b"\n"))
+                .and_then(|()| out.flush())
+                .map_err(StreamError::Write)?;
+            line_no += 1;
+            eof = skip_line(&mut *input, &mut cur).map_err(StreamError::Read)?;
+            if cur.is_empty() && !eof {
+                eof = fill(&mut *input, &mut cur).map_err(StreamError::Read)? == 0;
+            }
+            continue;
+        }
         next.clear();
         next.extend_from_slice(&cur[complete..]);
         let block = &cur[..complete];
@@ -632,7 +796,7 @@ fn screen_block(block: &[u8], first: usize) -> (usize, Vec<String>) {
     for (k, &end) in ends.iter().enumerate() {
         let line = &block[start..end];
         let line = line.strip_suffix(b"\r").unwrap_or(line);
-        if !line.trim_ascii().is_empty() {
+        if line.len() > MAX_LINE_BYTES || !line.trim_ascii().is_empty() {
             lines.push((first + k, line));
         }
         start = end + 1;
@@ -641,18 +805,16 @@ fn screen_block(block: &[u8], first: usize) -> (usize, Vec<String>) {
     let outputs = lines
         .par_iter()
         .map(|&(i, l)| match std::str::from_utf8(l) {
+            _ if l.len() > MAX_LINE_BYTES => too_long(i),
             Ok(text) => screen_text(text, i),
-            Err(e) => json!({
-                "id": format!("line {}", i + 1),
-                "error": {
-                    "code": "bad-line",
-                    "message": format!(
-                        "the line is not UTF-8 text (an invalid byte at column {})",
-                        e.valid_up_to() + 1
-                    ),
-                },
-            })
-            .to_string(),
+            Err(e) => error_line(
+                &Id::Line(i + 1),
+                "bad-line",
+                &format!(
+                    "the line is not UTF-8 text (an invalid byte at column {})",
+                    e.valid_up_to() + 1
+                ),
+            ),
         })
         .collect();
     (count, outputs)
@@ -675,6 +837,7 @@ pub fn screen_all(text: &str) -> Vec<String> {
 mod tests {
     use super::*;
     use rust_decimal_macros::dec;
+    use serde_json::{json, Value};
 
     /// A reader that hands out at most `step` bytes a call (as pipes do).
     struct Trickle<'a> {
@@ -779,6 +942,61 @@ mod tests {
         assert!(stream(b"\n \n\r\n").is_empty());
     }
 
+    #[test]
+    fn a_line_longer_than_the_cap_is_answered_and_skipped() {
+        use std::io::Read as _;
+        let ok = |id: &str| format!("{{\"id\": \"{id}\", \"amounts\": [-100, 110]}}\n");
+        let endless = std::io::repeat(b'x');
+        // Line 2 never shows its end within the cap; line 3 ends a byte past it; line
+        // 5 is past it and ends the input without a newline.
+        let first = ok("a").into_bytes();
+        let mut input = first
+            .as_slice()
+            .chain(endless.take(20 << 20))
+            .chain(&b"\n"[..])
+            .chain(std::io::repeat(b' ').take(MAX_LINE_BYTES as u64 + 1))
+            .chain(&b"\n"[..])
+            .chain(std::io::Cursor::new(ok("c")))
+            .chain(std::io::repeat(b'1').take(MAX_LINE_BYTES as u64 + 7));
+        let mut out = Vec::new();
+        screen_stream(&mut input, &mut out).unwrap();
+        let lines: Vec<Value> = String::from_utf8(out)
+            .unwrap()
+            .lines()
+            .map(|l| serde_json::from_str(l).unwrap())
+            .collect();
+        // A line past the cap is answered even when it is all spaces: whether it is
+        // blank is not known without holding it.
+        assert_eq!(lines.len(), 5, "{lines:?}");
+        assert_eq!(lines[0]["id"], "a");
+        assert_eq!(lines[0]["count"], 1);
+        for (k, n) in [(1, 2), (2, 3), (4, 5)] {
+            assert_eq!(lines[k]["id"], format!("line {n}"));
+            assert_eq!(lines[k]["error"]["code"], "line-too-long");
+        }
+        assert_eq!(lines[3]["id"], "c");
+        assert_eq!(lines[3]["count"], 1);
+    }
+
+    #[test]
+    fn lists_are_counted_without_being_read() {
+        assert_eq!(list_len("[]"), 0);
+        assert_eq!(list_len(" [ \t] "), 0);
+        assert_eq!(list_len("[1]"), 1);
+        assert_eq!(
+            list_len(r#"[1, "a,b\",c", [2, 3], {"x": 1, "y": [4, 5]}, -0.5]"#),
+            5
+        );
+        let long = format!("[{}1]", "1, ".repeat(MAX_FLOWS));
+        let line = format!(r#"{{"id": "n", "amounts": {long}}}"#);
+        let out = screen_line(&line, 0);
+        assert_eq!(out["error"]["code"], "too-many-flows", "{out}");
+        assert_eq!(
+            out["error"]["message"],
+            "100,001 flows; at most 100,000 are accepted"
+        );
+    }
+
     /// [`plain_numbers`] on `[body]`, which must be read to its end.
     fn list(body: &[u8]) -> Option<Vec<Decimal>> {
         let text = [&b"["[..], body, b"]"].concat();
@@ -875,7 +1093,11 @@ mod tests {
                         .and_then(|r| serde_json::from_str(r.get()).ok())
                         .unwrap_or(json!("line 1"));
                     match screen(&line, None) {
-                        Ok(v) => serde_json::to_value(&v.roots).unwrap_or(Value::Null),
+                        // Through text, as `screen_line` reads its own output back.
+                        Ok(v) => serde_json::to_string(&v.roots)
+                            .ok()
+                            .and_then(|t| serde_json::from_str(&t).ok())
+                            .unwrap_or(Value::Null),
                         Err((code, _)) => json!({"id": id, "code": code}),
                     }
                 }

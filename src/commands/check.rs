@@ -38,8 +38,9 @@ pub fn run(args: &CheckArgs) -> u8 {
                 let others = deal.scenarios.len().saturating_sub(1);
                 let plural = if others == 1 { "" } else { "s" };
                 human_out.push_str(&format!(
-                    "ok  {shown}  {}: {flows} flows, base case + {others} scenario{plural}\n",
-                    deal.name
+                    "ok  {}  {}: {flows} flows, base case + {others} scenario{plural}\n",
+                    crate::diag::terminal_safe(&shown),
+                    crate::diag::terminal_safe(&deal.name)
                 ));
                 reports.push(FileReport {
                     file: shown,
@@ -54,7 +55,10 @@ pub fn run(args: &CheckArgs) -> u8 {
                 let n = failure.diagnostics.len();
                 human_err.push_str(&failure.render());
                 let plural = if n == 1 { "" } else { "s" };
-                human_err.push_str(&format!("\n\n{n} problem{plural} in {shown}\n\n"));
+                human_err.push_str(&format!(
+                    "\n\n{n} problem{plural} in {}\n\n",
+                    crate::diag::terminal_safe(&shown)
+                ));
                 reports.push(FileReport {
                     file: shown,
                     ok: false,

@@ -294,6 +294,24 @@ pub enum Certificate {
         /// The sign-change bound of the flows.
         descartes: u32,
     },
+    /// Not certified: the float methods left intervals undecided or roots too close to
+    /// tell apart, and the exact check ran out of its work budget.
+    ExactOverBudget {
+        /// Roots found, with multiplicity.
+        count: u32,
+        /// Intervals left undecided.
+        undecided: usize,
+        /// The sign-change bound of the flows.
+        descartes: u32,
+    },
+    /// The count and each multiplicity proven in exact integer arithmetic: the NPV as
+    /// an integer polynomial, its square-free split, Descartes isolation.
+    Exact {
+        /// Roots, with multiplicity.
+        count: u32,
+        /// The sign-change bound of the flows.
+        descartes: u32,
+    },
     /// The flows never change sign, so no rate of return exists (Descartes).
     NoSignChange,
     /// Every root isolated where the NPV changes sign, and the count bounded above and

@@ -381,17 +381,17 @@ fn balance_kind_steps(pts: &[(i64, f64)], units_per_year: u64, log_growth: f64) 
 fn certificate(set: &RootSet) -> Certificate {
     let count = set.count();
     if !set.certified && set.exact == ExactCheck::OverBudget {
-        return format!(
-            "Not certified: {count} root(s) found in binary floating point, with {} interval(s) undecided or roots too close to tell apart; the exact check (integer polynomial, square-free split, Descartes isolation) needed more than its work budget. The sign-change bound is {}.",
-            set.unresolved.len(),
-            set.descartes
-        );
+        return Certificate::ExactOverBudget {
+            count,
+            undecided: set.unresolved.len(),
+            descartes: set.descartes,
+        };
     }
     if set.certified && set.exact == ExactCheck::Settled {
-        return format!(
-            "Count {count} proven exactly: the NPV as an integer polynomial, its square-free split by integer gcds giving each multiplicity, and every root isolated by Descartes' rule of signs in exact integers. Sign-change bound of the flows: {}.",
-            set.descartes
-        );
+        return Certificate::Exact {
+            count,
+            descartes: set.descartes,
+        };
     }
     if !set.certified {
         return Certificate::Uncertified {

@@ -29,6 +29,17 @@ pub fn analyse(deal: &Deal) -> Analysis {
     }
 }
 
+/// The NPV at a hurdle rate as deals and batch lines both report it: rounded to the
+/// cent, or, beyond Decimal's range, `None` with its sign and size; both `None` when
+/// it cannot be computed.
+pub fn npv_at_hurdle(flows: &Flows, hurdle: Decimal) -> (Option<Decimal>, Option<ApproxAmount>) {
+    match figures::npv_at(flows, hurdle) {
+        Some(figures::NpvAt::Cents(c)) => (Some(c), None),
+        Some(figures::NpvAt::Beyond(a)) => (None, Some(a)),
+        None => (None, None),
+    }
+}
+
 /// Every figure for one series of flows at the deal's rates.
 pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAnalysis {
     let flows = flows.normalised();
@@ -42,11 +53,7 @@ pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAna
     }
     // Beyond Decimal's range the NPV keeps its sign and size, so the decision still
     // follows its true sign; only a value that cannot be computed at all stays undecided.
-    let (npv_at_hurdle, npv_at_hurdle_approx) = match figures::npv_at(&flows, rates.hurdle) {
-        Some(figures::NpvAt::Cents(c)) => (Some(c), None),
-        Some(figures::NpvAt::Beyond(a)) => (None, Some(a)),
-        None => (None, None),
-    };
+    let (npv_at_hurdle, npv_at_hurdle_approx) = npv_at_hurdle(&flows, rates.hurdle);
     let sign = match (npv_at_hurdle, npv_at_hurdle_approx) {
         (Some(c), _) if c > Decimal::ZERO => 1,
         (Some(c), _) if c < Decimal::ZERO => -1,

@@ -8,9 +8,7 @@ use crate::model::Deal;
 use std::io::Read;
 use std::path::{Path, PathBuf};
 
-/// Largest deal file (and CSV file) read, in bytes: checked before reading, so a
-/// stray multi-gigabyte file is refused at once.
-pub const MAX_FILE_BYTES: u64 = 10 * 1024 * 1024;
+pub use crate::limits::MAX_FILE_BYTES;
 
 /// The UTF-8 byte-order mark, which `input::decode` drops.
 const BOM: &[u8] = b"\xEF\xBB\xBF";

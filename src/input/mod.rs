@@ -9,18 +9,12 @@
 //! says plainly when a file is in another encoding.
 
 use crate::diag::{Diagnostic, Position};
-use saphyr_parser::{Event, Parser, ScalarStyle, Span};
+use saphyr_parser::{Event, Parser, ScalarStyle, Span, Tag};
 use std::collections::HashMap;
 
 pub mod csv;
 
-/// Most alias uses (`*name`) accepted in one file.
-pub const MAX_ALIASES: usize = 100;
-/// Most nodes that aliases may add to the tree in all, so that a chain of aliases to
-/// aliases cannot grow exponentially.
-pub const MAX_ALIAS_NODES: usize = 10_000;
-/// Deepest nesting of sequences and mappings accepted.
-pub const MAX_DEPTH: usize = 64;
+pub use crate::limits::{MAX_ALIASES, MAX_ALIAS_NODES, MAX_DEPTH, MAX_LIST_ENTRIES, MAX_NODES};
 
 /// One node of the YAML tree with where it starts.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -103,9 +97,210 @@ fn position(span: &Span) -> Position {
     }
 }
 
+/// A collection being read: its items so far, where it starts, its anchor, and how
+/// many items past [`MAX_LIST_ENTRIES`] it held (counted, not kept).
 enum Frame {
-    Sequence(Vec<Node>, Position, usize),
-    Mapping(Vec<(Node, Node)>, Option<Node>, Position, usize),
+    Sequence(Vec<Node>, Position, usize, usize),
+    Mapping(Vec<(Node, Node)>, Option<Node>, Position, usize, usize),
+}
+
+impl Frame {
+    fn position(&self) -> Position {
+        match self {
+            Frame::Sequence(_, p, ..) | Frame::Mapping(_, _, p, ..) => *p,
+        }
+    }
+}
+
+/// The field path of the collection on top of `stack` (the one being read), in the
+/// validator's form: `cash_flows.amounts`, `memo.risks[3]`.
+fn stack_path(stack: &[Frame]) -> String {
+    let mut path = String::new();
+    for frame in &stack[..stack.len().saturating_sub(1)] {
+        match frame {
+            Frame::Mapping(_, key, ..) => {
+                let name = key.as_ref().and_then(Node::scalar).unwrap_or("?");
+                if !path.is_empty() {
+                    path.push('.');
+                }
+                path.push_str(name);
+            }
+            Frame::Sequence(items, _, _, skipped) => {
+                path.push_str(&format!("[{}]", items.len() + skipped));
+            }
+        }
+    }
+    path
+}
+
+/// A list or mapping of more than [`MAX_LIST_ENTRIES`] items, worded as the validator words
+/// a list of too many flows when it is one.
+fn too_many_items(path: &str, count: usize, at: Position, mapping: bool) -> Diagnostic {
+    use crate::diag::grouped;
+    let flows = !mapping && (path.ends_with("amounts") || path.ends_with("dated"));
+    let shown = if path.is_empty() {
+        "the file".to_string()
+    } else {
+        format!("`{path}`")
+    };
+    let (code, what, hint) = if flows {
+        (
+            "too-many-flows",
+            "flows",
+            "aggregate the flows to a coarser period",
+        )
+    } else {
+        (
+            "too-many-items",
+            if mapping { "entries" } else { "items" },
+            "no list or mapping of a deal file needs that many; check that this is the file meant",
+        )
+    };
+    let d = Diagnostic::error(
+        code,
+        format!(
+            "{shown} holds {} {what}; at most {} are accepted",
+            grouped(count as u64),
+            grouped(MAX_LIST_ENTRIES as u64)
+        ),
+    )
+    .at(at.line, at.column)
+    .with_hint(hint);
+    if path.is_empty() {
+        d
+    } else {
+        d.at_field(path)
+    }
+}
+
+/// A tag as the file writes it: `!!binary` for the YAML core schema's tags, `!name`
+/// for local ones, the full name otherwise.
+fn tag_words(tag: &Tag) -> String {
+    match tag.handle.as_str() {
+        "tag:yaml.org,2002:" => format!("!!{}", tag.suffix),
+        "!" | "" => format!("!{}", tag.suffix),
+        "!!" => format!("!!{}", tag.suffix),
+        handle => format!("{handle}{}", tag.suffix),
+    }
+}
+
+/// Refuses a tag (`!!binary`, `!custom`): candor reads every value from its text, so a
+/// tag would be ignored silently, and `!!binary aGVsbG8=` would become the text
+/// `aGVsbG8=`.
+fn tag_diagnostic(tag: &Tag, at: Position, text: &str) -> Diagnostic {
+    // The value starts after its tag: point at the tag itself, when it is on the line.
+    let written = tag_words(tag);
+    let at = text
+        .lines()
+        .nth(at.line.saturating_sub(1))
+        .and_then(|line| {
+            let before: String = line.chars().take(at.column.saturating_sub(1)).collect();
+            before
+                .rfind(&written)
+                .map(|byte| before[..byte].chars().count() + 1)
+        })
+        .map_or(at, |column| Position {
+            line: at.line,
+            column,
+        });
+    Diagnostic::error(
+        "yaml-tag",
+        format!(
+            "the file gives a value the YAML tag `{}`; candor does not apply tags",
+            tag_words(tag)
+        ),
+    )
+    .at(at.line, at.column)
+    .with_hint(
+        "delete the tag and write the value itself (amounts as plain decimals, text as text)",
+    )
+}
+
+/// The short name of a control character, for messages.
+fn control_name(c: char) -> &'static str {
+    match c {
+        '\0' => " (NUL)",
+        '\u{7}' => " (BEL)",
+        '\u{8}' => " (backspace)",
+        '\t' => " (tab)",
+        '\n' => " (line feed)",
+        '\u{b}' => " (vertical tab)",
+        '\u{c}' => " (form feed)",
+        '\r' => " (carriage return)",
+        '\u{1b}' => " (ESC)",
+        '\u{7f}' => " (DEL)",
+        '\u{85}' => " (next line)",
+        '\u{9b}' => " (CSI)",
+        _ => "",
+    }
+}
+
+/// The first control character (Unicode category Cc) of a value once YAML has read
+/// its escapes, other than a line feed or a tab (whose places the validator judges).
+/// Escapes in double quotes (`"\x1b"`, `"\r"`, `"\N"`) get past the check of the
+/// raw bytes in [`first_control`], and would reach the terminal and the memo.
+pub fn value_control(text: &str) -> Option<char> {
+    if !may_hold_control(text, true) {
+        return None;
+    }
+    text.chars()
+        .find(|c| c.is_control() && *c != '\n' && *c != '\t')
+}
+
+/// False when `text` certainly holds no control character other than tab and line
+/// feed (in a whole file, where `value` is false, also carriage return and
+/// next-line), nor U+FFFE or U+FFFF: a check of the UTF-8 bytes, for the common case.
+/// True means "look closer".
+fn may_hold_control(text: &str, value: bool) -> bool {
+    let b = text.as_bytes();
+    b.iter().enumerate().any(|(i, &x)| match x {
+        b'\t' | b'\n' => false,
+        b'\r' => value,
+        0..=0x1f | 0x7f => true,
+        // U+0080 to U+009F are C2 80 to C2 9F; U+0085 (next-line) is printable in a
+        // file (YAML 1.2, section 5.1) but not in a value.
+        0xc2 => b
+            .get(i + 1)
+            .is_some_and(|&y| (0x80..=0x9f).contains(&y) && (value || y != 0x85)),
+        // U+FFFE and U+FFFF are EF BF BE and EF BF BF.
+        0xef => b.get(i + 1) == Some(&0xbf) && matches!(b.get(i + 2), Some(0xbe | 0xbf)),
+        _ => false,
+    })
+}
+
+fn value_control_diagnostic(c: char, at: Position) -> Diagnostic {
+    Diagnostic::error(
+        "control-character",
+        format!(
+            "a value holds the control character U+{:04X}{} once its escapes are read",
+            u32::from(c),
+            control_name(c)
+        ),
+    )
+    .at(at.line, at.column)
+    .with_hint("delete the escape (such as `\\x1b`, `\\r` or `\\e`): a deal's values hold text, numbers and dates, and a line break belongs only in a block of text such as `memo.summary`")
+}
+
+/// Whether the innermost collection open at a syntax error is a flow collection
+/// (`[` or `{`) that the error leaves unclosed: its opening bracket, for the message.
+fn open_flow(
+    text: &str,
+    stack: &[Frame],
+    error_line: usize,
+    info: &str,
+) -> Option<(Position, char)> {
+    let frame = stack.last()?;
+    let at = frame.position();
+    let line = text.lines().nth(at.line.checked_sub(1)?)?;
+    let bracket = line.chars().nth(at.column.checked_sub(1)?)?;
+    if bracket != '[' && bracket != '{' {
+        return None;
+    }
+    // The parser stops where it expected the closing bracket: at the end of the file,
+    // or on a later line that cannot belong to the list (`hurdle_rate: 9%` read as
+    // part of `[unclosed`). An error on the bracket's own line is another mistake.
+    let expected_close = info.contains("expected ','");
+    (error_line > at.line || expected_close).then_some((at, bracket))
 }
 
 /// The UTF-8 byte-order mark as a character.
@@ -240,6 +435,11 @@ fn printable(c: char) -> bool {
 /// Positions count characters from 1; a leading byte-order mark is not counted.
 pub fn first_control(text: &str) -> Option<Diagnostic> {
     let text = text.strip_prefix(BOM).unwrap_or(text);
+    // Most files hold none: a pass over the bytes says so, and only a file that does
+    // is read again character by character for the place.
+    if !may_hold_control(text, false) {
+        return None;
+    }
     let (mut line, mut column) = (1usize, 1usize);
     for c in text.chars() {
         if !printable(c) {
@@ -283,23 +483,72 @@ pub fn parse(text: &str) -> Result<RawDeal, Vec<Diagnostic>> {
     let mut anchors: HashMap<usize, Node> = HashMap::new();
     let mut aliases = 0usize;
     let mut alias_nodes = 0usize;
+    let mut nodes = 0usize;
     let mut root: Option<Node> = None;
     let mut documents = 0usize;
+    // Values that hold control characters once unescaped, and tags: every one reported.
+    let mut problems: Vec<Diagnostic> = Vec::new();
 
     for item in Parser::new_from_str(text) {
         let (event, span) = match item {
             Ok(pair) => pair,
             Err(e) => {
                 let m = e.marker();
-                return Err(vec![Diagnostic::error(
-                    "yaml-syntax",
-                    format!("the file is not valid YAML: {}", e.info()),
-                )
-                .at(m.line(), m.col() + 1)
-                .with_hint(syntax_hint(text, m.line(), e.info()))]);
+                if let Some((at, bracket)) = open_flow(text, &stack, m.line(), e.info()) {
+                    let (what, close) = if bracket == '[' {
+                        ("list", ']')
+                    } else {
+                        ("mapping", '}')
+                    };
+                    problems.push(
+                        Diagnostic::error(
+                            "yaml-syntax",
+                            format!(
+                                "the file is not valid YAML: the {what} that opens with `{bracket}` here is never closed"
+                            ),
+                        )
+                        .at(at.line, at.column)
+                        .with_hint(format!(
+                            "close it with `{close}`; the reader stopped at line {}, column {}: {}",
+                            m.line(),
+                            m.col() + 1,
+                            e.info()
+                        )),
+                    );
+                    return Err(problems);
+                }
+                problems.push(
+                    Diagnostic::error(
+                        "yaml-syntax",
+                        format!("the file is not valid YAML: {}", e.info()),
+                    )
+                    .at(m.line(), m.col() + 1)
+                    .with_hint(syntax_hint(text, m.line(), e.info())),
+                );
+                return Err(problems);
             }
         };
         let pos = position(&span);
+        if matches!(
+            event,
+            Event::Scalar(..) | Event::SequenceStart(..) | Event::MappingStart(..)
+        ) {
+            nodes += 1;
+            if nodes > MAX_NODES {
+                problems.push(
+                    Diagnostic::error(
+                        "too-many-values",
+                        format!(
+                            "the file holds more than {} values (numbers, words, lists and mappings)",
+                            crate::diag::grouped(MAX_NODES as u64)
+                        ),
+                    )
+                    .at(pos.line, pos.column)
+                    .with_hint("a deal of 100,000 dated flows holds about 500,000; check that this is the file meant"),
+                );
+                return Err(problems);
+            }
+        }
         let finished: Option<(Node, usize)> = match event {
             Event::DocumentStart(_) => {
                 documents += 1;
@@ -313,17 +562,37 @@ pub fn parse(text: &str) -> Result<RawDeal, Vec<Diagnostic>> {
                 }
                 None
             }
-            Event::Scalar(value, style, anchor, _) => Some((
-                Node {
-                    value: Value::Scalar {
-                        text: value.into_owned(),
-                        quoted: style != ScalarStyle::Plain,
+            Event::Scalar(value, style, anchor, tag) => {
+                if problems.len() < crate::limits::MAX_DIAGNOSTICS {
+                    if let Some(tag) = tag {
+                        problems.push(tag_diagnostic(&tag, pos, text));
+                    }
+                    if let Some(c) = value_control(&value) {
+                        problems.push(value_control_diagnostic(c, pos));
+                    }
+                }
+                // The scanner's buffer may be far larger than the text: a tree of a
+                // million values keeps a copy of just the text (shrinking the buffer
+                // in place would leave a million small holes in the heap).
+                let text = String::from(value.as_ref());
+                Some((
+                    Node {
+                        value: Value::Scalar {
+                            text,
+                            quoted: style != ScalarStyle::Plain,
+                        },
+                        position: pos,
                     },
-                    position: pos,
-                },
-                anchor,
-            )),
-            Event::SequenceStart(anchor, _) | Event::MappingStart(anchor, _) => {
+                    anchor,
+                ))
+            }
+            Event::SequenceStart(anchor, ref tag) | Event::MappingStart(anchor, ref tag) => {
+                if let Some(tag) = tag
+                    .as_ref()
+                    .filter(|_| problems.len() < crate::limits::MAX_DIAGNOSTICS)
+                {
+                    problems.push(tag_diagnostic(tag, pos, text));
+                }
                 if stack.len() >= MAX_DEPTH {
                     return Err(vec![Diagnostic::error(
                         "too-deep",
@@ -332,30 +601,56 @@ pub fn parse(text: &str) -> Result<RawDeal, Vec<Diagnostic>> {
                     .at(pos.line, pos.column)]);
                 }
                 stack.push(if matches!(event, Event::SequenceStart(..)) {
-                    Frame::Sequence(Vec::new(), pos, anchor)
+                    Frame::Sequence(Vec::new(), pos, anchor, 0)
                 } else {
-                    Frame::Mapping(Vec::new(), None, pos, anchor)
+                    Frame::Mapping(Vec::new(), None, pos, anchor, 0)
                 });
                 None
             }
+            Event::SequenceEnd | Event::MappingEnd
+                if matches!(
+                    stack.last(),
+                    Some(Frame::Sequence(.., 1..) | Frame::Mapping(.., 1..))
+                ) =>
+            {
+                let path = stack_path(&stack);
+                let (count, at, mapping) = match stack.last() {
+                    Some(Frame::Sequence(items, p, _, skipped)) => {
+                        (items.len() + skipped, *p, false)
+                    }
+                    Some(Frame::Mapping(entries, _, p, _, skipped)) => {
+                        (entries.len() + skipped, *p, true)
+                    }
+                    None => (0, pos, false),
+                };
+                problems.push(too_many_items(&path, count, at, mapping));
+                return Err(problems);
+            }
             Event::SequenceEnd => match stack.pop() {
-                Some(Frame::Sequence(items, p, anchor)) => Some((
-                    Node {
-                        value: Value::Sequence(items),
-                        position: p,
-                    },
-                    anchor,
-                )),
+                Some(Frame::Sequence(mut items, p, anchor, _)) => {
+                    // Without the slack of growing, as the tree is kept whole.
+                    items.shrink_to_fit();
+                    Some((
+                        Node {
+                            value: Value::Sequence(items),
+                            position: p,
+                        },
+                        anchor,
+                    ))
+                }
                 _ => None,
             },
             Event::MappingEnd => match stack.pop() {
-                Some(Frame::Mapping(entries, _, p, anchor)) => Some((
-                    Node {
-                        value: Value::Mapping(entries),
-                        position: p,
-                    },
-                    anchor,
-                )),
+                Some(Frame::Mapping(mut entries, _, p, anchor, _)) => {
+                    entries.shrink_to_fit();
+                    Some((
+                        Node {
+                            value: Value::Mapping(entries),
+                            position: p,
+                        },
+                        anchor,
+                    ))
+                }
                 _ => None,
             },
             Event::Alias(id) => {
@@ -394,7 +689,22 @@ pub fn parse(text: &str) -> Result<RawDeal, Vec<Diagnostic>> {
                 anchors.insert(anchor, node.clone());
             }
             match stack.last_mut() {
-                Some(Frame::Sequence(items, ..)) => items.push(node),
+                Some(Frame::Sequence(items, _, _, skipped)) => {
+                    if items.len() < MAX_LIST_ENTRIES {
+                        items.push(node);
+                    } else {
+                        *skipped += 1;
+                    }
+                }
+                Some(Frame::Mapping(entries, key, _, _, skipped))
+                    if entries.len() >= MAX_LIST_ENTRIES =>
+                {
+                    if key.take().is_none() {
+                        *key = Some(node);
+                    } else {
+                        *skipped += 1;
+                    }
+                }
                 Some(Frame::Mapping(entries, key, ..)) => match key.take() {
                     Some(k) => entries.push((k, node)),
                     None => *key = Some(node),
@@ -402,6 +712,9 @@ pub fn parse(text: &str) -> Result<RawDeal, Vec<Diagnostic>> {
                 None => root = Some(node),
             }
         }
+    }
+    if !problems.is_empty() {
+        return Err(problems);
     }
     Ok(RawDeal { root })
 }
@@ -550,6 +863,102 @@ mod tests {
         assert!(parse("a: x\u{7f}\n").is_err());
         // Tabs, carriage returns, next-line and everything printable are fine.
         assert!(first_control("a:\t\"x\"\r\nb: \u{85}é\u{2028}\n").is_none());
+    }
+
+    #[test]
+    fn control_characters_written_as_escapes_are_refused() {
+        // YAML 1.2, section 5.7: `\n`, `\r`, `\e`, `\x1b`, `\a` and `\N` are escapes
+        // for line feed, carriage return, escape, escape, bell and next line.
+        for (text, code) in [
+            ("a: \"x\\ry\"\n", 0x0d),
+            ("a: \"x\\e[2K\"\n", 0x1b),
+            ("a: \"x\\x1b]0;t\\a\"\n", 0x1b),
+            ("\"k\\x07\": 1\n", 0x07),
+            ("a: \"x\\Ny\"\n", 0x85),
+            ("a: \"\\x9b1m\"\n", 0x9b),
+        ] {
+            let err = parse(text).unwrap_err();
+            assert_eq!(err[0].code, "control-character", "{text}");
+            assert!(
+                err[0].message.contains(&format!("U+{code:04X}")),
+                "{text}: {}",
+                err[0].message
+            );
+        }
+        // Every such value is reported, each where it starts.
+        let err = parse("a: \"\\e\"\nb: \"\\0\"\n").unwrap_err();
+        assert_eq!(err.len(), 2);
+        assert_eq!(err[1].position, Some(Position { line: 2, column: 4 }));
+        // Line feeds and tabs are left to the validator, which knows the field.
+        assert!(parse("a: \"x\\ny\\tz\"\nb: |\n  two\n  lines\n").is_ok());
+    }
+
+    #[test]
+    fn tags_are_refused() {
+        for (text, shown) in [
+            ("a: !!binary aGVsbG8=\n", "!!binary"),
+            ("a: !!str 12\n", "!!str"),
+            ("a: !local [1, 2]\n", "!local"),
+            ("a: !!map {b: 1}\n", "!!map"),
+        ] {
+            let err = parse(text).unwrap_err();
+            assert_eq!(err[0].code, "yaml-tag", "{text}");
+            assert!(
+                err[0].message.contains(&format!("`{shown}`")),
+                "{}",
+                err[0].message
+            );
+            assert_eq!(err[0].position, Some(Position { line: 1, column: 4 }));
+        }
+        // Pointing at the tag, not at the value after it.
+        let err = parse("a:\n  b: !!binary aGVsbG8=\n").unwrap_err();
+        assert_eq!(err[0].position, Some(Position { line: 2, column: 6 }));
+    }
+
+    #[test]
+    fn an_unclosed_flow_list_is_reported_at_its_bracket() {
+        let err = parse("candor: 1\ndeal: [unclosed\n").unwrap_err();
+        assert_eq!(err[0].code, "yaml-syntax");
+        assert_eq!(err[0].position, Some(Position { line: 2, column: 7 }));
+        assert!(
+            err[0].message.contains("never closed"),
+            "{}",
+            err[0].message
+        );
+        let err = parse("a: 1\nb: { c: [1, 2]\nd: 3\n").unwrap_err();
+        assert_eq!(err[0].position, Some(Position { line: 2, column: 4 }));
+        // Other syntax errors keep the parser's own place.
+        let err = parse("a: \"x\nb: 1\n").unwrap_err();
+        assert!(!err[0].message.contains("never closed"));
+    }
+
+    #[test]
+    fn collections_and_values_are_bounded_while_reading() {
+        let long = format!("a:\n  b: [{}]\n", "1, ".repeat(MAX_LIST_ENTRIES + 5) + "1");
+        let err = parse(&long).unwrap_err();
+        assert_eq!(err[0].code, "too-many-items");
+        assert_eq!(
+            err[0].message,
+            "`a.b` holds 100,006 items; at most 100,000 are accepted"
+        );
+        assert_eq!(err[0].position, Some(Position { line: 2, column: 6 }));
+        let flows = format!(
+            "c:\n  - amounts: [{}]\n",
+            "1, ".repeat(MAX_LIST_ENTRIES) + "1"
+        );
+        let err = parse(&flows).unwrap_err();
+        assert_eq!(err[0].code, "too-many-flows");
+        assert!(err[0]
+            .message
+            .starts_with("`c[0].amounts` holds 100,001 flows"));
+        let keys: String = (0..=MAX_LIST_ENTRIES)
+            .map(|i| format!("k{i}: 1\n"))
+            .collect();
+        assert_eq!(parse(&keys).unwrap_err()[0].code, "too-many-items");
+        let lists: String = (0..13)
+            .map(|i| format!("l{i}: [{}]\n", "1,".repeat(99_999) + "1"))
+            .collect();
+        assert_eq!(parse(&lists).unwrap_err()[0].code, "too-many-values");
     }
 
     #[test]

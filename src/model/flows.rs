@@ -1,5 +1,6 @@
 //! The engine's input: one series of exact cash flows on an integer clock.
 
+use crate::model::DayCount;
 use chrono::NaiveDate;
 use rust_decimal::Decimal;
 use serde::Serialize;
@@ -77,6 +78,30 @@ impl Flows {
                 .collect(),
             units_per_year: u64::from(per_year),
             periods_per_year: Some(per_year),
+        }
+    }
+
+    /// Dated flows on a day count's clock, as deal files and batch lines both give
+    /// them: each flow's offset counts the day count's units from the earliest date
+    /// (the series' start) to its date, the latest date passed for the conventions
+    /// that treat the last day of a series apart (30E/360 ISDA). In the given order.
+    pub fn dated(flows: Vec<(NaiveDate, Decimal, Option<String>)>, day_count: DayCount) -> Flows {
+        let first = flows.iter().map(|f| f.0).min();
+        let last = flows.iter().map(|f| f.0).max();
+        let points = flows
+            .into_iter()
+            .map(|(date, amount, note)| FlowPoint {
+                offset: first.map_or(0, |f| day_count.units_in_series(f, date, last)),
+                amount,
+                date: Some(date),
+                period: None,
+                note,
+            })
+            .collect();
+        Flows {
+            points,
+            units_per_year: day_count.units_per_year(),
+            periods_per_year: None,
         }
     }
 

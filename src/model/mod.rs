@@ -12,7 +12,10 @@ mod validate;
 pub mod values;
 
 pub use daycount::DayCount;
-pub use validate::{validate, ReadCompanion, MAX_DIAGNOSTICS, MAX_FLOWS};
+pub use validate::{
+    validate, ReadCompanion, MAX_BLOCK_CHARS, MAX_DIAGNOSTICS, MAX_FLOWS, MAX_ITEMS,
+    MAX_MEMO_CHARS, MAX_NAME_CHARS, MAX_NOTE_CHARS, MAX_WORD_CHARS,
+};
 
 /// A validated deal.
 #[derive(Debug, Clone, Serialize)]

@@ -9,21 +9,15 @@ use super::{
 };
 use crate::diag::{Diagnostic, Position};
 use crate::input::{csv, Node, RawDeal, Value};
-use chrono::{Days, Months, NaiveDate};
+use chrono::{Datelike, Days, Months, NaiveDate};
 use rust_decimal::Decimal;
 
-/// Most flows accepted in one series.
-pub const MAX_FLOWS: usize = 100_000;
-/// Most diagnostics reported for one file; past this the list ends with a note.
-pub const MAX_DIAGNOSTICS: usize = 100;
-/// Most scenarios accepted besides the base case: a committee reads a handful.
-pub const MAX_SCENARIOS: usize = 100;
-/// Most flows accepted over the base case and every scenario together, so that a
-/// short file of scenarios that each copy a long base series cannot take the memory
-/// and the time of a hundred million flows.
-pub const MAX_TOTAL_FLOWS: usize = 1_000_000;
 /// Largest shift accepted, in periods or days.
 const MAX_SHIFT: i64 = 100_000;
+pub use crate::limits::{
+    MAX_BLOCK_CHARS, MAX_DIAGNOSTICS, MAX_FLOWS, MAX_ITEMS, MAX_MEMO_CHARS, MAX_NAME_CHARS,
+    MAX_NOTE_CHARS, MAX_SCENARIOS, MAX_TOTAL_FLOWS, MAX_WORD_CHARS,
+};
 
 const TOP: &[&str] = &[
     "candor",
@@ -49,6 +43,67 @@ const SCENARIO: &[&str] = &[
 const MEMO: &[&str] = &["recommendation", "summary", "risks", "sections"];
 const SECTION: &[&str] = &["title", "text"];
 const SIGNOFF: &[&str] = &["prepared_by", "reviewed_by", "decision", "date"];
+/// What a text field may hold: one line of at most so many characters, or a block of
+/// text (line breaks and tabs allowed) of at most [`MAX_BLOCK_CHARS`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Text {
+    Line(usize),
+    Block,
+}
+
+/// The first problem with a text for a field of the given kind, as (message, hint);
+/// the work is linear in the text's length.
+fn text_problem(text: &str, what: &str, kind: Text) -> Option<(String, String)> {
+    let max = match kind {
+        Text::Line(n) => n,
+        Text::Block => MAX_BLOCK_CHARS,
+    };
+    let (mut chars, mut word, mut longest) = (0usize, 0usize, 0usize);
+    for c in text.chars() {
+        chars += 1;
+        if c.is_whitespace() {
+            word = 0;
+        } else {
+            word += 1;
+            longest = longest.max(word);
+        }
+        if kind != Text::Block && (c == '\n' || c == '\t') {
+            let kind_of = if c == '\n' { "a line break" } else { "a tab" };
+            return Some((
+                format!("{what} holds {kind_of}; it is one line of text"),
+                "write it on one line; only blocks of text (`memo.recommendation`, `memo.summary`, `memo.risks`, a section's `text`) run over several lines".to_string(),
+            ));
+        }
+    }
+    if chars > max {
+        let hint = match kind {
+            Text::Line(n) if n == MAX_NAME_CHARS => {
+                "a name or title is a short line; put the rest in `memo.summary` or a section"
+            }
+            Text::Line(_) => "shorten it; longer text belongs in `memo.summary` or a section",
+            Text::Block => "split it into several sections (`memo.sections`), or shorten it",
+        };
+        return Some((
+            format!(
+                "{what} is {} characters long; at most {} are accepted",
+                values::grouped(chars as u64),
+                values::grouped(max as u64)
+            ),
+            hint.to_string(),
+        ));
+    }
+    if longest > MAX_WORD_CHARS {
+        return Some((
+            format!(
+                "{what} holds a word of {} characters; words of at most {MAX_WORD_CHARS} are accepted",
+                values::grouped(longest as u64)
+            ),
+            "a word that long cannot be broken across the lines of the memo: add spaces, or shorten it".to_string(),
+        ));
+    }
+    None
+}
+
 const FREQUENCIES: &[&str] = &["year", "half-year", "quarter", "month", "week", "day"];
 const DECISIONS: &[&str] = &["pending", "approved", "declined", "deferred"];
 
@@ -129,6 +184,11 @@ fn join(path: &str, key: &str) -> String {
 }
 
 fn nearest<'k>(word: &str, candidates: &[&'k str]) -> Option<&'k str> {
+    // The similarity measures take time in proportion to the product of the lengths
+    // (or to the square of the longer): a very long key is no typing slip anyway.
+    if word.len() > 64 {
+        return None;
+    }
     let lower = word.to_ascii_lowercase();
     candidates
         .iter()
@@ -148,10 +208,32 @@ fn choices(candidates: &[&str]) -> String {
 
 struct Ctx<'r, 'a> {
     diags: Vec<Diagnostic>,
+    /// Problems found past the first [`MAX_DIAGNOSTICS`] + 1, counted but not kept, so
+    /// that a file of a million mistakes does not hold a million messages.
+    dropped: usize,
+    /// Where a problem that is not kept is written (its hint may still be set).
+    spare: Diagnostic,
     read: &'r mut ReadCompanion<'a>,
 }
 
 impl Ctx<'_, '_> {
+    /// Records a problem: kept while there are few, counted beyond.
+    fn push(&mut self, d: Diagnostic) -> &mut Diagnostic {
+        if self.diags.len() > MAX_DIAGNOSTICS {
+            self.dropped += 1;
+            self.spare = d;
+            return &mut self.spare;
+        }
+        self.diags.push(d);
+        let last = self.diags.len() - 1;
+        &mut self.diags[last]
+    }
+
+    /// How many problems have been found.
+    fn count(&self) -> usize {
+        self.diags.len() + self.dropped
+    }
+
     fn report(
         &mut self,
         code: &str,
@@ -163,9 +245,7 @@ impl Ctx<'_, '_> {
         if !path.is_empty() {
             d = d.at_field(path);
         }
-        self.diags.push(d);
-        let last = self.diags.len() - 1;
-        &mut self.diags[last]
+        self.push(d)
     }
 
     fn hint(
@@ -211,11 +291,7 @@ impl Ctx<'_, '_> {
             let Some(name) = k.scalar() else {
                 self.report(
                     "wrong-type",
-                    format!(
-                        "a key in `{}` is {}, not a name",
-                        display_path(path),
-                        k.kind()
-                    ),
+                    format!("a key {} is {}, not a name", display_path(path), k.kind()),
                     path,
                     k.position,
                 );
@@ -279,14 +355,21 @@ impl Ctx<'_, '_> {
         node
     }
 
-    fn text(&mut self, node: &Node, path: &str) -> Option<String> {
-        match node.scalar() {
-            Some(t) => Some(t.to_string()),
-            None => {
-                self.wrong_type(node, path, "text");
-                None
-            }
+    fn text(&mut self, node: &Node, path: &str, kind: Text) -> Option<String> {
+        let Some(t) = node.scalar() else {
+            self.wrong_type(node, path, "text");
+            return None;
+        };
+        if let Some((message, hint)) = text_problem(t, &format!("`{path}`"), kind) {
+            let code = if message.contains("characters") {
+                "text-too-long"
+            } else {
+                "control-character"
+            };
+            self.hint(code, message, path, node.position, hint);
+            return None;
         }
+        Some(t.to_string())
     }
 
     fn scalar<'n>(&mut self, node: &'n Node, path: &str, expected: &str) -> Option<&'n str> {
@@ -306,31 +389,16 @@ impl Ctx<'_, '_> {
 
     fn rate(&mut self, node: &Node, path: &str) -> Option<Decimal> {
         let text = self.scalar(node, path, "a rate such as 8% or 0.08")?;
-        let rate = values::parse_rate(text)
-            .map_err(|e| self.value_error("bad-number", e, path, node.position))
-            .ok()?;
-        values::check_rate_form(text, rate)
-            .and_then(|()| values::check_rate(rate))
-            .map_err(|e| self.value_error("rate-range", e, path, node.position))
-            .ok()?;
-        Some(rate)
+        values::read_rate(text)
+            .map_err(|(code, e)| self.value_error(code, e, path, node.position))
+            .ok()
     }
 
     fn decimal(&mut self, node: &Node, path: &str) -> Option<Decimal> {
         let text = self.scalar(node, path, "a number")?;
-        match values::parse_decimal(text) {
-            Ok(v) => Some(v),
-            Err(e) => {
-                let code =
-                    if e.message.contains("out of range") || e.message.contains("decimal places") {
-                        "number-range"
-                    } else {
-                        "bad-number"
-                    };
-                self.value_error(code, e, path, node.position);
-                None
-            }
-        }
+        values::read_amount(text)
+            .map_err(|(code, e)| self.value_error(code, e, path, node.position))
+            .ok()
     }
 
     fn integer(&mut self, node: &Node, path: &str) -> Option<i64> {
@@ -388,11 +456,54 @@ impl Ctx<'_, '_> {
             self.wrong_type(node, path, "a list of text items");
             return Vec::new();
         };
+        if !self.few_items(items.len(), path, node.position) {
+            return Vec::new();
+        }
         items
             .iter()
             .enumerate()
-            .filter_map(|(i, n)| self.text(n, &format!("{path}[{i}]")))
+            .filter_map(|(i, n)| self.text(n, &format!("{path}[{i}]"), Text::Block))
             .collect()
+    }
+
+    /// Reports a list of more than [`MAX_ITEMS`] items; true when the count is fine.
+    fn few_items(&mut self, count: usize, path: &str, at: Position) -> bool {
+        if count <= MAX_ITEMS {
+            return true;
+        }
+        self.beyond(
+            "too-many-items",
+            (&format!("`{path}` holds "), " items"),
+            (count, MAX_ITEMS),
+            path,
+            at,
+            "a memo is read by a committee: keep the items that matter",
+        );
+        false
+    }
+
+    /// Reports a count beyond its limit: `{before}{count}{after}; at most {max} are
+    /// accepted`, the numbers grouped by thousands.
+    fn beyond(
+        &mut self,
+        code: &str,
+        (before, after): (&str, &str),
+        (count, max): (usize, usize),
+        path: &str,
+        at: Position,
+        hint: &str,
+    ) {
+        self.hint(
+            code,
+            format!(
+                "{before}{}{after}; at most {} are accepted",
+                values::grouped(count as u64),
+                values::grouped(max as u64)
+            ),
+            path,
+            at,
+            hint,
+        );
     }
 
     fn sequence<'n>(&mut self, node: &'n Node, path: &str, expected: &str) -> Option<&'n [Node]> {
@@ -594,7 +705,7 @@ impl Ctx<'_, '_> {
         let amount = amount.and_then(|n| self.decimal(n, &join(path, "amount")));
         let note = f
             .get("note")
-            .and_then(|n| self.text(n, &join(path, "note")));
+            .and_then(|n| self.text(n, &join(path, "note"), Text::Line(MAX_NOTE_CHARS)));
         Some(RawFlow {
             at: date?,
             amount: amount?,
@@ -606,7 +717,7 @@ impl Ctx<'_, '_> {
     fn csv_flows(&mut self, f: &Fields<'_>, path: &str) -> Option<Series> {
         let csv_node = f.get("csv")?;
         let csv_path = join(path, "csv");
-        let name = self.text(csv_node, &csv_path)?;
+        let name = self.text(csv_node, &csv_path, Text::Line(MAX_NOTE_CHARS))?;
         let every_node = f.get("every");
         let day_count_node = f.get("day_count");
         let start = f
@@ -653,7 +764,7 @@ impl Ctx<'_, '_> {
             }
         };
         let first_column = if clock.is_err() { "period" } else { "date" };
-        let before = self.diags.len();
+        let before = self.count();
         let rows = self.csv_rows(&name, &text, first_column)?;
         if rows.len() > MAX_FLOWS {
             self.hint(
@@ -669,7 +780,7 @@ impl Ctx<'_, '_> {
             );
             return None;
         }
-        let mut ok = self.diags.len() == before;
+        let mut ok = self.count() == before;
         let mut amounts = Vec::with_capacity(rows.len());
         let mut periodic = Vec::new();
         let mut dated = Vec::new();
@@ -679,7 +790,7 @@ impl Ctx<'_, '_> {
                     .in_file(name.clone())
                     .at(at.line, at.column);
                 d.hint = e.hint;
-                ctx.diags.push(d);
+                ctx.push(d);
             };
             let value = match values::parse_decimal(&amount.text) {
                 Ok(v) => Some(v),
@@ -760,15 +871,14 @@ impl Ctx<'_, '_> {
         let rows = match csv::read(text) {
             Ok(r) => r,
             Err(e) => {
-                self.diags
-                    .push(in_csv("csv-format", e.message, e.position, None));
+                self.push(in_csv("csv-format", e.message, e.position, None));
                 return None;
             }
         };
         let start = Position { line: 1, column: 1 };
         let expected = format!("{first_column},amount[,note]");
         let Some((header, body)) = rows.split_first() else {
-            self.diags.push(in_csv(
+            self.push(in_csv(
                 "csv-format",
                 format!("`{name}` is empty"),
                 start,
@@ -789,7 +899,7 @@ impl Ctx<'_, '_> {
                     || format!("the header row names the columns: {expected}"),
                     |k| format!("did you mean `{k}`? the columns are {expected}"),
                 );
-                self.diags.push(in_csv(
+                self.push(in_csv(
                     "csv-format",
                     format!(
                         "unexpected column `{}` in the header row",
@@ -807,7 +917,7 @@ impl Ctx<'_, '_> {
             } else {
                 "amount"
             };
-            self.diags.push(in_csv(
+            self.push(in_csv(
                 "csv-format",
                 format!("`{name}` has no `{missing}` column"),
                 start,
@@ -824,7 +934,7 @@ impl Ctx<'_, '_> {
             if row.len() != header.len() {
                 let at = row.first().map_or(start, |c| c.position);
                 let cells = if row.len() == 1 { "cell" } else { "cells" };
-                self.diags.push(in_csv(
+                self.push(in_csv(
                     "csv-format",
                     format!(
                         "this row has {} {cells} but the header names {} columns",
@@ -842,6 +952,13 @@ impl Ctx<'_, '_> {
             let note = ni
                 .map(|i| row[i].text.trim().to_string())
                 .filter(|n| !n.is_empty());
+            let problem = note
+                .as_deref()
+                .and_then(|n| text_problem(n, "the note", Text::Line(MAX_NOTE_CHARS)));
+            if let (Some((message, hint)), Some(i)) = (problem, ni) {
+                self.push(in_csv("csv-format", message, row[i].position, Some(hint)));
+                continue;
+            }
             out.push((row[fi].clone(), row[ai].clone(), note));
         }
         Some(out)
@@ -857,7 +974,7 @@ impl Ctx<'_, '_> {
         let f = self.fields(node, &path, SCENARIO)?;
         let description = f
             .get("description")
-            .and_then(|n| self.text(n, &join(&path, "description")));
+            .and_then(|n| self.text(n, &join(&path, "description"), Text::Line(MAX_NOTE_CHARS)));
         let inflows = f
             .get("inflows_factor")
             .and_then(|n| self.factor(n, &join(&path, "inflows_factor")));
@@ -943,10 +1060,16 @@ impl Ctx<'_, '_> {
                         } else {
                             fl.at.checked_sub_days(Days::new(shift.unsigned_abs()))
                         };
+                        let moved = moved
+                            .filter(|d| (values::MIN_YEAR..=values::MAX_YEAR).contains(&d.year()));
                         let Some(moved) = moved else {
                             self.report(
                                 "shift-range",
-                                format!("`{path}.shift_inflows` moves a flow off the calendar"),
+                                format!(
+                                    "`{path}.shift_inflows` moves a flow outside the years {} to {} that candor accepts",
+                                    values::MIN_YEAR,
+                                    values::MAX_YEAR
+                                ),
                                 &join(&path, "shift_inflows"),
                                 shift_at,
                             );
@@ -1002,13 +1125,19 @@ impl Ctx<'_, '_> {
                     let period = u32::try_from(f.at).ok()?;
                     let date = match start {
                         Some(s) => {
-                            let d = period_date(*s, *every, period);
+                            let d = period_date(*s, *every, period).filter(|d| {
+                                (values::MIN_YEAR..=values::MAX_YEAR).contains(&d.year())
+                            });
                             if d.is_none() {
-                                self.report(
+                                self.hint(
                                     "bad-date",
-                                    format!("period {period} falls beyond the calendar"),
+                                    format!(
+                                        "period {period} falls after the year {} that candor accepts",
+                                        values::MAX_YEAR
+                                    ),
                                     &join(path, "start"),
                                     at,
+                                    "check `start` and `every`: dates run from 1900 to 2399",
                                 );
                                 return None;
                             }
@@ -1034,23 +1163,16 @@ impl Ctx<'_, '_> {
                 let mut sorted = flows.clone();
                 sorted.sort_by_key(|f| f.at);
                 let merged = net(sorted);
-                let first = merged.first()?.at;
-                let last = merged.last()?.at;
-                let points = merged
-                    .into_iter()
-                    .map(|f| FlowPoint {
-                        offset: day_count.units_in_series(first, f.at, Some(last)),
-                        amount: f.amount,
-                        date: Some(f.at),
-                        period: None,
-                        note: f.note,
-                    })
-                    .collect();
-                Some(Flows {
-                    points,
-                    units_per_year: day_count.units_per_year(),
-                    periods_per_year: None,
-                })
+                if merged.is_empty() {
+                    return None;
+                }
+                Some(Flows::dated(
+                    merged
+                        .into_iter()
+                        .map(|f| (f.at, f.amount, f.note))
+                        .collect(),
+                    *day_count,
+                ))
             }
         }
     }
@@ -1118,9 +1240,12 @@ fn display_path(path: &str) -> String {
 pub fn validate(raw: &RawDeal, read: &mut ReadCompanion<'_>) -> Result<Deal, Vec<Diagnostic>> {
     let mut ctx = Ctx {
         diags: Vec::new(),
+        dropped: 0,
+        spare: Diagnostic::error("", ""),
         read,
     };
     let deal = build(&mut ctx, raw);
+    let dropped = ctx.dropped;
     let mut diags = ctx.diags;
     match deal {
         Some(d) if diags.is_empty() => Ok(d),
@@ -1133,7 +1258,7 @@ pub fn validate(raw: &RawDeal, read: &mut ReadCompanion<'_>) -> Result<Deal, Vec
                 ));
             }
             if diags.len() > MAX_DIAGNOSTICS {
-                let more = diags.len() - MAX_DIAGNOSTICS;
+                let more = diags.len() - MAX_DIAGNOSTICS + dropped;
                 diags.truncate(MAX_DIAGNOSTICS);
                 diags.push(Diagnostic::error(
                     "too-many-problems",
@@ -1191,7 +1316,7 @@ fn build(ctx: &mut Ctx<'_, '_>, raw: &RawDeal) -> Option<Deal> {
             let name = ctx.required(&f, "deal", "name", "Ridgeline quarry extension");
             let currency = ctx.required(&f, "deal", "currency", "EUR");
             let as_of = ctx.required(&f, "deal", "as_of", "2027-01-01");
-            let name = name.and_then(|n| ctx.text(n, "deal.name"));
+            let name = name.and_then(|n| ctx.text(n, "deal.name", Text::Line(MAX_NAME_CHARS)));
             let name = match name {
                 Some(n) if n.trim().is_empty() => {
                     let at = f.get("name").map_or(f.position, |n| n.position);
@@ -1263,6 +1388,17 @@ fn build(ctx: &mut Ctx<'_, '_>, raw: &RawDeal) -> Option<Deal> {
                         continue;
                     };
                     let path = format!("scenarios.{name}");
+                    if let Some((message, hint)) =
+                        text_problem(name, "a scenario name", Text::Line(MAX_NAME_CHARS))
+                    {
+                        let code = if message.contains("characters") {
+                            "text-too-long"
+                        } else {
+                            "control-character"
+                        };
+                        ctx.hint(code, message, "scenarios", k.position, hint);
+                        continue;
+                    }
                     if name == "base" || name.trim().is_empty() {
                         ctx.hint(
                             "reserved-name",
@@ -1365,14 +1501,17 @@ fn memo(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Memo> {
     let f = ctx.fields(node, "memo", MEMO)?;
     let recommendation = f
         .get("recommendation")
-        .and_then(|n| ctx.text(n, "memo.recommendation"));
-    let summary = f.get("summary").and_then(|n| ctx.text(n, "memo.summary"));
+        .and_then(|n| ctx.text(n, "memo.recommendation", Text::Block));
+    let summary = f
+        .get("summary")
+        .and_then(|n| ctx.text(n, "memo.summary", Text::Block));
     let risks = f
         .get("risks")
         .map_or_else(Vec::new, |n| ctx.text_list(n, "memo.risks"));
     let mut sections = Vec::new();
     if let Some(n) = f.get("sections") {
         match &n.value {
+            Value::Sequence(items) if !ctx.few_items(items.len(), "memo.sections", n.position) => {}
             Value::Sequence(items) => {
                 for (i, item) in items.iter().enumerate() {
                     let path = format!("memo.sections[{i}]");
@@ -1381,8 +1520,10 @@ fn memo(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Memo> {
                     };
                     let title = ctx.required(&sf, &path, "title", "Market");
                     let text = ctx.required(&sf, &path, "text", "...");
-                    let title = title.and_then(|n| ctx.text(n, &join(&path, "title")));
-                    let text = text.and_then(|n| ctx.text(n, &join(&path, "text")));
+                    let title = title.and_then(|n| {
+                        ctx.text(n, &join(&path, "title"), Text::Line(MAX_NAME_CHARS))
+                    });
+                    let text = text.and_then(|n| ctx.text(n, &join(&path, "text"), Text::Block));
                     if let (Some(title), Some(text)) = (title, text) {
                         sections.push(MemoSection { title, text });
                     }
@@ -1390,6 +1531,24 @@ fn memo(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Memo> {
             }
             _ => ctx.wrong_type(n, "memo.sections", "a list of { title, text } sections"),
         }
+    }
+    let total: usize = [&recommendation, &summary]
+        .into_iter()
+        .flatten()
+        .chain(&risks)
+        .chain(sections.iter().flat_map(|s| [&s.title, &s.text]))
+        .map(|t| t.chars().count())
+        .sum();
+    if total > MAX_MEMO_CHARS {
+        ctx.beyond(
+            "text-too-long",
+            ("the memo's text is ", " characters long in all"),
+            (total, MAX_MEMO_CHARS),
+            "memo",
+            node.position,
+            "a committee memo is read in one sitting: shorten the narrative, or attach the detail as a document of its own",
+        );
+        return None;
     }
     Some(Memo {
         recommendation,
@@ -1403,10 +1562,10 @@ fn signoff(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Signoff> {
     let f = ctx.fields(node, "signoff", SIGNOFF)?;
     let prepared_by = f
         .get("prepared_by")
-        .and_then(|n| ctx.text(n, "signoff.prepared_by"));
+        .and_then(|n| ctx.text(n, "signoff.prepared_by", Text::Line(MAX_NAME_CHARS)));
     let reviewed_by = f
         .get("reviewed_by")
-        .and_then(|n| ctx.text(n, "signoff.reviewed_by"));
+        .and_then(|n| ctx.text(n, "signoff.reviewed_by", Text::Line(MAX_NAME_CHARS)));
     let date = f.get("date").map(|n| ctx.date(n, "signoff.date"));
     let decision = match f.get("decision") {
         Some(n) => match ctx.choice(n, "signoff.decision", DECISIONS)? {

@@ -5,18 +5,7 @@
 use chrono::NaiveDate;
 use rust_decimal::Decimal;
 
-/// Largest amount accepted, in currency units (10^15): beyond any real deal, and far
-/// inside `Decimal`'s range so that netting and scenario factors cannot overflow.
-pub const MAX_AMOUNT: i64 = 1_000_000_000_000_000;
-/// Most decimal places accepted in an amount or a factor.
-pub const MAX_SCALE: u32 = 6;
-/// Largest rate accepted, as a fraction (10000 = 1,000,000%).
-pub const MAX_RATE: i64 = 10_000;
-/// Earliest year of a date accepted: earlier years are typing slips (`0207` for `2027`).
-pub const MIN_YEAR: i32 = 1900;
-/// Latest year of a date accepted: a series of daily dates as long as the flow limit
-/// allows (100,000 days, 274 years) fits when it starts today.
-pub const MAX_YEAR: i32 = 2399;
+pub use crate::limits::{MAX_AMOUNT, MAX_RATE, MAX_SCALE, MAX_YEAR, MIN_YEAR};
 
 /// Why a scalar could not be read, in words for the user.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -103,6 +92,31 @@ pub fn parse_decimal(text: &str) -> Result<Decimal, ValueError> {
     Ok(value.normalize())
 }
 
+/// Reads an amount or a factor as deal files and batch lines both write it
+/// ([`parse_decimal`]); a refusal comes with its code: `number-range` for a number
+/// beyond the limits (too large, too many decimal places), `bad-number` otherwise.
+pub fn read_amount(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
+    parse_decimal(text).map_err(|e| {
+        let code = if e.message.contains("out of range") || e.message.contains("decimal places") {
+            "number-range"
+        } else {
+            "bad-number"
+        };
+        (code, e)
+    })
+}
+
+/// Reads an annual rate as deal files and batch lines both write it: [`parse_rate`],
+/// then [`check_rate_form`] and [`check_rate`]; a refusal comes with its code,
+/// `bad-number` for text that is not a rate, `rate-range` for a rate out of bounds.
+pub fn read_rate(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
+    let rate = parse_rate(text).map_err(|e| ("bad-number", e))?;
+    check_rate_form(text, rate)
+        .and_then(|()| check_rate(rate))
+        .map_err(|e| ("rate-range", e))?;
+    Ok(rate)
+}
+
 fn out_of_range(t: &str) -> ValueError {
     ValueError::new(
         format!("`{t}` is out of range"),
@@ -177,18 +191,7 @@ fn percent(rate: Decimal) -> String {
     (rate * Decimal::ONE_HUNDRED).normalize().to_string()
 }
 
-/// A count with thousands separators, for messages: `200,000`.
-pub fn grouped(n: u64) -> String {
-    let digits = n.to_string();
-    let mut out = String::with_capacity(digits.len() + digits.len() / 3);
-    for (i, ch) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i).is_multiple_of(3) {
-            out.push(',');
-        }
-        out.push(ch);
-    }
-    out
-}
+pub use crate::diag::grouped;
 
 /// Reads a calendar date written `YYYY-MM-DD`.
 pub fn parse_date(text: &str) -> Result<NaiveDate, ValueError> {

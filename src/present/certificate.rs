@@ -14,6 +14,16 @@ pub fn sentence(certificate: &Certificate) -> String {
         } => format!(
             "Not certified: {count} root(s) found, but {undecided} interval(s) could not be decided in binary floating point; the sign-change bound is {descartes}."
         ),
+        Certificate::ExactOverBudget {
+            count,
+            undecided,
+            descartes,
+        } => format!(
+            "Not certified: {count} root(s) found in binary floating point, with {undecided} interval(s) undecided or roots too close to tell apart; the exact check (integer polynomial, square-free split, Descartes isolation) needed more than its work budget. The sign-change bound is {descartes}."
+        ),
+        Certificate::Exact { count, descartes } => format!(
+            "Count {count} proven exactly: the NPV as an integer polynomial, its square-free split by integer gcds giving each multiplicity, and every root isolated by Descartes' rule of signs in exact integers. Sign-change bound of the flows: {descartes}."
+        ),
         Certificate::NoSignChange => {
             "The flows never change sign, so no rate of return exists (Descartes' rule of signs).".to_string()
         }
@@ -70,5 +80,16 @@ mod tests {
         };
         assert!(sentence(&open).starts_with("Not certified: 1 root(s) found, but 2 interval(s)"));
         assert!(sentence(&Certificate::NoSignChange).contains("never change sign"));
+        let exact = Certificate::Exact {
+            count: 2,
+            descartes: 2,
+        };
+        assert!(sentence(&exact).starts_with("Count 2 proven exactly"));
+        let over = Certificate::ExactOverBudget {
+            count: 0,
+            undecided: 1,
+            descartes: 100,
+        };
+        assert!(sentence(&over).contains("more than its work budget"));
     }
 }

@@ -4,6 +4,7 @@
 use super::{
     caution_text_list, decimals_to_separate, percent, ratio, scenario_npv_in, words, Style,
 };
+use crate::diag::terminal_safe;
 use crate::engine::{Analysis, ScenarioAnalysis};
 use std::fmt::Write as _;
 
@@ -12,7 +13,7 @@ const T: Style = Style::Terminal;
 /// The terminal report: one block per scenario.
 pub fn report(a: &Analysis) -> String {
     let mut o = String::new();
-    let _ = writeln!(o, "{} ({})", a.deal, a.currency);
+    let _ = writeln!(o, "{} ({})", terminal_safe(&a.deal), a.currency);
     for s in &a.scenarios {
         scenario_block(&mut o, s, &a.currency);
     }
@@ -21,7 +22,7 @@ pub fn report(a: &Analysis) -> String {
 
 fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     let _ = writeln!(o);
-    let title = format!("scenario: {}", s.name);
+    let title = format!("scenario: {}", terminal_safe(&s.name));
     let _ = writeln!(o, "{title}\n{}", "-".repeat(title.chars().count()));
     let _ = writeln!(
         o,

@@ -6,6 +6,7 @@
 
 use crate::support::{candor, candor_in, root, text};
 use std::path::Path;
+use std::process::Command;
 
 fn fixtures() -> Vec<String> {
     let dir = root().join("tests/fixtures/malformed");
@@ -324,5 +325,133 @@ fn a_csv_mistake_shows_the_csv_line_in_every_command() {
         assert!(err.contains(" 3 | 1,six hundred,"), "{args:?}: {err}");
         // Line 3 of the deal file is `name: Fixture deal`; it must not be shown.
         assert!(!err.contains("Fixture deal"), "{args:?}: {err}");
+    }
+}
+
+/// The codes of a file's diagnostics, as `check --json` lists them, and their fields.
+fn codes_and_fields(dir: &Path, file: &str) -> Vec<(String, String)> {
+    let out = Command::new(env!("CARGO_BIN_EXE_candor"))
+        .args(["check", "--json", file])
+        .current_dir(dir)
+        .output()
+        .expect("the candor binary runs");
+    assert_eq!(out.status.code(), Some(1), "{file} is refused");
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("JSON on stdout");
+    v[0]["diagnostics"]
+        .as_array()
+        .expect("a list")
+        .iter()
+        .map(|d| {
+            (
+                d["code"].as_str().unwrap_or_default().to_string(),
+                d["field"].as_str().unwrap_or_default().to_string(),
+            )
+        })
+        .collect()
+}
+
+#[test]
+fn texts_too_long_for_the_memo_are_refused_naming_the_field() {
+    // A PDF string holds at most 32,767 characters (ISO 32000-1, annex C, table C.1):
+    // a name beyond that, or a word that no line can break, must be refused here
+    // rather than fail the typesetter.
+    let dir = tempfile::tempdir().expect("temp dir");
+    let long_name = format!(
+        "candor: 1\ndeal: {{ name: {}end, currency: EUR, as_of: 2027-01-01 }}\nhurdle_rate: 9%\ncash_flows: {{ every: year, amounts: [-1000, 600, 600] }}\n",
+        "Quarry ".repeat(5_000)
+    );
+    std::fs::write(dir.path().join("name.yaml"), long_name).expect("write");
+    assert_eq!(
+        codes_and_fields(dir.path(), "name.yaml"),
+        [("text-too-long".to_string(), "deal.name".to_string())]
+    );
+    let (_, _, stderr) = check_in(dir.path(), "name.yaml");
+    assert!(
+        stderr.contains("`deal.name` is 35,003 characters long; at most 200 are accepted"),
+        "{stderr}"
+    );
+    // (codes and fields, what `check` prints) for a deal whose memo is `memo`.
+    let with_memo = |memo: String| {
+        let deal = format!(
+            "{HEADER}cash_flows: {{ every: year, amounts: [-1000, 600, 600] }}\nmemo:\n{memo}"
+        );
+        std::fs::write(dir.path().join("word.yaml"), deal).expect("write");
+        let (_, _, stderr) = check_in(dir.path(), "word.yaml");
+        (codes_and_fields(dir.path(), "word.yaml"), stderr)
+    };
+    let (codes, stderr) = with_memo(format!(
+        "  summary: Before {} after.\n",
+        "w".repeat(200_000)
+    ));
+    assert_eq!(
+        codes,
+        [("text-too-long".to_string(), "memo.summary".to_string())]
+    );
+    assert!(
+        stderr.contains("`memo.summary` is 200,014 characters long"),
+        "the longer limit is named first: {stderr}"
+    );
+    let (codes, stderr) = with_memo(format!(
+        "  risks:\n    - Fine.\n    - Before {} after.\n",
+        "w".repeat(10_000)
+    ));
+    assert_eq!(
+        codes,
+        [("text-too-long".to_string(), "memo.risks[1]".to_string())]
+    );
+    assert!(
+        stderr.contains("holds a word of 10,000 characters"),
+        "{stderr}"
+    );
+    assert!(stderr.len() < 2_000, "the message does not echo the word");
+}
+
+#[test]
+fn long_lists_of_text_are_refused_at_once() {
+    // 200,000 risks (a 2.4 MB file) took 24 s and 3.3 GB before lists were bounded.
+    let dir = tempfile::tempdir().expect("temp dir");
+    let mut deal = format!(
+        "{HEADER}cash_flows: {{ every: year, amounts: [-1000, 600, 600] }}\nmemo:\n  risks:\n"
+    );
+    for i in 0..200_000 {
+        deal.push_str(&format!("    - risk {i}\n"));
+    }
+    std::fs::write(dir.path().join("risks.yaml"), deal).expect("write");
+    let started = std::time::Instant::now();
+    assert_eq!(
+        codes_and_fields(dir.path(), "risks.yaml"),
+        [("too-many-items".to_string(), "memo.risks".to_string())]
+    );
+    // A guard against a return of the quadratic work, far above the time it takes.
+    assert!(started.elapsed().as_secs() < 10, "{:?}", started.elapsed());
+}
+
+#[test]
+fn control_characters_from_escapes_never_reach_the_terminal() {
+    for fixture in [
+        "control-character--escapes-in-quoted-name.yaml",
+        "control-character--terminal-title-in-scenario-key.yaml",
+        "control-character--line-break-in-name.yaml",
+    ] {
+        let rel = format!("tests/fixtures/malformed/{fixture}");
+        for command in ["check", "rates", "diff"] {
+            let out = if command == "diff" {
+                candor(&[command, &rel, &rel])
+            } else {
+                candor(&[command, &rel])
+            };
+            assert_eq!(out.status.code(), Some(1), "{command} {fixture}");
+            let all = [&out.stdout[..], &out.stderr[..]].concat();
+            assert!(
+                !all.iter()
+                    .any(|b| b.is_ascii_control() && !b"\n".contains(b)),
+                "{command} {fixture} printed a control character: {}",
+                text(&all)
+            );
+            assert!(
+                !text(&all).lines().any(|l| l.starts_with("error: forged")),
+                "{command} {fixture} let the file forge a line"
+            );
+        }
     }
 }

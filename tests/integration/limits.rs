@@ -453,3 +453,208 @@ fn an_npv_too_large_to_print_is_never_shown_as_zero() {
     );
     assert_eq!(s.decision, candor::engine::Decision::Accept);
 }
+
+/// The deal file's size limit (`MAX_FILE_BYTES`, 10 MiB) less a little: every file of
+/// the shapes below is just inside it.
+const NEAR_LIMIT: usize = 10 * 1024 * 1024 - 4096;
+
+const TEN_MB_HEADER: &str = "candor: 1\ndeal: { name: Ten, currency: EUR, as_of: 2027-01-01 }\nhurdle_rate: 9%\ncash_flows: { every: year, amounts: [-1000, 600, 600] }\n";
+
+/// `head`, then `item` repeated while the file stays under [`NEAR_LIMIT`], then `tail`.
+fn filled(head: &str, item: &dyn Fn(usize) -> String, tail: &str) -> String {
+    let mut text = head.to_string();
+    let mut i = 0;
+    loop {
+        let next = item(i);
+        if text.len() + next.len() + tail.len() > NEAR_LIMIT {
+            break;
+        }
+        text.push_str(&next);
+        i += 1;
+    }
+    text.push_str(tail);
+    text
+}
+
+/// What one run of the binary took: exit code, wall time, processor time (user and
+/// system, from `/proc/<pid>/stat`, so that a machine busy with other work does not
+/// count) and the peak resident memory in bytes (`VmHWM` of `/proc/<pid>/status`),
+/// both sampled while it ran (Linux; elsewhere they stay zero).
+fn measured(
+    dir: &std::path::Path,
+    args: &[&str],
+) -> (Option<i32>, std::time::Duration, std::time::Duration, u64) {
+    let out = std::fs::File::create(dir.join("out.txt")).expect("create");
+    let err = std::fs::File::create(dir.join("err.txt")).expect("create");
+    let started = std::time::Instant::now();
+    let mut child = std::process::Command::new(env!("CARGO_BIN_EXE_candor"))
+        .args(args)
+        .current_dir(dir)
+        .stdout(out)
+        .stderr(err)
+        .spawn()
+        .expect("the candor binary runs");
+    let status_file = format!("/proc/{}/status", child.id());
+    let stat_file = format!("/proc/{}/stat", child.id());
+    let mut peak = 0u64;
+    let mut ticks = 0u64;
+    let status = loop {
+        if let Ok(stat) = std::fs::read_to_string(&stat_file) {
+            // Fields 14 and 15 (utime, stime), counted after the command's name.
+            let fields: Vec<&str> = stat
+                .rsplit_once(')')
+                .map_or(Vec::new(), |(_, rest)| rest.split_whitespace().collect());
+            let field = |k: usize| fields.get(k).and_then(|v| v.parse::<u64>().ok());
+            if let (Some(user), Some(system)) = (field(11), field(12)) {
+                ticks = ticks.max(user + system);
+            }
+        }
+        if let Ok(status) = std::fs::read_to_string(&status_file) {
+            let hwm = status
+                .lines()
+                .find_map(|l| l.strip_prefix("VmHWM:"))
+                .and_then(|v| v.trim().trim_end_matches("kB").trim().parse::<u64>().ok());
+            peak = peak.max(hwm.unwrap_or(0) * 1024);
+        }
+        if let Some(status) = child.try_wait().expect("wait") {
+            break status;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(2));
+    };
+    // Clock ticks are a hundredth of a second on Linux (USER_HZ).
+    let cpu = std::time::Duration::from_millis(ticks * 10);
+    (status.code(), started.elapsed(), cpu, peak)
+}
+
+#[test]
+fn a_ten_megabyte_file_of_any_shape_is_refused_or_read_in_bounded_time_and_memory() {
+    // Before text fields and lists were bounded, a 9 MB deal name took 37 s and 5.6 GB,
+    // and 200,000 risks 24 s and 3.3 GB. Every shape here must finish well inside the
+    // guards (measured: see DEVELOPERS.md, "Input limits"); the guards are generous so
+    // that a loaded machine does not fail the test, and still far below the old cost.
+    let dir = tempfile::tempdir().expect("temp dir");
+    let header_without_name =
+        "candor: 1\nhurdle_rate: 9%\ncash_flows: { every: year, amounts: [-1000, 600, 600] }\n";
+    let shapes: Vec<(&str, String, Option<i32>)> = vec![
+        (
+            "a nine-megabyte deal name",
+            filled(
+                &format!("{header_without_name}deal: {{ currency: EUR, as_of: 2027-01-01, name: "),
+                &|_| "nnnnnnnnn ".to_string(),
+                "end }\n",
+            ),
+            Some(1),
+        ),
+        (
+            "a name that is one word",
+            filled(
+                &format!("{header_without_name}deal: {{ currency: EUR, as_of: 2027-01-01, name: "),
+                &|_| "n".repeat(1000),
+                " }\n",
+            ),
+            Some(1),
+        ),
+        (
+            "a million risks",
+            filled(&format!("{TEN_MB_HEADER}memo:\n  risks:\n"), &|i| format!("    - r{i}\n"), ""),
+            Some(1),
+        ),
+        (
+            "a thousand long risks",
+            filled(
+                &format!("{TEN_MB_HEADER}memo:\n  risks:\n"),
+                &|_| format!("    - {}\n", "risk words ".repeat(900)),
+                "",
+            ),
+            Some(1),
+        ),
+        (
+            "a million unknown keys",
+            filled(TEN_MB_HEADER, &|i| format!("k{i}: 1\n"), ""),
+            Some(1),
+        ),
+        (
+            "one key of nine megabytes",
+            filled(TEN_MB_HEADER, &|_| "k".repeat(1000), ": 1\n"),
+            Some(1),
+        ),
+        (
+            "three million amounts in many lists",
+            filled(
+                &format!("{TEN_MB_HEADER}scenarios:\n"),
+                &|i| format!("  s{i}:\n    cash_flows:\n      every: year\n      amounts: [{}]\n", "1,".repeat(30_000) + "1"),
+                "",
+            ),
+            Some(1),
+        ),
+        (
+            "one amount of nine megabytes",
+            filled(
+                "candor: 1\ndeal: { name: Ten, currency: EUR, as_of: 2027-01-01 }\nhurdle_rate: 9%\ncash_flows: { every: year, amounts: [-1000, 600, ",
+                &|_| "9".repeat(1000),
+                "] }\n",
+            ),
+            Some(1),
+        ),
+        (
+            "a quoted summary of escapes",
+            filled(&format!("{TEN_MB_HEADER}memo:\n  summary: \""), &|_| "\\x41\\u00e9 ".to_string(), "\"\n"),
+            Some(1),
+        ),
+        (
+            "100,000 dated flows with notes",
+            filled(
+                "candor: 1\ndeal: { name: Ten, currency: EUR, as_of: 2027-01-01 }\nhurdle_rate: 9%\ncash_flows:\n  day_count: act/365f\n  dated:\n    - { date: 2027-01-01, amount: -100000000 }\n",
+                &|i| {
+                    if i >= 99_999 {
+                        return "#\n".repeat(500);
+                    }
+                    let date = chrono::NaiveDate::from_ymd_opt(2027, 1, 2).expect("a date")
+                        + chrono::Days::new(i as u64);
+                    format!("    - {{ date: {date}, amount: 1234.56, note: {} }}\n", "note ".repeat(8))
+                },
+                "",
+            ),
+            Some(0),
+        ),
+    ];
+    let mut measures = Vec::new();
+    for (what, text, expected) in &shapes {
+        assert!(
+            text.len() <= 10 * 1024 * 1024,
+            "{what}: {} bytes",
+            text.len()
+        );
+        std::fs::write(dir.path().join("deal.yaml"), text).expect("write");
+        let (code, time, cpu, peak) = measured(dir.path(), &["check", "deal.yaml"]);
+        let stderr = std::fs::read_to_string(dir.path().join("err.txt")).unwrap_or_default();
+        assert_eq!(
+            code,
+            *expected,
+            "{what}: {}",
+            &stderr[..stderr.len().min(2000)]
+        );
+        assert!(
+            stderr.len() < 100_000,
+            "{what}: {} bytes of messages",
+            stderr.len()
+        );
+        measures.push((what, time, cpu, peak));
+    }
+    let report: Vec<String> = measures
+        .iter()
+        .map(|(what, time, cpu, peak)| {
+            format!(
+                "{what}: {time:.2?} wall, {cpu:.2?} processor, {} MB",
+                peak / 1_000_000
+            )
+        })
+        .collect();
+    eprintln!("{}", report.join("\n"));
+    for (what, _, cpu, peak) in measures {
+        assert!(cpu.as_secs() < 10, "{what} took {cpu:?} of processor time");
+        if cfg!(target_os = "linux") {
+            assert!(peak < 200_000_000, "{what} took {peak} bytes");
+        }
+    }
+}

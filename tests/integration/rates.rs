@@ -222,3 +222,223 @@ fn terminal_report_of_every_example_deal() {
         insta::assert_snapshot!(format!("terminal__{stem}"), stdout);
     }
 }
+
+/// Runs `candor rates --batch` on the given lines; the output lines as text.
+fn batch_text(lines: &[&str]) -> Vec<String> {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("series.jsonl");
+    std::fs::write(&path, lines.join("\n") + "\n").unwrap();
+    let out = candor()
+        .args(["rates", "--batch"])
+        .arg(&path)
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8(out.stdout)
+        .unwrap()
+        .lines()
+        .map(str::to_string)
+        .collect()
+}
+
+/// The first diagnostic `candor check --json` gives for a deal file: (code, message).
+fn deal_diagnostic(yaml: &str) -> (String, String) {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("deal.yaml");
+    std::fs::write(&path, yaml).unwrap();
+    let out = candor()
+        .args(["check", "--json"])
+        .arg(&path)
+        .output()
+        .unwrap();
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let d = &v[0]["diagnostics"][0];
+    (
+        d["code"].as_str().unwrap_or_default().to_string(),
+        d["message"].as_str().unwrap_or_default().to_string(),
+    )
+}
+
+#[test]
+fn batch_lines_and_deal_files_refuse_the_same_values_in_the_same_words() {
+    // (JSON in a batch line, the same value in a deal file): amounts, rates and dates.
+    let amount = |json: &str, yaml: &str| {
+        (
+            format!(r#"{{"id": "a", "amounts": [-100, {json}]}}"#),
+            periodic("Same", "9%", &format!("-100, {yaml}")),
+            "amounts[1]: ",
+        )
+    };
+    let hurdle = |json: &str, yaml: &str| {
+        (
+            format!(r#"{{"id": "h", "amounts": [-100, 110], "hurdle_rate": {json}}}"#),
+            periodic("Same", yaml, "-100, 110"),
+            "hurdle_rate: ",
+        )
+    };
+    let date = |d: &str| {
+        (
+            format!(r#"{{"id": "d", "dated": [{{"date": "{d}", "amount": -100}}, {{"date": "2028-01-01", "amount": 110}}]}}"#),
+            format!("candor: 1\ndeal: {{ name: Same, currency: EUR, as_of: 2027-01-01 }}\nhurdle_rate: 9%\ncash_flows:\n  day_count: act/365f\n  dated:\n    - {{ date: {d}, amount: -100 }}\n    - {{ date: 2028-01-01, amount: 110 }}\n"),
+            "dated[0].date: ",
+        )
+    };
+    let cases = [
+        // A bare 9 is 900% (a fraction without a percent sign) and refused in deal files.
+        hurdle("9", "9"),
+        hurdle(r#""1000001%""#, "1000001%"),
+        hurdle(r#""99999999999%""#, "99999999999%"),
+        hurdle(r#""-100%""#, "-100%"),
+        // Exponents are refused in deal files, whatever the size of the number.
+        amount("1e20", "1e20"),
+        amount("1e-28", "1e-28"),
+        amount("1.0000001", "1.0000001"),
+        amount("1000000000000000.5", "1000000000000000.5"),
+        amount("true", "true"),
+        amount(r#""12,5""#, "\"12,5\""),
+        // Deal files accept the years 1900 to 2399 (src/model/values.rs).
+        date("0001-01-01"),
+        date("9999-12-31"),
+        date("2400-01-01"),
+    ];
+    for (line, yaml, prefix) in &cases {
+        let out: Value = serde_json::from_str(&batch_text(&[line])[0]).unwrap();
+        let (code, message) = deal_diagnostic(yaml);
+        assert_eq!(out["error"]["code"], code.as_str(), "{line}: {out}");
+        assert_eq!(
+            out["error"]["message"],
+            format!("{prefix}{message}"),
+            "{line}"
+        );
+    }
+}
+
+#[test]
+fn batch_ids_come_back_exactly_as_written() {
+    let lines = [
+        r#"{"id": 1e400, "amounts": [-100, 110]}"#,
+        r#"{"id": 18446744073709551616, "amounts": [-100, 110]}"#,
+        r#"{"id": 1E2, "amounts": [0, 0]}"#,
+        r#"{"id": -0.10, "amounts": [-100, 110], "every": "fortnight"}"#,
+        r#"{"id": {"deal": "x", "n": [1,	2]}, "amounts": [-100, 110]}"#,
+    ];
+    let out = batch_text(&lines);
+    assert!(
+        out[0].starts_with(r#"{"id":1e400,"count":1,"#),
+        "{}",
+        out[0]
+    );
+    assert!(
+        out[1].starts_with(r#"{"id":18446744073709551616,"#),
+        "{}",
+        out[1]
+    );
+    assert!(out[2].starts_with(r#"{"id":1E2,"error":"#), "{}", out[2]);
+    assert!(out[3].starts_with(r#"{"id":-0.10,"error":"#), "{}", out[3]);
+    // A tab inside the id is JSON white space: dropped, so that no control character
+    // reaches the output.
+    assert!(
+        out[4].starts_with(r#"{"id":{"deal":"x","n":[1,2]},"#),
+        "{}",
+        out[4]
+    );
+}
+
+#[test]
+fn batch_messages_name_what_is_wrong() {
+    let out = batch_text(&[
+        "[1,2,3]",
+        r#"{"id": "t", "amounts": [-100, true]}"#,
+        r#"{"id": "l", "amounts": [-100, [110]]}"#,
+    ]);
+    let v: Vec<Value> = out
+        .iter()
+        .map(|l| serde_json::from_str(l).unwrap())
+        .collect();
+    assert_eq!(v[0]["id"], "line 1");
+    assert!(
+        v[0]["error"]["message"]
+            .as_str()
+            .unwrap()
+            .starts_with("the line must be a JSON object"),
+        "{}",
+        v[0]
+    );
+    assert_eq!(v[1]["error"]["code"], "bad-number");
+    assert_eq!(
+        v[1]["error"]["message"],
+        "amounts[1]: `true` is not a number"
+    );
+    assert_eq!(v[2]["error"]["code"], "wrong-type");
+    assert_eq!(
+        v[2]["error"]["message"],
+        "amounts[1]: it should be a number, but it is a list"
+    );
+}
+
+#[test]
+fn batch_and_deal_files_give_the_same_npv_beyond_an_exact_decimal() {
+    // At -99.9999% a year, 1 received after ten years is worth (10^-6)^-10 = 10^60 today
+    // (the discount factor's definition, common practice): far past Decimal's 7.9e28.
+    let dir = tempfile::tempdir().unwrap();
+    let deal = rates_json(
+        dir.path(),
+        &periodic("Beyond", "-99.9999%", "-1, 0, 0, 0, 0, 0, 0, 0, 0, 0, 1"),
+    );
+    let s = &deal["scenarios"][0];
+    assert!(s["npv_at_hurdle"].is_null());
+    assert_eq!(s["npv_at_hurdle_approx"], "1.00e60");
+    let out = batch_text(&[
+        r#"{"id": "b", "amounts": [-1, 0, 0, 0, 0, 0, 0, 0, 0, 0, 1], "hurdle_rate": "-99.9999%"}"#,
+    ]);
+    let line: Value = serde_json::from_str(&out[0]).unwrap();
+    assert!(line["npv_at_hurdle"].is_null(), "{line}");
+    assert_eq!(line["npv_at_hurdle_approx"], s["npv_at_hurdle_approx"]);
+}
+
+#[test]
+fn an_endless_batch_line_is_answered_and_memory_stays_bounded() {
+    // `/dev/zero` is one line that never ends: before lines were capped at 16 MiB the
+    // run aborted with "memory allocation failed" (exit 134).
+    if !Path::new("/dev/zero").exists() {
+        return;
+    }
+    let mut child = candor()
+        .args(["rates", "--batch", "/dev/zero"])
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::null())
+        .spawn()
+        .unwrap();
+    let stdout = child.stdout.take().unwrap();
+    let (send, receive) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        let mut first = String::new();
+        let _ = std::io::BufRead::read_line(&mut std::io::BufReader::new(stdout), &mut first);
+        let _ = send.send(first);
+    });
+    let first = receive.recv_timeout(std::time::Duration::from_secs(60));
+    // Reading goes on past the line; a while later the memory is still what one line
+    // takes, not what the input has grown to.
+    std::thread::sleep(std::time::Duration::from_millis(500));
+    let status =
+        std::fs::read_to_string(format!("/proc/{}/status", child.id())).unwrap_or_default();
+    let still_running = child.try_wait().unwrap().is_none();
+    let _ = child.kill();
+    let _ = child.wait();
+    let first = first.expect("the first line is answered within a minute");
+    let v: Value = serde_json::from_str(&first).unwrap();
+    assert_eq!(v["id"], "line 1");
+    assert_eq!(v["error"]["code"], "line-too-long");
+    assert!(still_running, "reading goes on after the long line");
+    let peak_kb = status
+        .lines()
+        .find_map(|l| l.strip_prefix("VmHWM:"))
+        .and_then(|v| v.trim().trim_end_matches("kB").trim().parse::<u64>().ok());
+    if let Some(kb) = peak_kb {
+        assert!(kb < 200_000, "{kb} kB");
+    }
+}
