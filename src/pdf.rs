@@ -35,22 +35,37 @@ pub fn creation_time(
 ) -> Result<NaiveDateTime, Diagnostic> {
     match source_date_epoch.map(str::trim) {
         None | Some("") => Ok(as_of.and_hms_opt(0, 0, 0).unwrap_or_default()),
-        Some(text) => text
-            .parse::<i64>()
-            .ok()
-            .and_then(|secs| chrono::DateTime::from_timestamp(secs, 0))
-            .map(|t| t.naive_utc())
-            .ok_or_else(|| {
+        Some(text) => {
+            let fail = |why: &str| {
                 Diagnostic::error(
                     "source-date-epoch",
-                    format!(
-                        "SOURCE_DATE_EPOCH is `{text}`, not a whole number of seconds since 1970"
-                    ),
+                    format!("the environment variable SOURCE_DATE_EPOCH is `{text}`, {why}"),
                 )
                 .with_hint("unset it, or give a value such as 1798675200")
-            }),
+            };
+            // Only ASCII digits: `i64::from_str` would also take a sign.
+            if !text.bytes().all(|b| b.is_ascii_digit()) {
+                return Err(fail("not a whole number of seconds since 1970"));
+            }
+            text.parse::<i64>()
+                .ok()
+                .filter(|secs| *secs <= MAX_SOURCE_DATE_EPOCH)
+                .and_then(|secs| chrono::DateTime::from_timestamp(secs, 0))
+                .map(|t| t.naive_utc())
+                .ok_or_else(|| {
+                    fail(&format!(
+                        "past {MAX_SOURCE_DATE_EPOCH} (9999-12-31 23:59:59 UTC), the last time a \
+                         PDF date can hold"
+                    ))
+                })
+        }
     }
 }
+
+/// The largest `SOURCE_DATE_EPOCH` accepted: 9999-12-31T23:59:59Z, the end of the
+/// four-digit years a PDF date string (ISO 32000-1, 7.9.4) can carry. Negative values
+/// (before 1970) are refused as well: the convention counts seconds since 1970.
+pub const MAX_SOURCE_DATE_EPOCH: i64 = 253_402_300_799;
 
 fn typst_datetime(t: NaiveDateTime) -> Option<Datetime> {
     Datetime::from_ymd_hms(
@@ -153,4 +168,31 @@ fn from_diagnostics(diags: &[SourceDiagnostic]) -> Diagnostic {
         d = d.with_hint(hints.join("; "));
     }
     d
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn as_of() -> NaiveDate {
+        NaiveDate::from_ymd_opt(2027, 1, 15).unwrap()
+    }
+
+    /// Unix time: 0 is 1970-01-01T00:00:00Z and 253402300799 is 9999-12-31T23:59:59Z
+    /// (`date -u -d @253402300799`, common practice).
+    #[test]
+    fn source_date_epoch_is_bounded_and_named() {
+        let last = creation_time(as_of(), Some("253402300799")).unwrap();
+        assert_eq!(last.to_string(), "9999-12-31 23:59:59");
+        assert_eq!(
+            creation_time(as_of(), Some("0")).unwrap().to_string(),
+            "1970-01-01 00:00:00"
+        );
+        for bad in ["253402300800", "-99999999999", "-1", "+5", "1e9", "x"] {
+            let d = creation_time(as_of(), Some(bad)).unwrap_err();
+            assert_eq!(d.code, "source-date-epoch", "{bad}");
+            assert!(d.message.contains("SOURCE_DATE_EPOCH"), "{}", d.message);
+            assert!(d.message.contains(bad), "{}", d.message);
+        }
+    }
 }

@@ -866,3 +866,30 @@ fn ctrl_c_while_filing_removes_the_unfinished_version_and_the_lock() {
     );
     verify_ok(&archive, 2);
 }
+
+/// `SOURCE_DATE_EPOCH` outside what a PDF date holds (before 1970, or after
+/// 9999-12-31T23:59:59Z, Unix time 253402300799, `date -u -d @253402300799`) is an
+/// input error naming the variable, for a memo and a pack alike, and nothing is written.
+#[test]
+fn a_source_date_epoch_out_of_range_is_an_input_error() {
+    let (dir, deal) = deal_folder();
+    let out = dir.path().join("m.pdf");
+    for epoch in ["-99999999999", "253402300800"] {
+        for args in [
+            vec!["memo", s(&deal), "-o", s(&out)],
+            vec!["pack", s(&deal), "-o", s(&out)],
+        ] {
+            let run = Command::new(env!("CARGO_BIN_EXE_candor"))
+                .args(&args)
+                .env("SOURCE_DATE_EPOCH", epoch)
+                .env_remove(PAUSE_HOOK)
+                .output()
+                .unwrap();
+            let err = text(&run.stderr);
+            assert_eq!(run.status.code(), Some(1), "{epoch} {args:?}: {err}");
+            assert!(err.contains("SOURCE_DATE_EPOCH"), "{err}");
+            assert!(err.contains(epoch), "{err}");
+            assert!(!out.exists());
+        }
+    }
+}
