@@ -28,6 +28,20 @@ pub struct LoadedDeal {
     pub companions: Vec<(String, Vec<u8>)>,
 }
 
+impl LoadedDeal {
+    /// Every file the deal was read from: the deal file, then its CSV files.
+    pub fn files(&self) -> Vec<PathBuf> {
+        let folder = self
+            .path
+            .parent()
+            .map(Path::to_path_buf)
+            .unwrap_or_default();
+        let mut out = vec![self.path.clone()];
+        out.extend(self.companions.iter().map(|(n, _)| folder.join(n)));
+        out
+    }
+}
+
 /// Reads a file of at most [`MAX_FILE_BYTES`], checking the size before reading.
 fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
     let meta = std::fs::metadata(path).map_err(|e| (io_words(&e), "file-unreadable"))?;
