@@ -557,3 +557,67 @@ fn changes_since_a_version_print_literally() {
     let plain = memo_of(&analysis, &deal);
     assert!(!plain.markup.contains("Changes since version"));
 }
+
+/// `candor memo` against the given house-style folder: (exit code, stderr).
+fn memo_with_templates(dir: &Path, templates: &Path) -> (Option<i32>, String) {
+    let deal = dir.join("deal.yaml");
+    std::fs::write(
+        &deal,
+        "candor: 1\ndeal: { name: Style test, currency: EUR, as_of: 2027-01-01 }\n\
+         hurdle_rate: 8%\ncash_flows:\n  every: year\n  amounts: [-100, 60, 60]\n",
+    )
+    .unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_candor"))
+        .args(["memo", "deal.yaml", "-o", "m.pdf", "--templates"])
+        .arg(templates)
+        .current_dir(dir)
+        .env("SOURCE_DATE_EPOCH", "1798675200")
+        .output()
+        .unwrap();
+    (
+        out.status.code(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+/// A misspelt template name is an error listing the names a house style can use, and
+/// a template that is a link to `/dev/zero`, a FIFO or a link out of the folder is
+/// refused without being read (the rules of companion CSV files).
+#[cfg(unix)]
+#[test]
+fn house_style_files_are_named_and_read_by_the_rules() {
+    let dir = tempfile::tempdir().unwrap();
+    let style = dir.path().join("style");
+    std::fs::create_dir(&style).unwrap();
+    std::fs::write(style.join("styel.typ.j2"), "#set page(paper: \"a4\")").unwrap();
+    let (code, err) = memo_with_templates(dir.path(), &style);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("`styel.typ.j2` is not the name of a template"),
+        "{err}"
+    );
+    for (name, _) in candor::report::BUILTIN_TEMPLATES {
+        assert!(err.contains(name), "{err}");
+    }
+    std::fs::remove_file(style.join("styel.typ.j2")).unwrap();
+
+    std::os::unix::fs::symlink("/dev/zero", style.join("style.typ.j2")).unwrap();
+    let (code, err) = memo_with_templates(dir.path(), &style);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("style.typ.j2") && err.contains("outside the folder"),
+        "{err}"
+    );
+    std::fs::remove_file(style.join("style.typ.j2")).unwrap();
+
+    if Command::new("mkfifo")
+        .arg(style.join("scenario.typ.j2"))
+        .status()
+        .is_ok_and(|s| s.success())
+    {
+        let (code, err) = memo_with_templates(dir.path(), &style);
+        assert_eq!(code, Some(1), "{err}");
+        assert!(err.contains("not a regular file"), "{err}");
+    }
+    assert!(!dir.path().join("m.pdf").exists());
+}

@@ -38,7 +38,7 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
         }
     };
     let templates = match &args.templates {
-        Some(dir) => memo::read_templates(dir).map_err(Failure::invalid)?,
+        Some(dir) => memo::read_templates(dir)?,
         None => BTreeMap::new(),
     };
     let loaded = load_deal(&args.file)?;

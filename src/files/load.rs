@@ -46,7 +46,10 @@ impl LoadedDeal {
 fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
     let meta = std::fs::metadata(path).map_err(|e| (io_words(&e), "file-unreadable"))?;
     if !meta.is_file() {
-        return Err(("it is not a file".to_string(), "file-unreadable"));
+        return Err((
+            "it is not a regular file (a folder, device or pipe)".to_string(),
+            "file-unreadable",
+        ));
     }
     if meta.len() > MAX_FILE_BYTES {
         return Err((
@@ -74,6 +77,37 @@ fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
         ));
     }
     Ok(bytes)
+}
+
+/// Reads `name`, a file a deal file or a house style names, relative to `folder`: it
+/// must lie in `folder` or below it once symbolic links are resolved (so neither
+/// `../x`, `/etc/passwd` nor a link out of the folder is followed), be a regular file
+/// (not a FIFO or a device such as `/dev/zero`) and hold at most [`MAX_FILE_BYTES`].
+/// Nothing is read from a file refused, so no diagnostic can show its contents.
+pub fn read_companion(folder: &Path, name: &str) -> Result<Vec<u8>, (String, &'static str)> {
+    let folder = if folder.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        folder
+    };
+    let inside = folder
+        .canonicalize()
+        .map_err(|e| (io_words(&e), "file-unreadable"))?;
+    let real = folder
+        .join(name)
+        .canonicalize()
+        .map_err(|e| (io_words(&e), "file-unreadable"))?;
+    if !real.starts_with(&inside) {
+        return Err((
+            format!(
+                "it lies outside the folder `{}`; candor reads only files in that folder or \
+                 below it",
+                folder.display()
+            ),
+            "file-outside",
+        ));
+    }
+    read_limited(&real)
 }
 
 /// A file's bytes as lines to show under a diagnostic: invalid UTF-8 as replacement
@@ -156,7 +190,7 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
     let mut csv_texts: Vec<(String, String)> = Vec::new();
     let mut read = |name: &str| -> Result<String, String> {
         let full = folder.join(name);
-        let bytes = read_limited(&full).map_err(|(why, _)| why)?;
+        let bytes = read_companion(&folder, name).map_err(|(why, _)| why)?;
         let text = match crate::input::decode(&bytes) {
             Ok(t) => t.to_string(),
             Err(e) => {
