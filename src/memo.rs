@@ -117,7 +117,13 @@ pub fn typeset_markup(
         created: inputs.created,
         ident: sha256_hex(inputs.source),
     };
-    pdf::typeset(markup, &files, &options).map_err(|d| blame(d, house_style))
+    if house_style {
+        let names: Vec<String> = inputs.templates.keys().cloned().collect();
+        pdf::typeset_within(markup, &files, &options, pdf::HOUSE_STYLE_DEADLINE, &names)
+            .map_err(|d| blame(d, true))
+    } else {
+        pdf::typeset(markup, &files, &options).map_err(|d| blame(d, false))
+    }
 }
 
 /// A file-name-safe slug of a deal's name: ASCII letters and digits, words joined by

@@ -128,6 +128,59 @@ pub fn typeset(
     typst_pdf::pdf(&document, &pdf_options).map_err(|diags| from_diagnostics(&diags))
 }
 
+/// Typesetting with a house style may take at most this long (a memo of the example
+/// deals takes under a second; a house style running `#for i in range(1000000000) {}`
+/// would run for minutes).
+pub const HOUSE_STYLE_DEADLINE: std::time::Duration = std::time::Duration::from_secs(30);
+
+/// [`typeset`] on a worker thread, given up after `deadline` with a diagnostic naming
+/// `templates` (the house-style files whose markup is typeset). Typst has no way to
+/// stop a compilation from outside, so the worker runs on in the background until it
+/// ends or candor exits; memory is not bounded.
+pub fn typeset_within(
+    markup: &str,
+    files: &[(String, Vec<u8>)],
+    options: &TypesetOptions,
+    deadline: std::time::Duration,
+    templates: &[String],
+) -> Result<Vec<u8>, Diagnostic> {
+    use std::sync::mpsc::{channel, RecvTimeoutError};
+    let (tx, rx) = channel();
+    let (markup, files, options) = (markup.to_string(), files.to_vec(), options.clone());
+    std::thread::Builder::new()
+        .name("typeset".to_string())
+        // Typst recurses deeply on deeply nested markup; the main thread has 8 MiB.
+        .stack_size(64 * 1024 * 1024)
+        .spawn(move || {
+            let _ = tx.send(typeset(&markup, &files, &options));
+        })
+        .map_err(|e| Diagnostic::error("typeset", format!("cannot start the typesetter: {e}")))?;
+    let names = templates
+        .iter()
+        .map(|n| format!("`{n}`"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    match rx.recv_timeout(deadline) {
+        Ok(result) => result,
+        Err(RecvTimeoutError::Timeout) => Err(Diagnostic::error(
+            "typeset",
+            format!(
+                "typesetting the markup of the house style ({names}) took more than {} \
+                 seconds, and was given up",
+                deadline.as_secs()
+            ),
+        )
+        .in_file(templates.first().cloned().unwrap_or_else(|| MAIN_FILE.to_string()))
+        .with_hint(
+            "look in the house style's Typst code for a loop that never ends or does far too much work",
+        )),
+        Err(RecvTimeoutError::Disconnected) => Err(Diagnostic::error(
+            "typeset",
+            "the typesetter stopped without an answer",
+        )),
+    }
+}
+
 fn from_typst_error(err: TypstAsLibError) -> Diagnostic {
     match err {
         TypstAsLibError::TypstSource(diags) => from_diagnostics(&diags),

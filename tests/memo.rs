@@ -621,3 +621,77 @@ fn house_style_files_are_named_and_read_by_the_rules() {
     }
     assert!(!dir.path().join("m.pdf").exists());
 }
+
+/// A house style whose Typst code loops a billion times is given up after the deadline,
+/// with a diagnostic naming the house style's templates; markup that ends is typeset
+/// as by `typeset`. (The loop count is the issue's; one iteration takes well over a
+/// nanosecond, so it cannot end within the two seconds given.)
+#[test]
+fn typesetting_a_house_style_has_a_deadline() {
+    let options = candor::pdf::TypesetOptions {
+        created: NaiveDate::from_ymd_opt(2026, 1, 2)
+            .and_then(|d| d.and_hms_opt(0, 0, 0))
+            .expect("time"),
+        ident: "deadline-test".to_string(),
+    };
+    let names = vec!["style.typ.j2".to_string()];
+    let deadline = std::time::Duration::from_secs(2);
+    let started = std::time::Instant::now();
+    let err = candor::pdf::typeset_within(
+        "#for i in range(1000000000) {}\nEnd.",
+        &[],
+        &options,
+        deadline,
+        &names,
+    )
+    .expect_err("a billion iterations cannot finish in two seconds");
+    assert!(started.elapsed() < std::time::Duration::from_secs(10));
+    assert_eq!(err.code, "typeset");
+    assert!(err.message.contains("`style.typ.j2`"), "{}", err.message);
+    assert!(
+        err.message.contains("more than 2 seconds"),
+        "{}",
+        err.message
+    );
+    let quick = candor::pdf::typeset_within("Hello.", &[], &options, deadline, &names)
+        .expect("a short document is typeset");
+    assert_eq!(
+        quick,
+        candor::pdf::typeset("Hello.", &[], &options).unwrap(),
+        "the same bytes as without a deadline"
+    );
+}
+
+/// A house style's minijinja loops run out of fuel within seconds, and an error in an
+/// included template names that template, its line and the cause, not only the line
+/// of the `include` in `memo.typ.j2`.
+#[test]
+fn house_style_templates_are_bounded_and_their_errors_located() {
+    let dir = tempfile::tempdir().unwrap();
+    let style = dir.path().join("style");
+    std::fs::create_dir(&style).unwrap();
+    std::fs::write(
+        style.join("style.typ.j2"),
+        "{% for i in range(100000) %}{% for j in range(100000) %}{% endfor %}{% endfor %}\n",
+    )
+    .unwrap();
+    let started = std::time::Instant::now();
+    let (code, err) = memo_with_templates(dir.path(), &style);
+    assert!(started.elapsed() < std::time::Duration::from_secs(30));
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("`style.typ.j2`") && err.contains("steps"),
+        "{err}"
+    );
+
+    std::fs::write(
+        style.join("style.typ.j2"),
+        "#set page(paper: \"a4\")\n\n{{ no_such_value }}\n",
+    )
+    .unwrap();
+    let (code, err) = memo_with_templates(dir.path(), &style);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(err.contains("`style.typ.j2` failed at line 3"), "{err}");
+    assert!(err.contains("undefined value"), "{err}");
+    assert!(err.contains("included from `memo.typ.j2`"), "{err}");
+}
