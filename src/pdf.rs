@@ -67,6 +67,50 @@ pub fn creation_time(
 /// (before 1970) are refused as well: the convention counts seconds since 1970.
 pub const MAX_SOURCE_DATE_EPOCH: i64 = 253_402_300_799;
 
+/// The fonts candor typesets with: the ones typst bundles (Libertinus Serif, New
+/// Computer Modern, New Computer Modern Math, DejaVu Sans Mono), embedded in the binary.
+/// Between them they cover Latin, Greek and Cyrillic.
+fn coverages() -> &'static [typst::text::Coverage] {
+    static COVERAGES: std::sync::OnceLock<Vec<typst::text::Coverage>> = std::sync::OnceLock::new();
+    COVERAGES.get_or_init(|| {
+        typst_assets::fonts()
+            .flat_map(typst::text::FontInfo::iter)
+            .map(|info| info.coverage)
+            .collect()
+    })
+}
+
+/// True when the memo can show `c`: some bundled font has a glyph for it (typst falls
+/// back from the style's font to any other that has one), or it is a control character,
+/// which the markup drops or turns into a space.
+pub fn can_show(c: char) -> bool {
+    c.is_control() || coverages().iter().any(|cov| cov.contains(u32::from(c)))
+}
+
+/// The characters of `text` the memo cannot show, with their positions in `text`
+/// (counted in characters, from 1).
+pub fn unshowable(text: &str) -> Vec<(usize, char)> {
+    text.chars()
+        .enumerate()
+        .filter(|(_, c)| !can_show(*c))
+        .map(|(i, c)| (i + 1, c))
+        .collect()
+}
+
+/// A list of unshowable characters in words: "U+1F600 at character 5, ...", the first
+/// five and how many more.
+pub fn describe_unshowable(found: &[(usize, char)]) -> String {
+    let mut words: Vec<String> = found
+        .iter()
+        .take(5)
+        .map(|(i, c)| format!("U+{:04X} at character {i}", u32::from(*c)))
+        .collect();
+    if found.len() > 5 {
+        words.push(format!("and {} more", found.len() - 5));
+    }
+    words.join(", ")
+}
+
 fn typst_datetime(t: NaiveDateTime) -> Option<Datetime> {
     Datetime::from_ymd_hms(
         t.year(),

@@ -417,3 +417,66 @@ fn a_csv_outside_the_deal_folder_or_not_a_file_is_refused_unread() {
         }
     }
 }
+
+/// A deal that passes `check` makes a memo: a name in Latin with accents, Greek or
+/// Cyrillic passes both (the bundled Libertinus Serif covers those scripts, from
+/// memory of its documentation, and the typesetter here is the judge), while emoji,
+/// CJK, Thai, Korean or the noncharacter U+FFFF fail `check` and `memo` alike with exit
+/// 1, naming the field and the character's code point.
+#[test]
+fn check_refuses_what_the_memo_cannot_show() {
+    let dir = tempfile::tempdir().unwrap();
+    let deal = |name: &str| {
+        format!(
+            "candor: 1\ndeal: {{ name: \"{name}\", currency: EUR, as_of: 2027-01-01 }}\n\
+             hurdle_rate: 8%\ncash_flows:\n  every: year\n  amounts: [-100, 60, 60]\n"
+        )
+    };
+    let run = |args: &[&str]| {
+        let out = Command::new(env!("CARGO_BIN_EXE_candor"))
+            .args(args)
+            .current_dir(dir.path())
+            .env("SOURCE_DATE_EPOCH", "1798675200")
+            .output()
+            .unwrap();
+        (out.status.code(), text(&out.stderr))
+    };
+    for (i, name) in [
+        "Gare d’Orsay à Zürich",
+        "Ωμέγα πλατεία",
+        "Кирилловский склад",
+    ]
+    .into_iter()
+    .enumerate()
+    {
+        let file = format!("ok{i}.yaml");
+        std::fs::write(dir.path().join(&file), deal(name)).unwrap();
+        assert_eq!(run(&["check", &file]).0, Some(0), "{name}");
+        let (code, err) = run(&["memo", &file, "-o", "m.pdf"]);
+        assert_eq!(code, Some(0), "{name}: {err}");
+    }
+    for (i, (name, code_point)) in [
+        ("Pier \u{1F600}", "U+1F600"),
+        ("倉庫", "U+5009"),
+        ("โกดัง", "U+0E42"),
+        ("창고", "U+CC3D"),
+        ("Pier \\uFFFF", "U+FFFF"),
+    ]
+    .into_iter()
+    .enumerate()
+    {
+        let file = format!("bad{i}.yaml");
+        std::fs::write(dir.path().join(&file), deal(name)).unwrap();
+        for command in [
+            vec!["check", file.as_str()],
+            vec!["memo", file.as_str(), "-o", "x.pdf"],
+        ] {
+            let (code, err) = run(&command);
+            assert_eq!(code, Some(1), "{command:?} {name}: {err}");
+            assert!(err.contains("unshowable-character"), "{err}");
+            assert!(err.contains("field `deal.name`"), "{err}");
+            assert!(err.contains(code_point), "{err}");
+        }
+    }
+    assert!(!dir.path().join("x.pdf").exists());
+}

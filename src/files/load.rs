@@ -110,6 +110,73 @@ pub fn read_companion(folder: &Path, name: &str) -> Result<Vec<u8>, (String, &'s
     read_limited(&real)
 }
 
+/// One diagnostic for each text in the deal file (every scalar and key but the CSV
+/// file's name, which the memo does not print) holding characters the memo's fonts
+/// cannot show (see [`crate::pdf::can_show`]), naming the field and the characters'
+/// places in it: `check` refuses what `memo` could not typeset.
+fn unshowable_text(node: &crate::input::Node, path: &str, out: &mut Vec<Diagnostic>) {
+    use crate::input::Value;
+    match &node.value {
+        Value::Scalar { text, .. } => report_unshowable(text, node, path, "this value", out),
+        Value::Sequence(items) => {
+            for (i, item) in items.iter().enumerate() {
+                unshowable_text(item, &format!("{path}[{i}]"), out);
+            }
+        }
+        Value::Mapping(entries) => {
+            for (key, value) in entries {
+                let name = key.scalar().unwrap_or_default();
+                let field = if path.is_empty() {
+                    name.to_string()
+                } else {
+                    format!("{path}.{name}")
+                };
+                report_unshowable(name, key, &field, "this key", out);
+                if name != "csv" {
+                    unshowable_text(value, &field, out);
+                }
+            }
+        }
+    }
+}
+
+fn report_unshowable(
+    text: &str,
+    at: &crate::input::Node,
+    field: &str,
+    what: &str,
+    out: &mut Vec<Diagnostic>,
+) {
+    let found = crate::pdf::unshowable(text);
+    if let Some((first, _)) = found.first() {
+        // A plain scalar is written as read, so the caret can point at the character;
+        // a quoted one may hold escapes, so it points at the value's start.
+        let plain = matches!(at.value, crate::input::Value::Scalar { quoted: false, .. });
+        let column = if plain {
+            at.position.column + first - 1
+        } else {
+            at.position.column
+        };
+        out.push(
+            Diagnostic::error(
+                "unshowable-character",
+                format!(
+                    "{what} holds characters the memo's fonts cannot show: {}",
+                    crate::pdf::describe_unshowable(&found)
+                ),
+            )
+            .at_field(field.to_string())
+            .at(at.position.line, column)
+            .with_hint(FONT_HINT),
+        );
+    }
+}
+
+const FONT_HINT: &str =
+    "the memo's fonts (Libertinus Serif, New Computer Modern, DejaVu Sans Mono) \
+     cover Latin, Greek and Cyrillic; emoji, CJK, Thai, Korean and private or unassigned \
+     characters have no glyph";
+
 /// A file's bytes as lines to show under a diagnostic: invalid UTF-8 as replacement
 /// characters, a leading byte-order mark dropped (positions count from after it), and
 /// control characters as their visible pictures (U+2400 on), one character for one,
@@ -208,7 +275,36 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
         }
         Ok(text)
     };
-    match crate::model::validate(&raw, &mut read) {
+    let mut unshowable = Vec::new();
+    if let Some(root) = &raw.root {
+        unshowable_text(root, "", &mut unshowable);
+    }
+    // The memo prints the deal file's name too.
+    let file_name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let found = crate::pdf::unshowable(&file_name);
+    if !found.is_empty() {
+        unshowable.push(
+            Diagnostic::error(
+                "unshowable-character",
+                format!(
+                    "the deal file's name holds characters the memo's fonts cannot show: {}",
+                    crate::pdf::describe_unshowable(&found)
+                ),
+            )
+            .with_hint("rename the file with letters the memo can show (Latin, Greek, Cyrillic)"),
+        );
+    }
+    let validated = crate::model::validate(&raw, &mut read).and_then(|deal| {
+        if unshowable.is_empty() {
+            Ok(deal)
+        } else {
+            Err(Vec::new())
+        }
+    });
+    match validated {
         Ok(deal) => Ok(LoadedDeal {
             deal,
             path: path.to_path_buf(),
@@ -218,6 +314,7 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
         Err(diags) => {
             let diagnostics = diags
                 .into_iter()
+                .chain(unshowable)
                 .map(|d| {
                     let bad_csv = undecodable.iter().find(|(name, _)| {
                         d.code == "csv-missing"
