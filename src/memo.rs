@@ -68,7 +68,8 @@ pub fn build_memo_with_changes(
 /// A failure to render or typeset: the house style's fault when one is in use, else
 /// candor's.
 fn blame(d: Diagnostic, house_style: bool) -> Failure {
-    if house_style {
+    // Text no bundled font can show came from the input (the deal or the house style).
+    if house_style || d.code == "unshowable-character" {
         Failure::invalid(d)
     } else {
         Failure::internal(d)

@@ -250,6 +250,38 @@ fn from_diagnostics(diags: &[SourceDiagnostic]) -> Diagnostic {
     } else {
         errors
     };
+    // PDF/A refuses a glyph no font has, one message per piece of text: said once.
+    const NO_GLYPH: &str = "could not be displayed with";
+    if !shown.is_empty() && shown.iter().all(|d| d.message.contains(NO_GLYPH)) {
+        let texts: Vec<String> = shown
+            .iter()
+            .filter_map(|d| d.message.split('`').nth(1))
+            .map(|t| {
+                t.chars()
+                    .filter(|c| !can_show(*c))
+                    .map(|c| format!("U+{:04X}", u32::from(c)))
+                    .collect::<Vec<_>>()
+                    .join(" ")
+            })
+            .filter(|t| !t.is_empty())
+            .collect();
+        let mut unique = texts.clone();
+        unique.sort();
+        unique.dedup();
+        return Diagnostic::error(
+            "unshowable-character",
+            format!(
+                "the memo holds characters its fonts cannot show: {}",
+                if unique.is_empty() {
+                    format!("{} pieces of text", shown.len())
+                } else {
+                    unique.join(", ")
+                }
+            ),
+        )
+        .in_file(MAIN_FILE)
+        .with_hint("`candor check` names the field that holds them; the fonts cover Latin, Greek and Cyrillic");
+    }
     let message = shown
         .iter()
         .map(|d| d.message.to_string())
@@ -273,6 +305,21 @@ mod tests {
 
     fn as_of() -> NaiveDate {
         NaiveDate::from_ymd_opt(2027, 1, 15).unwrap()
+    }
+
+    /// Text no bundled font can show fails once, as the user's input (the code the
+    /// memo command treats as an input error), not once per glyph.
+    #[test]
+    fn unshowable_text_is_one_input_diagnostic() {
+        let options = TypesetOptions {
+            created: as_of().and_hms_opt(0, 0, 0).unwrap(),
+            ident: "glyphs".to_string(),
+        };
+        let d = typeset("Pier \u{1F600} and 倉庫 and \u{1F680}", &[], &options).unwrap_err();
+        assert_eq!(d.code, "unshowable-character", "{}", d.message);
+        assert!(d.message.contains("U+1F600"), "{}", d.message);
+        assert!(can_show('Ω') && can_show('Ж') && can_show('é'));
+        assert!(!can_show('\u{1F600}') && !can_show('\u{FFFF}'));
     }
 
     /// Unix time: 0 is 1970-01-01T00:00:00Z and 253402300799 is 9999-12-31T23:59:59Z
