@@ -68,7 +68,8 @@ pub fn build_memo_with_changes(
 /// A failure to render or typeset: the house style's fault when one is in use, else
 /// candor's.
 fn blame(d: Diagnostic, house_style: bool) -> Failure {
-    if house_style {
+    // Text no bundled font can show came from the input (the deal or the house style).
+    if house_style || d.code == "unshowable-character" {
         Failure::invalid(d)
     } else {
         Failure::internal(d)
@@ -117,7 +118,13 @@ pub fn typeset_markup(
         created: inputs.created,
         ident: sha256_hex(inputs.source),
     };
-    pdf::typeset(markup, &files, &options).map_err(|d| blame(d, house_style))
+    if house_style {
+        let names: Vec<String> = inputs.templates.keys().cloned().collect();
+        pdf::typeset_within(markup, &files, &options, pdf::HOUSE_STYLE_DEADLINE, &names)
+            .map_err(|d| blame(d, true))
+    } else {
+        pdf::typeset(markup, &files, &options).map_err(|d| blame(d, false))
+    }
 }
 
 /// A file-name-safe slug of a deal's name: ASCII letters and digits, words joined by
@@ -154,43 +161,80 @@ pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
     output::write_atomically_with(path, bytes, &mut output::Disk)
 }
 
-/// Reads every `*.j2` file of a house-style folder, by file name.
-pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Diagnostic> {
+/// Reads the templates of a house-style folder, by file name: every `*.j2` file must be
+/// named as a built-in template ([`report::BUILTIN_TEMPLATES`]) and is read by the
+/// rules of [`crate::files::load::read_companion`] (a regular file in the folder or
+/// below it, at most 10 MiB). Every problem is reported at once.
+pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
     let shown = dir.display().to_string();
-    let entries = std::fs::read_dir(dir).map_err(|e| {
-        Diagnostic::error("templates", format!("cannot read the template folder: {e}"))
-            .in_file(shown.clone())
-    })?;
-    let mut out = BTreeMap::new();
-    for entry in entries {
-        let entry = entry.map_err(|e| {
+    let folder_error = |e: std::io::Error| {
+        Failure::invalid(
             Diagnostic::error("templates", format!("cannot read the template folder: {e}"))
-                .in_file(shown.clone())
-        })?;
-        let name = entry.file_name().to_string_lossy().to_string();
-        if !name.ends_with(".j2") {
+                .in_file(shown.clone()),
+        )
+    };
+    let accepted = report::BUILTIN_TEMPLATES
+        .iter()
+        .map(|(n, _)| format!("`{n}`"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    let mut names = Vec::new();
+    for entry in std::fs::read_dir(dir).map_err(folder_error)? {
+        let name = entry
+            .map_err(folder_error)?
+            .file_name()
+            .to_string_lossy()
+            .to_string();
+        if name.ends_with(".j2") {
+            names.push(name);
+        }
+    }
+    // The folder's listing order is the file system's; the messages' order is not.
+    names.sort();
+    let mut out = BTreeMap::new();
+    let mut problems = Vec::new();
+    for name in names {
+        let file = dir.join(&name).display().to_string();
+        if !report::BUILTIN_TEMPLATES.iter().any(|(n, _)| *n == name) {
+            problems.push(
+                Diagnostic::error(
+                    "templates",
+                    format!("`{name}` is not the name of a template candor uses"),
+                )
+                .in_file(file)
+                .with_hint(format!(
+                    "the templates a house style can replace are {accepted}"
+                )),
+            );
             continue;
         }
-        let text = std::fs::read_to_string(entry.path()).map_err(|e| {
-            Diagnostic::error("templates", format!("cannot read the template: {e}"))
-                .in_file(entry.path().display().to_string())
-        })?;
-        out.insert(name, text);
+        let text = crate::files::load::read_companion(dir, &name)
+            .map_err(|(why, _)| why)
+            .and_then(|bytes| {
+                String::from_utf8(bytes).map_err(|_| "it is not UTF-8 text".to_string())
+            });
+        match text {
+            Ok(text) => {
+                out.insert(name, text);
+            }
+            Err(why) => problems.push(
+                Diagnostic::error("templates", format!("cannot read the template: {why}"))
+                    .in_file(file),
+            ),
+        }
+    }
+    if !problems.is_empty() {
+        return Err(Failure::many(problems, crate::diag::FailureClass::Invalid));
     }
     if out.is_empty() {
-        return Err(Diagnostic::error(
-            "templates",
-            "the template folder holds no templates (files ending in `.j2`)",
-        )
-        .in_file(shown)
-        .with_hint(format!(
-            "the built-in templates are named {}",
-            report::BUILTIN_TEMPLATES
-                .iter()
-                .map(|(n, _)| *n)
-                .collect::<Vec<_>>()
-                .join(", ")
-        )));
+        return Err(Failure::invalid(
+            Diagnostic::error(
+                "templates",
+                "the template folder holds no templates (files ending in `.j2`)",
+            )
+            .in_file(shown)
+            .with_hint(format!("the built-in templates are named {accepted}")),
+        ));
     }
     Ok(out)
 }

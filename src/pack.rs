@@ -208,6 +208,8 @@ pub struct Pack {
     pub deals: usize,
     /// The deal files left out because they are invalid, each with why.
     pub skipped: Vec<(String, Failure)>,
+    /// Every file read for the packed deals (deal files and their CSV files).
+    pub inputs: Vec<PathBuf>,
 }
 
 /// Loads, analyses and charts every deal (in parallel), then typesets them as one
@@ -282,5 +284,6 @@ pub fn build(
         pdf,
         deals: deals.len(),
         skipped,
+        inputs: deals.iter().flat_map(|d| d.loaded.files()).collect(),
     })
 }

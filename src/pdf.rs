@@ -35,21 +35,80 @@ pub fn creation_time(
 ) -> Result<NaiveDateTime, Diagnostic> {
     match source_date_epoch.map(str::trim) {
         None | Some("") => Ok(as_of.and_hms_opt(0, 0, 0).unwrap_or_default()),
-        Some(text) => text
-            .parse::<i64>()
-            .ok()
-            .and_then(|secs| chrono::DateTime::from_timestamp(secs, 0))
-            .map(|t| t.naive_utc())
-            .ok_or_else(|| {
+        Some(text) => {
+            let fail = |why: &str| {
                 Diagnostic::error(
                     "source-date-epoch",
-                    format!(
-                        "SOURCE_DATE_EPOCH is `{text}`, not a whole number of seconds since 1970"
-                    ),
+                    format!("the environment variable SOURCE_DATE_EPOCH is `{text}`, {why}"),
                 )
                 .with_hint("unset it, or give a value such as 1798675200")
-            }),
+            };
+            // Only ASCII digits: `i64::from_str` would also take a sign.
+            if !text.bytes().all(|b| b.is_ascii_digit()) {
+                return Err(fail("not a whole number of seconds since 1970"));
+            }
+            text.parse::<i64>()
+                .ok()
+                .filter(|secs| *secs <= MAX_SOURCE_DATE_EPOCH)
+                .and_then(|secs| chrono::DateTime::from_timestamp(secs, 0))
+                .map(|t| t.naive_utc())
+                .ok_or_else(|| {
+                    fail(&format!(
+                        "past {MAX_SOURCE_DATE_EPOCH} (9999-12-31 23:59:59 UTC), the last time a \
+                         PDF date can hold"
+                    ))
+                })
+        }
     }
+}
+
+/// The largest `SOURCE_DATE_EPOCH` accepted: 9999-12-31T23:59:59Z, the end of the
+/// four-digit years a PDF date string (ISO 32000-1, 7.9.4) can carry. Negative values
+/// (before 1970) are refused as well: the convention counts seconds since 1970.
+pub const MAX_SOURCE_DATE_EPOCH: i64 = 253_402_300_799;
+
+/// The fonts candor typesets with: the ones typst bundles (Libertinus Serif, New
+/// Computer Modern, New Computer Modern Math, DejaVu Sans Mono), embedded in the binary.
+/// Between them they cover Latin, Greek and Cyrillic.
+fn coverages() -> &'static [typst::text::Coverage] {
+    static COVERAGES: std::sync::OnceLock<Vec<typst::text::Coverage>> = std::sync::OnceLock::new();
+    COVERAGES.get_or_init(|| {
+        typst_assets::fonts()
+            .flat_map(typst::text::FontInfo::iter)
+            .map(|info| info.coverage)
+            .collect()
+    })
+}
+
+/// True when the memo can show `c`: some bundled font has a glyph for it (typst falls
+/// back from the style's font to any other that has one), or it is a control character,
+/// which the markup drops or turns into a space.
+pub fn can_show(c: char) -> bool {
+    c.is_control() || coverages().iter().any(|cov| cov.contains(u32::from(c)))
+}
+
+/// The characters of `text` the memo cannot show, with their positions in `text`
+/// (counted in characters, from 1).
+pub fn unshowable(text: &str) -> Vec<(usize, char)> {
+    text.chars()
+        .enumerate()
+        .filter(|(_, c)| !can_show(*c))
+        .map(|(i, c)| (i + 1, c))
+        .collect()
+}
+
+/// A list of unshowable characters in words: "U+1F600 at character 5, ...", the first
+/// five and how many more.
+pub fn describe_unshowable(found: &[(usize, char)]) -> String {
+    let mut words: Vec<String> = found
+        .iter()
+        .take(5)
+        .map(|(i, c)| format!("U+{:04X} at character {i}", u32::from(*c)))
+        .collect();
+    if found.len() > 5 {
+        words.push(format!("and {} more", found.len() - 5));
+    }
+    words.join(", ")
 }
 
 fn typst_datetime(t: NaiveDateTime) -> Option<Datetime> {
@@ -113,6 +172,59 @@ pub fn typeset(
     typst_pdf::pdf(&document, &pdf_options).map_err(|diags| from_diagnostics(&diags))
 }
 
+/// Typesetting with a house style may take at most this long (a memo of the example
+/// deals takes under a second; a house style running `#for i in range(1000000000) {}`
+/// would run for minutes).
+pub const HOUSE_STYLE_DEADLINE: std::time::Duration = std::time::Duration::from_secs(30);
+
+/// [`typeset`] on a worker thread, given up after `deadline` with a diagnostic naming
+/// `templates` (the house-style files whose markup is typeset). Typst has no way to
+/// stop a compilation from outside, so the worker runs on in the background until it
+/// ends or candor exits; memory is not bounded.
+pub fn typeset_within(
+    markup: &str,
+    files: &[(String, Vec<u8>)],
+    options: &TypesetOptions,
+    deadline: std::time::Duration,
+    templates: &[String],
+) -> Result<Vec<u8>, Diagnostic> {
+    use std::sync::mpsc::{channel, RecvTimeoutError};
+    let (tx, rx) = channel();
+    let (markup, files, options) = (markup.to_string(), files.to_vec(), options.clone());
+    std::thread::Builder::new()
+        .name("typeset".to_string())
+        // Typst recurses deeply on deeply nested markup; the main thread has 8 MiB.
+        .stack_size(64 * 1024 * 1024)
+        .spawn(move || {
+            let _ = tx.send(typeset(&markup, &files, &options));
+        })
+        .map_err(|e| Diagnostic::error("typeset", format!("cannot start the typesetter: {e}")))?;
+    let names = templates
+        .iter()
+        .map(|n| format!("`{n}`"))
+        .collect::<Vec<_>>()
+        .join(", ");
+    match rx.recv_timeout(deadline) {
+        Ok(result) => result,
+        Err(RecvTimeoutError::Timeout) => Err(Diagnostic::error(
+            "typeset",
+            format!(
+                "typesetting the markup of the house style ({names}) took more than {} \
+                 seconds, and was given up",
+                deadline.as_secs()
+            ),
+        )
+        .in_file(templates.first().cloned().unwrap_or_else(|| MAIN_FILE.to_string()))
+        .with_hint(
+            "look in the house style's Typst code for a loop that never ends or does far too much work",
+        )),
+        Err(RecvTimeoutError::Disconnected) => Err(Diagnostic::error(
+            "typeset",
+            "the typesetter stopped without an answer",
+        )),
+    }
+}
+
 fn from_typst_error(err: TypstAsLibError) -> Diagnostic {
     match err {
         TypstAsLibError::TypstSource(diags) => from_diagnostics(&diags),
@@ -138,6 +250,38 @@ fn from_diagnostics(diags: &[SourceDiagnostic]) -> Diagnostic {
     } else {
         errors
     };
+    // PDF/A refuses a glyph no font has, one message per piece of text: said once.
+    const NO_GLYPH: &str = "could not be displayed with";
+    if !shown.is_empty() && shown.iter().all(|d| d.message.contains(NO_GLYPH)) {
+        let texts: Vec<String> = shown
+            .iter()
+            .filter_map(|d| d.message.split('`').nth(1))
+            .map(|t| {
+                t.chars()
+                    .filter(|c| !can_show(*c))
+                    .map(|c| format!("U+{:04X}", u32::from(c)))
+                    .collect::<Vec<_>>()
+                    .join(" ")
+            })
+            .filter(|t| !t.is_empty())
+            .collect();
+        let mut unique = texts.clone();
+        unique.sort();
+        unique.dedup();
+        return Diagnostic::error(
+            "unshowable-character",
+            format!(
+                "the memo holds characters its fonts cannot show: {}",
+                if unique.is_empty() {
+                    format!("{} pieces of text", shown.len())
+                } else {
+                    unique.join(", ")
+                }
+            ),
+        )
+        .in_file(MAIN_FILE)
+        .with_hint("`candor check` names the field that holds them; the fonts cover Latin, Greek and Cyrillic");
+    }
     let message = shown
         .iter()
         .map(|d| d.message.to_string())
@@ -153,4 +297,46 @@ fn from_diagnostics(diags: &[SourceDiagnostic]) -> Diagnostic {
         d = d.with_hint(hints.join("; "));
     }
     d
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn as_of() -> NaiveDate {
+        NaiveDate::from_ymd_opt(2027, 1, 15).unwrap()
+    }
+
+    /// Text no bundled font can show fails once, as the user's input (the code the
+    /// memo command treats as an input error), not once per glyph.
+    #[test]
+    fn unshowable_text_is_one_input_diagnostic() {
+        let options = TypesetOptions {
+            created: as_of().and_hms_opt(0, 0, 0).unwrap(),
+            ident: "glyphs".to_string(),
+        };
+        let d = typeset("Pier \u{1F600} and 倉庫 and \u{1F680}", &[], &options).unwrap_err();
+        assert_eq!(d.code, "unshowable-character", "{}", d.message);
+        assert!(d.message.contains("U+1F600"), "{}", d.message);
+        assert!(can_show('Ω') && can_show('Ж') && can_show('é'));
+        assert!(!can_show('\u{1F600}') && !can_show('\u{FFFF}'));
+    }
+
+    /// Unix time: 0 is 1970-01-01T00:00:00Z and 253402300799 is 9999-12-31T23:59:59Z
+    /// (`date -u -d @253402300799`, common practice).
+    #[test]
+    fn source_date_epoch_is_bounded_and_named() {
+        let last = creation_time(as_of(), Some("253402300799")).unwrap();
+        assert_eq!(last.to_string(), "9999-12-31 23:59:59");
+        assert_eq!(
+            creation_time(as_of(), Some("0")).unwrap().to_string(),
+            "1970-01-01 00:00:00"
+        );
+        for bad in ["253402300800", "-99999999999", "-1", "+5", "1e9", "x"] {
+            let d = creation_time(as_of(), Some(bad)).unwrap_err();
+            assert_eq!(d.code, "source-date-epoch", "{bad}");
+            assert!(d.message.contains("SOURCE_DATE_EPOCH"), "{}", d.message);
+            assert!(d.message.contains(bad), "{}", d.message);
+        }
+    }
 }

@@ -88,9 +88,66 @@ fn render_view(view: &View, ctx: &MemoContext) -> Result<String, Diagnostic> {
     let template = env
         .get_template(MAIN_TEMPLATE)
         .map_err(template_diagnostic)?;
-    template
-        .render(Value::from_serialize(view))
-        .map_err(template_diagnostic)
+    render_bounded(&template, Value::from_serialize(view))
+}
+
+/// Steps (minijinja's fuel: about one per instruction) one rendering of the memo may
+/// take. The built-in templates take under 4,000 for the example deals and do not loop
+/// over flows (a deal of 100,000 flows takes under 1,000), so a house style has room
+/// for a thousand times that; a loop that never ends, or nested loops over
+/// `range(100000)`, runs out in about a second.
+pub const TEMPLATE_FUEL: u64 = 10_000_000;
+
+/// The largest markup a rendering may write, in bytes (64 MiB).
+pub const MAX_MARKUP_BYTES: usize = 64 * 1024 * 1024;
+
+/// Markup written up to a size bound, so that a house style cannot fill memory.
+struct Bounded {
+    bytes: Vec<u8>,
+    full: bool,
+}
+
+impl std::io::Write for Bounded {
+    fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+        if self.bytes.len() + buf.len() > MAX_MARKUP_BYTES {
+            self.full = true;
+            return Err(std::io::Error::other("the markup is too long"));
+        }
+        self.bytes.extend_from_slice(buf);
+        Ok(buf.len())
+    }
+
+    fn flush(&mut self) -> std::io::Result<()> {
+        Ok(())
+    }
+}
+
+/// Renders a template within [`TEMPLATE_FUEL`] steps and [`MAX_MARKUP_BYTES`] bytes.
+fn render_bounded(
+    template: &minijinja::Template<'_, '_>,
+    view: Value,
+) -> Result<String, Diagnostic> {
+    let mut out = Bounded {
+        bytes: Vec::new(),
+        full: false,
+    };
+    match template.render_captured_to(view, &mut out) {
+        Ok(_) => String::from_utf8(out.bytes).map_err(|_| {
+            Diagnostic::error("template", "the memo template wrote markup that is not UTF-8")
+                .in_file(template.name().to_string())
+        }),
+        Err(_) if out.full => Err(Diagnostic::error(
+            "template",
+            format!(
+                "the template `{}` wrote more than {} MiB of markup",
+                template.name(),
+                MAX_MARKUP_BYTES / (1024 * 1024)
+            ),
+        )
+        .in_file(template.name().to_string())
+        .with_hint("a house style should print each value a few times at most; look for a loop that never ends")),
+        Err(e) => Err(template_diagnostic(e)),
+    }
 }
 
 /// Renders the memo's content without its document-level settings, for a document
@@ -133,21 +190,48 @@ pub fn render_template(
     env.add_template_owned(name.to_string(), source.to_string())
         .map_err(template_diagnostic)?;
     let template = env.get_template(name).map_err(template_diagnostic)?;
-    template
-        .render(Value::from_serialize(view))
-        .map_err(template_diagnostic)
+    render_bounded(&template, Value::from_serialize(view))
 }
 
 fn template_diagnostic(err: TemplateError) -> Diagnostic {
-    let mut message = format!("the memo template failed: {}", err.kind());
-    if let Some(detail) = err.detail() {
-        message.push_str(": ");
-        message.push_str(detail);
+    // An error inside an included template comes wrapped ("could not render include"):
+    // the innermost error that names a template says where and why.
+    let mut inner = &err;
+    let mut next: Option<&(dyn std::error::Error + 'static)> = std::error::Error::source(&err);
+    while let Some(e) = next {
+        if let Some(t) = e.downcast_ref::<TemplateError>() {
+            if t.name().is_some() {
+                inner = t;
+            }
+        }
+        next = e.source();
+    }
+    let name = inner.name().map(str::to_string);
+    let mut message = match (&name, inner.line()) {
+        (Some(n), Some(l)) => format!("the template `{n}` failed at line {l}: "),
+        (Some(n), None) => format!("the template `{n}` failed: "),
+        _ => "the memo template failed: ".to_string(),
+    };
+    if inner.kind() == ErrorKind::OutOfFuel {
+        message.push_str(&format!(
+            "it took more than {TEMPLATE_FUEL} steps (a loop that never ends, or far too much work)"
+        ));
+    } else {
+        message.push_str(&inner.kind().to_string());
+        if let Some(detail) = inner.detail() {
+            message.push_str(": ");
+            message.push_str(detail);
+        }
+    }
+    if !std::ptr::eq(inner, &err) {
+        if let (Some(outer), Some(line)) = (err.name(), err.line()) {
+            message.push_str(&format!(" (included from `{outer}` line {line})"));
+        }
     }
     let mut diag = Diagnostic::error("template", message);
-    if let Some(name) = err.name() {
-        diag = diag.in_file(name.to_string());
-        if let Some(line) = err.line() {
+    if let Some(name) = name {
+        diag = diag.in_file(name);
+        if let Some(line) = inner.line() {
             diag = diag.at(line, 1);
         }
     }
@@ -158,6 +242,7 @@ fn template_diagnostic(err: TemplateError) -> Diagnostic {
 /// value escaped for Typst markup.
 fn environment(overrides: &BTreeMap<String, String>) -> Result<Environment<'static>, Diagnostic> {
     let mut env = Environment::new();
+    env.set_fuel(Some(TEMPLATE_FUEL));
     env.set_undefined_behavior(UndefinedBehavior::Strict);
     env.set_trim_blocks(true);
     env.set_lstrip_blocks(true);

@@ -38,10 +38,15 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
         }
     };
     let templates = match &args.templates {
-        Some(dir) => memo::read_templates(dir).map_err(Failure::invalid)?,
+        Some(dir) => memo::read_templates(dir)?,
         None => BTreeMap::new(),
     };
     let loaded = load_deal(&args.file)?;
+    // Every file this run reads; none of them may be a destination.
+    let mut inputs = loaded.files();
+    if let Some(dir) = &args.templates {
+        inputs.extend(templates.keys().map(|name| dir.join(name)));
+    }
     // Every destination is checked before the memo is made, which takes a while.
     let out = match (&args.output, &args.archive) {
         (Some(o), _) => Some(o.clone()),
@@ -56,7 +61,7 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
         destinations.push((e, "markup", "--emit typst FILE"));
     }
     for (path, what, option) in destinations {
-        output::check_destination(path, what, option)?;
+        output::check_destination(path, what, option, &inputs)?;
         for note in output::sweep_leftovers(&output::folder_of(path)) {
             eprintln!("note: {note}");
         }

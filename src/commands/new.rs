@@ -150,10 +150,16 @@ fn write_new(path: &Path, text: &str) -> std::io::Result<()> {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),
     };
-    let mut tmp = tempfile::Builder::new()
-        .prefix(".candor-new-")
-        .suffix(".tmp")
-        .tempfile_in(&folder)?;
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(".candor-new-").suffix(".tmp");
+    // A temporary file is private (0600) by default; a deal file is an ordinary document,
+    // created as an editor would: 0666 less the user's umask (0644 under the usual 022).
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt as _;
+        builder.permissions(std::fs::Permissions::from_mode(0o666));
+    }
+    let mut tmp = builder.tempfile_in(&folder)?;
     tmp.write_all(text.as_bytes())?;
     tmp.as_file().sync_all()?;
     // `persist_noclobber` fails rather than replace a file that appeared meanwhile.

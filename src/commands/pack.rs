@@ -18,7 +18,7 @@ pub fn run(args: &PackArgs) -> u8 {
 
 fn make(args: &PackArgs) -> Result<(), Failure> {
     // Checked first: a pack of many deals takes a while to make.
-    output::check_destination(&args.output, "pack", "-o FILE.pdf")?;
+    output::check_destination(&args.output, "pack", "-o FILE.pdf", &args.files)?;
     for note in output::sweep_leftovers(&output::folder_of(&args.output)) {
         eprintln!("note: {note}");
     }
@@ -32,6 +32,8 @@ fn make(args: &PackArgs) -> Result<(), Failure> {
     for (_, failure) in &pack.skipped {
         eprintln!("{}\n", failure.render());
     }
+    // The CSV files are known only now that the deals are read.
+    output::refuse_inputs(&args.output, "pack", "-o FILE.pdf", &pack.inputs)?;
     output::write_output(
         &args.output,
         &pack.pdf,

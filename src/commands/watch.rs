@@ -34,12 +34,7 @@ pub fn stamps(paths: &[PathBuf]) -> Vec<Stamp> {
 /// CSV edit still counts while the deal file is being fixed.
 pub fn watched_files(deal: &Path, previous: &[PathBuf]) -> Vec<PathBuf> {
     match load_deal(deal) {
-        Ok(loaded) => {
-            let folder = deal.parent().map(Path::to_path_buf).unwrap_or_default();
-            let mut out = vec![deal.to_path_buf()];
-            out.extend(loaded.companions.iter().map(|(n, _)| folder.join(n)));
-            out
-        }
+        Ok(loaded) => loaded.files(),
         Err(_) if !previous.is_empty() => previous.to_vec(),
         Err(_) => vec![deal.to_path_buf()],
     }

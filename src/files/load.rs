@@ -26,11 +26,28 @@ pub struct LoadedDeal {
     pub companions: Vec<(String, Vec<u8>)>,
 }
 
+impl LoadedDeal {
+    /// Every file the deal was read from: the deal file, then its CSV files.
+    pub fn files(&self) -> Vec<PathBuf> {
+        let folder = self
+            .path
+            .parent()
+            .map(Path::to_path_buf)
+            .unwrap_or_default();
+        let mut out = vec![self.path.clone()];
+        out.extend(self.companions.iter().map(|(n, _)| folder.join(n)));
+        out
+    }
+}
+
 /// Reads a file of at most [`MAX_FILE_BYTES`], checking the size before reading.
 fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
     let meta = std::fs::metadata(path).map_err(|e| (io_words(&e), "file-unreadable"))?;
     if !meta.is_file() {
-        return Err(("it is not a file".to_string(), "file-unreadable"));
+        return Err((
+            "it is not a regular file (a folder, device or pipe)".to_string(),
+            "file-unreadable",
+        ));
     }
     if meta.len() > MAX_FILE_BYTES {
         return Err((
@@ -59,6 +76,104 @@ fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
     }
     Ok(bytes)
 }
+
+/// Reads `name`, a file a deal file or a house style names, relative to `folder`: it
+/// must lie in `folder` or below it once symbolic links are resolved (so neither
+/// `../x`, `/etc/passwd` nor a link out of the folder is followed), be a regular file
+/// (not a FIFO or a device such as `/dev/zero`) and hold at most [`MAX_FILE_BYTES`].
+/// Nothing is read from a file refused, so no diagnostic can show its contents.
+pub fn read_companion(folder: &Path, name: &str) -> Result<Vec<u8>, (String, &'static str)> {
+    let folder = if folder.as_os_str().is_empty() {
+        Path::new(".")
+    } else {
+        folder
+    };
+    let inside = folder
+        .canonicalize()
+        .map_err(|e| (io_words(&e), "file-unreadable"))?;
+    let real = folder
+        .join(name)
+        .canonicalize()
+        .map_err(|e| (io_words(&e), "file-unreadable"))?;
+    if !real.starts_with(&inside) {
+        return Err((
+            format!(
+                "it lies outside the folder `{}`; candor reads only files in that folder or \
+                 below it",
+                folder.display()
+            ),
+            "file-outside",
+        ));
+    }
+    read_limited(&real)
+}
+
+/// One diagnostic for each text in the deal file (every scalar and key but the CSV
+/// file's name, which the memo does not print) holding characters the memo's fonts
+/// cannot show (see [`crate::pdf::can_show`]), naming the field and the characters'
+/// places in it: `check` refuses what `memo` could not typeset.
+fn unshowable_text(node: &crate::input::Node, path: &str, out: &mut Vec<Diagnostic>) {
+    use crate::input::Value;
+    match &node.value {
+        Value::Scalar { text, .. } => report_unshowable(text, node, path, "this value", out),
+        Value::Sequence(items) => {
+            for (i, item) in items.iter().enumerate() {
+                unshowable_text(item, &format!("{path}[{i}]"), out);
+            }
+        }
+        Value::Mapping(entries) => {
+            for (key, value) in entries {
+                let name = key.scalar().unwrap_or_default();
+                let field = if path.is_empty() {
+                    name.to_string()
+                } else {
+                    format!("{path}.{name}")
+                };
+                report_unshowable(name, key, &field, "this key", out);
+                if name != "csv" {
+                    unshowable_text(value, &field, out);
+                }
+            }
+        }
+    }
+}
+
+fn report_unshowable(
+    text: &str,
+    at: &crate::input::Node,
+    field: &str,
+    what: &str,
+    out: &mut Vec<Diagnostic>,
+) {
+    let found = crate::pdf::unshowable(text);
+    if let Some((first, _)) = found.first() {
+        // A plain scalar is written as read, so the caret can point at the character;
+        // a quoted one may hold escapes, so it points at the value's start.
+        let plain = matches!(at.value, crate::input::Value::Scalar { quoted: false, .. });
+        let column = if plain {
+            at.position.column + first - 1
+        } else {
+            at.position.column
+        };
+        out.push(
+            Diagnostic::error(
+                "unshowable-character",
+                format!(
+                    "{what} holds characters the memo's fonts cannot show: {}",
+                    crate::pdf::describe_unshowable(&found)
+                ),
+            )
+            .at_field(field.to_string())
+            .at(at.position.line, column)
+            .with_hint(FONT_HINT),
+        );
+    }
+}
+
+const FONT_HINT: &str =
+    "the memo's fonts (Libertinus Serif, New Computer Modern, DejaVu Sans Mono) \
+     cover Latin, Greek and Cyrillic; emoji, CJK, Thai, Korean and private or unassigned \
+     characters have no glyph";
 
 /// A file's bytes as lines to show under a diagnostic: invalid UTF-8 as replacement
 /// characters, a leading byte-order mark dropped (positions count from after it), and
@@ -140,7 +255,7 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
     let mut csv_texts: Vec<(String, String)> = Vec::new();
     let mut read = |name: &str| -> Result<String, String> {
         let full = folder.join(name);
-        let bytes = read_limited(&full).map_err(|(why, _)| why)?;
+        let bytes = read_companion(&folder, name).map_err(|(why, _)| why)?;
         let text = match crate::input::decode(&bytes) {
             Ok(t) => t.to_string(),
             Err(e) => {
@@ -158,7 +273,36 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
         }
         Ok(text)
     };
-    match crate::model::validate(&raw, &mut read) {
+    let mut unshowable = Vec::new();
+    if let Some(root) = &raw.root {
+        unshowable_text(root, "", &mut unshowable);
+    }
+    // The memo prints the deal file's name too.
+    let file_name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let found = crate::pdf::unshowable(&file_name);
+    if !found.is_empty() {
+        unshowable.push(
+            Diagnostic::error(
+                "unshowable-character",
+                format!(
+                    "the deal file's name holds characters the memo's fonts cannot show: {}",
+                    crate::pdf::describe_unshowable(&found)
+                ),
+            )
+            .with_hint("rename the file with letters the memo can show (Latin, Greek, Cyrillic)"),
+        );
+    }
+    let validated = crate::model::validate(&raw, &mut read).and_then(|deal| {
+        if unshowable.is_empty() {
+            Ok(deal)
+        } else {
+            Err(Vec::new())
+        }
+    });
+    match validated {
         Ok(deal) => Ok(LoadedDeal {
             deal,
             path: path.to_path_buf(),
@@ -168,6 +312,7 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
         Err(diags) => {
             let diagnostics = diags
                 .into_iter()
+                .chain(unshowable)
                 .map(|d| {
                     let bad_csv = undecodable.iter().find(|(name, _)| {
                         d.code == "csv-missing"

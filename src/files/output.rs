@@ -97,11 +97,120 @@ fn hint_for(e: &io::Error, option: &str) -> String {
     }
 }
 
+/// What is at a path, in words, when it is neither a regular file nor a folder.
+fn special_kind(file_type: &std::fs::FileType) -> Option<&'static str> {
+    if file_type.is_symlink() {
+        return Some("a symbolic link");
+    }
+    if file_type.is_file() || file_type.is_dir() {
+        return None;
+    }
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::FileTypeExt as _;
+        if file_type.is_char_device() {
+            return Some("a character device");
+        }
+        if file_type.is_block_device() {
+            return Some("a block device");
+        }
+        if file_type.is_fifo() {
+            return Some("a named pipe (FIFO)");
+        }
+        if file_type.is_socket() {
+            return Some("a socket");
+        }
+    }
+    Some("not a regular file")
+}
+
+/// True when two metadata describe the same file: the same device and inode (on Unix),
+/// however the paths are spelt (links, `./`, `..`).
+#[cfg(unix)]
+fn same_file(a: &std::fs::Metadata, b: &std::fs::Metadata) -> bool {
+    use std::os::unix::fs::MetadataExt as _;
+    a.dev() == b.dev() && a.ino() == b.ino()
+}
+
+/// Elsewhere, the same canonical path.
+#[cfg(not(unix))]
+fn same_file_path(a: &Path, b: &Path) -> bool {
+    matches!((a.canonicalize(), b.canonicalize()), (Ok(x), Ok(y)) if x == y)
+}
+
+/// Why `path` must not be written: it is not a regular file or a new path (a symbolic
+/// link, a device, a FIFO, a socket), or it is one of `inputs`, the files the run
+/// reads (compared by device and inode). `None` when it may be written.
+fn refusal(path: &Path, inputs: &[PathBuf]) -> Option<(String, String)> {
+    let meta = std::fs::symlink_metadata(path).ok()?;
+    if let Some(kind) = special_kind(&meta.file_type()) {
+        return Some((
+            format!(
+                "`{}` is {kind}; candor writes only to a regular file or a new path",
+                path.display()
+            ),
+            "give the path of a regular file, or of a file that does not exist yet".to_string(),
+        ));
+    }
+    if !meta.is_file() {
+        return None;
+    }
+    for input in inputs {
+        #[cfg(unix)]
+        let same = std::fs::metadata(input).is_ok_and(|m| same_file(&meta, &m));
+        #[cfg(not(unix))]
+        let same = same_file_path(path, input);
+        if same {
+            let also = if input.as_path() == path {
+                String::new()
+            } else {
+                format!(" (as `{}`)", input.display())
+            };
+            return Some((
+                format!(
+                    "`{}` is a file this run reads{also}: writing there would replace it",
+                    path.display(),
+                ),
+                "write to another path".to_string(),
+            ));
+        }
+    }
+    None
+}
+
+/// Refuses, with nothing written, a destination that is one of `inputs` (the files the
+/// run reads, compared by device and inode) or that is not a regular file or a new
+/// path (see [`check_destination`]).
+pub fn refuse_inputs(
+    path: &Path,
+    what: &str,
+    option: &str,
+    inputs: &[PathBuf],
+) -> Result<(), Failure> {
+    match refusal(path, inputs) {
+        None => Ok(()),
+        Some((message, hint)) => Err(Failure::invalid(
+            Diagnostic::error("write", format!("cannot write the {what}: {message}"))
+                .in_file(path.display().to_string())
+                .with_hint(format!("{hint}, with `{option}`")),
+        )),
+    }
+}
+
 /// Checks, before any work is done, that `what` (for example "memo") can be written at
-/// `path`: its folder exists and is a folder, the path is not a folder, and a file can
-/// be created in the folder (a probe file, removed at once). `option` is how the user
-/// chooses another path, named in the hint.
-pub fn check_destination(path: &Path, what: &str, option: &str) -> Result<(), Failure> {
+/// `path`: it is a regular file or a new path (not a symbolic link, device, FIFO or
+/// socket), not one of `inputs` (every file the run reads: deal files, their CSV
+/// files, templates; compared by device and inode, not by spelling), its folder exists
+/// and is a folder, the path is not a folder, and a file can be created in the folder
+/// (a probe file, removed at once). `option` is how the user chooses another path,
+/// named in the hint.
+pub fn check_destination(
+    path: &Path,
+    what: &str,
+    option: &str,
+    inputs: &[PathBuf],
+) -> Result<(), Failure> {
+    refuse_inputs(path, what, option, inputs)?;
     let folder = folder_of(path);
     let shown = path.display().to_string();
     let fail = |message: String, hint: String, class: FailureClass| {
@@ -223,6 +332,8 @@ pub fn write_output(
     option: &str,
     sink: &mut dyn Sink,
 ) -> Result<(), Failure> {
+    // Checked again at the last moment: a device or link may have appeared meanwhile.
+    refuse_inputs(path, what, option, &[])?;
     write_atomically_with(path, bytes, sink).map_err(|e| {
         let class = if e.kind() == ErrorKind::NotFound {
             FailureClass::Invalid

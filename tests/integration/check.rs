@@ -455,3 +455,137 @@ fn control_characters_from_escapes_never_reach_the_terminal() {
         }
     }
 }
+
+/// A CSV file outside the deal file's folder (by an absolute path, by `..`, or by a
+/// symbolic link out of the folder), or one that is not a regular file (a FIFO, a link
+/// to `/dev/zero`), is refused by every command that reads a deal, and no line of it
+/// is shown. The rule is ours (the issue's), checked against the file system's own
+/// notion of where a path leads (`canonicalize`).
+#[cfg(unix)]
+#[test]
+fn a_csv_outside_the_deal_folder_or_not_a_file_is_refused_unread() {
+    let root = tempfile::tempdir().unwrap();
+    let secret = root.path().join("secret.csv");
+    std::fs::write(&secret, "period,amount\nSECRET-FIRST-LINE,1\n").unwrap();
+    let folder = root.path().join("a/b");
+    std::fs::create_dir_all(&folder).unwrap();
+    std::os::unix::fs::symlink(&secret, folder.join("link-out.csv")).unwrap();
+    std::os::unix::fs::symlink("/dev/zero", folder.join("zero.csv")).unwrap();
+    let fifo_made = Command::new("mkfifo")
+        .arg(folder.join("pipe.csv"))
+        .status()
+        .is_ok_and(|s| s.success());
+    // A link that stays inside the folder is fine.
+    std::fs::create_dir(folder.join("data")).unwrap();
+    std::fs::write(
+        folder.join("data/flows.csv"),
+        "period,amount\n0,-100\n1,60\n2,60\n",
+    )
+    .unwrap();
+    std::os::unix::fs::symlink("data/flows.csv", folder.join("inside.csv")).unwrap();
+    let deal = |csv: &str| format!("{HEADER}cash_flows:\n  csv: {csv}\n  every: year\n");
+    std::fs::write(folder.join("inside.yaml"), deal("inside.csv")).unwrap();
+    std::fs::write(folder.join("below.yaml"), deal("data/flows.csv")).unwrap();
+    for ok in ["inside.yaml", "below.yaml"] {
+        let (code, _, err) = check_in(&folder, ok);
+        assert_eq!(code, Some(0), "{ok}: {err}");
+    }
+    let mut cases = vec![
+        ("outside", "../../secret.csv", "outside the folder"),
+        ("absolute", "/etc/passwd", "outside the folder"),
+        ("environ", "/proc/self/environ", "outside the folder"),
+        ("link", "link-out.csv", "outside the folder"),
+        ("zero", "zero.csv", "outside the folder"),
+    ];
+    if fifo_made {
+        cases.push(("fifo", "pipe.csv", "not a regular file"));
+    }
+    for (name, csv, why) in cases {
+        let file = format!("{name}.yaml");
+        std::fs::write(folder.join(&file), deal(csv)).unwrap();
+        for command in [
+            vec!["check", file.as_str()],
+            vec!["rates", file.as_str()],
+            vec!["memo", file.as_str(), "-o", "m.pdf"],
+            vec!["pack", file.as_str(), "-o", "m.pdf"],
+            vec!["diff", "inside.yaml", file.as_str()],
+        ] {
+            let out = Command::new(env!("CARGO_BIN_EXE_candor"))
+                .args(&command)
+                .current_dir(&folder)
+                .env("SOURCE_DATE_EPOCH", "1798675200")
+                .output()
+                .unwrap();
+            let err = text(&out.stderr);
+            assert_eq!(out.status.code(), Some(1), "{command:?}: {err}");
+            assert!(err.contains(why), "{command:?}: {err}");
+            for leak in ["SECRET-FIRST-LINE", "root:", "PATH="] {
+                assert!(!err.contains(leak), "{command:?} shows {leak}: {err}");
+            }
+            assert!(!folder.join("m.pdf").exists());
+        }
+    }
+}
+
+/// A deal that passes `check` makes a memo: a name in Latin with accents, Greek or
+/// Cyrillic passes both (the bundled Libertinus Serif covers those scripts, from
+/// memory of its documentation, and the typesetter here is the judge), while emoji,
+/// CJK, Thai, Korean or the noncharacter U+FFFF fail `check` and `memo` alike with exit
+/// 1, naming the field and the character's code point.
+#[test]
+fn check_refuses_what_the_memo_cannot_show() {
+    let dir = tempfile::tempdir().unwrap();
+    let deal = |name: &str| {
+        format!(
+            "candor: 1\ndeal: {{ name: \"{name}\", currency: EUR, as_of: 2027-01-01 }}\n\
+             hurdle_rate: 8%\ncash_flows:\n  every: year\n  amounts: [-100, 60, 60]\n"
+        )
+    };
+    let run = |args: &[&str]| {
+        let out = Command::new(env!("CARGO_BIN_EXE_candor"))
+            .args(args)
+            .current_dir(dir.path())
+            .env("SOURCE_DATE_EPOCH", "1798675200")
+            .output()
+            .unwrap();
+        (out.status.code(), text(&out.stderr))
+    };
+    for (i, name) in [
+        "Gare d’Orsay à Zürich",
+        "Ωμέγα πλατεία",
+        "Кирилловский склад",
+    ]
+    .into_iter()
+    .enumerate()
+    {
+        let file = format!("ok{i}.yaml");
+        std::fs::write(dir.path().join(&file), deal(name)).unwrap();
+        assert_eq!(run(&["check", &file]).0, Some(0), "{name}");
+        let (code, err) = run(&["memo", &file, "-o", "m.pdf"]);
+        assert_eq!(code, Some(0), "{name}: {err}");
+    }
+    for (i, (name, code_point)) in [
+        ("Pier \u{1F600}", "U+1F600"),
+        ("倉庫", "U+5009"),
+        ("โกดัง", "U+0E42"),
+        ("창고", "U+CC3D"),
+        ("Pier \\uFFFF", "U+FFFF"),
+    ]
+    .into_iter()
+    .enumerate()
+    {
+        let file = format!("bad{i}.yaml");
+        std::fs::write(dir.path().join(&file), deal(name)).unwrap();
+        for command in [
+            vec!["check", file.as_str()],
+            vec!["memo", file.as_str(), "-o", "x.pdf"],
+        ] {
+            let (code, err) = run(&command);
+            assert_eq!(code, Some(1), "{command:?} {name}: {err}");
+            assert!(err.contains("unshowable-character"), "{err}");
+            assert!(err.contains("field `deal.name`"), "{err}");
+            assert!(err.contains(code_point), "{err}");
+        }
+    }
+    assert!(!dir.path().join("x.pdf").exists());
+}

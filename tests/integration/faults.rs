@@ -814,3 +814,158 @@ fn ctrl_c_while_filing_removes_the_unfinished_version_and_the_lock() {
     );
     verify_ok(&archive, 2);
 }
+
+/// `SOURCE_DATE_EPOCH` outside what a PDF date holds (before 1970, or after
+/// 9999-12-31T23:59:59Z, Unix time 253402300799, `date -u -d @253402300799`) is an
+/// input error naming the variable, for a memo and a pack alike, and nothing is written.
+#[test]
+fn a_source_date_epoch_out_of_range_is_an_input_error() {
+    let (dir, deal) = deal_folder();
+    let out = dir.path().join("m.pdf");
+    for epoch in ["-99999999999", "253402300800"] {
+        for args in [
+            vec!["memo", s(&deal), "-o", s(&out)],
+            vec!["pack", s(&deal), "-o", s(&out)],
+        ] {
+            let run = Command::new(env!("CARGO_BIN_EXE_candor"))
+                .args(&args)
+                .env("SOURCE_DATE_EPOCH", epoch)
+                .env_remove(PAUSE_HOOK)
+                .output()
+                .unwrap();
+            let err = text(&run.stderr);
+            assert_eq!(run.status.code(), Some(1), "{epoch} {args:?}: {err}");
+            assert!(err.contains("SOURCE_DATE_EPOCH"), "{err}");
+            assert!(err.contains(epoch), "{err}");
+            assert!(!out.exists());
+        }
+    }
+}
+
+/// A deal reading its flows from a CSV file beside it: (folder, deal, CSV).
+fn deal_with_csv() -> (tempfile::TempDir, PathBuf, PathBuf) {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let deal = dir.path().join("depot.yaml");
+    let csv = dir.path().join("depot-flows.csv");
+    std::fs::write(
+        &deal,
+        DEAL.replace(
+            "  every: year\n  amounts: [-1000000, 250000, 300000, 350000, 400000]\n",
+            "  csv: depot-flows.csv\n  every: year\n",
+        ),
+    )
+    .unwrap();
+    std::fs::write(&csv, "period,amount\n0,-1000\n1,600\n2,600\n").unwrap();
+    (dir, deal, csv)
+}
+
+/// Asserts a refused run: exit 1, the message says why, and every file listed is
+/// byte for byte as it was.
+fn assert_refused(args: &[&str], why: &str, kept: &[&Path]) {
+    let before: Vec<Vec<u8>> = kept.iter().map(|p| std::fs::read(p).unwrap()).collect();
+    let out = candor(args);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(1), "{args:?}: {err}");
+    assert!(err.contains(why), "{args:?}: {err}");
+    for (p, bytes) in kept.iter().zip(before) {
+        assert_eq!(std::fs::read(p).unwrap(), bytes, "{} changed", p.display());
+    }
+}
+
+/// An output path that is one of the run's inputs is refused before anything is
+/// written, however it is spelt (a `..` detour, a hard link): the input is kept.
+#[test]
+fn an_output_that_is_an_input_is_refused_and_the_input_kept() {
+    let (dir, deal, csv) = deal_with_csv();
+    let d = dir.path();
+    let detour = d.join("sub/../depot.yaml");
+    std::fs::create_dir(d.join("sub")).unwrap();
+    let hard = d.join("hard-link.yaml");
+    std::fs::hard_link(&deal, &hard).unwrap();
+    let why = "is a file this run reads";
+    for out in [&deal, &detour, &hard, &csv] {
+        assert_refused(&["memo", s(&deal), "-o", s(out)], why, &[&deal, &csv]);
+        assert_refused(&["pack", s(&deal), "-o", s(out)], why, &[&deal, &csv]);
+        let pdf = d.join("m.pdf");
+        assert_refused(
+            &["memo", s(&deal), "-o", s(&pdf), "--emit", "typst", s(out)],
+            why,
+            &[&deal, &csv],
+        );
+        assert!(!pdf.exists());
+    }
+    // A house-style file is an input too.
+    let style = d.join("style");
+    std::fs::create_dir(&style).unwrap();
+    let memo_template = style.join("memo.typ.j2");
+    std::fs::write(&memo_template, candor::report::BUILTIN_TEMPLATES[0].1).unwrap();
+    assert_refused(
+        &[
+            "memo",
+            s(&deal),
+            "--templates",
+            s(&style),
+            "-o",
+            s(&memo_template),
+        ],
+        why,
+        &[&memo_template],
+    );
+    // The refusal leaves no probe or temporary file behind.
+    assert_eq!(leftovers(d), Vec::<String>::new());
+}
+
+/// Only a regular file or a new path is written: a symbolic link (here to the standard
+/// output), a FIFO and, as root, a character device are refused and left as they were.
+#[cfg(unix)]
+#[test]
+fn a_link_fifo_or_device_is_never_a_destination() {
+    use std::os::unix::fs::FileTypeExt as _;
+    let (dir, deal) = deal_folder();
+    let d = dir.path();
+    let link = d.join("out.pdf");
+    std::os::unix::fs::symlink("/proc/self/fd/1", &link).unwrap();
+    let why = "is a symbolic link";
+    assert_refused(&["memo", s(&deal), "-o", s(&link)], why, &[]);
+    assert_refused(&["pack", s(&deal), "-o", s(&link)], why, &[]);
+    assert!(std::fs::symlink_metadata(&link)
+        .unwrap()
+        .file_type()
+        .is_symlink());
+
+    let fifo = d.join("pipe.pdf");
+    let made = Command::new("mkfifo").arg(&fifo).status();
+    if made.is_ok_and(|s| s.success()) {
+        assert_refused(&["memo", s(&deal), "-o", s(&fifo)], "is a named pipe", &[]);
+        assert!(std::fs::symlink_metadata(&fifo)
+            .unwrap()
+            .file_type()
+            .is_fifo());
+    }
+    // mknod needs root; /dev/null itself is never offered as a destination here.
+    let null = d.join("null");
+    let made = is_root()
+        && Command::new("mknod")
+            .args([s(&null), "c", "1", "3"])
+            .status()
+            .is_ok_and(|s| s.success());
+    if made {
+        assert_refused(
+            &["memo", s(&deal), "-o", s(&null)],
+            "is a character device",
+            &[],
+        );
+        assert_refused(
+            &["pack", s(&deal), "-o", s(&null)],
+            "is a character device",
+            &[],
+        );
+        assert!(std::fs::symlink_metadata(&null)
+            .unwrap()
+            .file_type()
+            .is_char_device());
+    } else {
+        eprintln!("skipped the character device: mknod needs root");
+    }
+    assert_eq!(leftovers(d), Vec::<String>::new());
+}

@@ -18,6 +18,8 @@ use candor::model::{
 use chrono::NaiveDate;
 use rust_decimal::Decimal;
 use std::collections::BTreeMap;
+use std::path::Path;
+use std::process::Command;
 
 /// A deal name made of every Typst markup character; it must print literally.
 const HOSTILE: &str = "#read(\"/etc/hostname\") *x* $y$ <z> @w ][";
@@ -471,4 +473,142 @@ fn changes_since_a_version_print_literally() {
     // Without the section, the memo has no such heading.
     let plain = memo_of(&analysis, &deal);
     assert!(!plain.markup.contains("Changes since version"));
+}
+
+/// `candor memo` against the given house-style folder: (exit code, stderr).
+fn memo_with_templates(dir: &Path, templates: &Path) -> (Option<i32>, String) {
+    let deal = dir.join("deal.yaml");
+    std::fs::write(
+        &deal,
+        "candor: 1\ndeal: { name: Style test, currency: EUR, as_of: 2027-01-01 }\n\
+         hurdle_rate: 8%\ncash_flows:\n  every: year\n  amounts: [-100, 60, 60]\n",
+    )
+    .unwrap();
+    let out = Command::new(env!("CARGO_BIN_EXE_candor"))
+        .args(["memo", "deal.yaml", "-o", "m.pdf", "--templates"])
+        .arg(templates)
+        .current_dir(dir)
+        .env("SOURCE_DATE_EPOCH", "1798675200")
+        .output()
+        .unwrap();
+    (
+        out.status.code(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+/// A misspelt template name is an error listing the names a house style can use, and
+/// a template that is a link to `/dev/zero`, a FIFO or a link out of the folder is
+/// refused without being read (the rules of companion CSV files).
+#[cfg(unix)]
+#[test]
+fn house_style_files_are_named_and_read_by_the_rules() {
+    let dir = tempfile::tempdir().unwrap();
+    let style = dir.path().join("style");
+    std::fs::create_dir(&style).unwrap();
+    std::fs::write(style.join("styel.typ.j2"), "#set page(paper: \"a4\")").unwrap();
+    let (code, err) = memo_with_templates(dir.path(), &style);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("`styel.typ.j2` is not the name of a template"),
+        "{err}"
+    );
+    for (name, _) in candor::report::BUILTIN_TEMPLATES {
+        assert!(err.contains(name), "{err}");
+    }
+    std::fs::remove_file(style.join("styel.typ.j2")).unwrap();
+
+    std::os::unix::fs::symlink("/dev/zero", style.join("style.typ.j2")).unwrap();
+    let (code, err) = memo_with_templates(dir.path(), &style);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("style.typ.j2") && err.contains("outside the folder"),
+        "{err}"
+    );
+    std::fs::remove_file(style.join("style.typ.j2")).unwrap();
+
+    if Command::new("mkfifo")
+        .arg(style.join("scenario.typ.j2"))
+        .status()
+        .is_ok_and(|s| s.success())
+    {
+        let (code, err) = memo_with_templates(dir.path(), &style);
+        assert_eq!(code, Some(1), "{err}");
+        assert!(err.contains("not a regular file"), "{err}");
+    }
+    assert!(!dir.path().join("m.pdf").exists());
+}
+
+/// A house style whose Typst code loops a billion times is given up after the deadline,
+/// with a diagnostic naming the house style's templates; markup that ends is typeset
+/// as by `typeset`. (The loop count is the issue's; one iteration takes well over a
+/// nanosecond, so it cannot end within the two seconds given.)
+#[test]
+fn typesetting_a_house_style_has_a_deadline() {
+    let options = candor::pdf::TypesetOptions {
+        created: NaiveDate::from_ymd_opt(2026, 1, 2)
+            .and_then(|d| d.and_hms_opt(0, 0, 0))
+            .expect("time"),
+        ident: "deadline-test".to_string(),
+    };
+    let names = vec!["style.typ.j2".to_string()];
+    let deadline = std::time::Duration::from_secs(2);
+    let started = std::time::Instant::now();
+    let err = candor::pdf::typeset_within(
+        "#for i in range(1000000000) {}\nEnd.",
+        &[],
+        &options,
+        deadline,
+        &names,
+    )
+    .expect_err("a billion iterations cannot finish in two seconds");
+    assert!(started.elapsed() < std::time::Duration::from_secs(10));
+    assert_eq!(err.code, "typeset");
+    assert!(err.message.contains("`style.typ.j2`"), "{}", err.message);
+    assert!(
+        err.message.contains("more than 2 seconds"),
+        "{}",
+        err.message
+    );
+    let quick = candor::pdf::typeset_within("Hello.", &[], &options, deadline, &names)
+        .expect("a short document is typeset");
+    assert_eq!(
+        quick,
+        candor::pdf::typeset("Hello.", &[], &options).unwrap(),
+        "the same bytes as without a deadline"
+    );
+}
+
+/// A house style's minijinja loops run out of fuel within seconds, and an error in an
+/// included template names that template, its line and the cause, not only the line
+/// of the `include` in `memo.typ.j2`.
+#[test]
+fn house_style_templates_are_bounded_and_their_errors_located() {
+    let dir = tempfile::tempdir().unwrap();
+    let style = dir.path().join("style");
+    std::fs::create_dir(&style).unwrap();
+    std::fs::write(
+        style.join("style.typ.j2"),
+        "{% for i in range(100000) %}{% for j in range(100000) %}{% endfor %}{% endfor %}\n",
+    )
+    .unwrap();
+    let started = std::time::Instant::now();
+    let (code, err) = memo_with_templates(dir.path(), &style);
+    assert!(started.elapsed() < std::time::Duration::from_secs(30));
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("`style.typ.j2`") && err.contains("steps"),
+        "{err}"
+    );
+
+    std::fs::write(
+        style.join("style.typ.j2"),
+        "#set page(paper: \"a4\")\n\n{{ no_such_value }}\n",
+    )
+    .unwrap();
+    let (code, err) = memo_with_templates(dir.path(), &style);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(err.contains("`style.typ.j2` failed at line 3"), "{err}");
+    assert!(err.contains("undefined value"), "{err}");
+    assert!(err.contains("included from `memo.typ.j2`"), "{err}");
 }

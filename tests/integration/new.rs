@@ -3,6 +3,7 @@
 
 use crate::support::candor_in as candor;
 use std::path::Path;
+use std::process::Command;
 
 /// `candor check --json` on one file: (exit code, the deal's name as read back).
 fn check(dir: &Path, file: &str) -> (Option<i32>, serde_json::Value) {
@@ -109,4 +110,25 @@ fn same_name_gives_the_same_bytes() {
     let a = std::fs::read_to_string(dir.path().join("a.yaml")).unwrap();
     let b = std::fs::read_to_string(dir.path().join("b.yaml")).unwrap();
     assert_eq!(a.replace("a.yaml", "b.yaml"), b);
+}
+
+/// A starter file gets the mode any new document gets, 0666 less the umask (common
+/// practice: what `touch` or an editor creates), not a temporary file's private 0600.
+#[cfg(unix)]
+#[test]
+fn starter_files_have_the_usual_mode() {
+    use std::os::unix::fs::PermissionsExt as _;
+    let dir = tempfile::tempdir().unwrap();
+    for (umask, file, mode) in [("022", "a.yaml", 0o644), ("002", "b.yaml", 0o664)] {
+        let out = Command::new("sh")
+            .arg("-c")
+            .arg(format!("umask {umask} && exec \"$0\" new Plain -o {file}",))
+            .arg(env!("CARGO_BIN_EXE_candor"))
+            .current_dir(dir.path())
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(0), "{out:?}");
+        let meta = std::fs::metadata(dir.path().join(file)).unwrap();
+        assert_eq!(meta.permissions().mode() & 0o777, mode, "umask {umask}");
+    }
 }
