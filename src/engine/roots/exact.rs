@@ -219,7 +219,7 @@ fn is_prime(n: u64) -> bool {
         return false;
     }
     for &b in &BASES {
-        if n % b == 0 {
+        if n.is_multiple_of(b) {
             return n == b;
         }
     }

@@ -1435,7 +1435,7 @@ fn settle_exactly(out: &mut RootSet, amounts: &[Decimal], exps: &[u64]) {
     out.unresolved.clear();
     out.exact = ExactCheck::Settled;
     // Exact roots closer than floats can tell apart would leave intervals that touch.
-    out.certified = apart && count <= out.descartes && (out.descartes - count) % 2 == 0;
+    out.certified = apart && count <= out.descartes && (out.descartes - count).is_multiple_of(2);
 }
 
 /// A root proven exactly, as a root in y with outward-rounded bounds.
