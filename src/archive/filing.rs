@@ -5,7 +5,7 @@ use super::lock::ArchiveLock;
 use super::*;
 use crate::diag::{Failure, FailureClass};
 use crate::files::load::{load_deal, LoadedDeal};
-use crate::files::output::{Disk, Kind, Sink, Unfinished};
+use crate::files::output::{Disk, Sink, Unfinished, UnfinishedKind};
 use crate::memo::{sha256_hex, slug, MemoInputs};
 
 /// The files of a version besides the manifest, as (path inside the version, role, bytes).
@@ -303,7 +303,7 @@ fn file_under_lock(
                 deal_dir,
             )
         })?;
-    let pending = Unfinished::register(tmp.path(), Kind::Folder, deal_dir);
+    let pending = Unfinished::register(tmp.path(), UnfinishedKind::Folder, deal_dir);
     let mut write_all = || -> Result<(), (String, std::io::Error)> {
         let mut put = |rel: &str, bytes: &[u8]| {
             write_file(&tmp.path().join(rel), bytes, sink).map_err(|e| (rel.to_string(), e))

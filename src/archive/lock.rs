@@ -10,7 +10,7 @@
 
 use super::{archive_error, io_words};
 use crate::diag::Diagnostic;
-use crate::files::output::{Kind, Unfinished};
+use crate::files::output::{Unfinished, UnfinishedKind};
 use std::fs::{File, OpenOptions, TryLockError};
 use std::io::{Read as _, Seek as _, Write as _};
 use std::path::{Path, PathBuf};
@@ -147,7 +147,7 @@ impl ArchiveLock {
             return Ok(ArchiveLock {
                 path: path.to_path_buf(),
                 file,
-                _pending: Unfinished::register(path, Kind::Lock, path),
+                _pending: Unfinished::register(path, UnfinishedKind::Lock, path),
             });
         }
     }

@@ -297,7 +297,7 @@ pub fn write_atomically_with(path: &Path, bytes: &[u8], sink: &mut dyn Sink) -> 
     // leftovers never takes a file being written for one (the kernel drops the lock
     // when this process ends, however it ends).
     tmp.as_file().lock()?;
-    let pending = Unfinished::register(tmp.path(), Kind::File, path);
+    let pending = Unfinished::register(tmp.path(), UnfinishedKind::File, path);
     let written = sink.put(tmp.as_file_mut(), bytes).and_then(|()| {
         // A temporary file is private (0600); the output is an ordinary document.
         #[cfg(unix)]
@@ -421,7 +421,7 @@ pub fn sweep_leftovers(folder: &Path) -> Vec<String> {
 
 /// What an unfinished path is, for the clean-up after an interruption.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Kind {
+pub enum UnfinishedKind {
     /// A temporary file about to be renamed over the destination.
     File,
     /// A folder being built into an archive version.
@@ -434,7 +434,7 @@ pub enum Kind {
 struct Pending {
     id: u64,
     path: PathBuf,
-    kind: Kind,
+    kind: UnfinishedKind,
     destination: PathBuf,
 }
 
@@ -457,7 +457,7 @@ pub struct Unfinished {
 impl Unfinished {
     /// Registers `path` (of `kind`, on its way to `destination`) for removal should
     /// candor be interrupted before [`Unfinished::finish`] or the guard is dropped.
-    pub fn register(path: &Path, kind: Kind, destination: &Path) -> Unfinished {
+    pub fn register(path: &Path, kind: UnfinishedKind, destination: &Path) -> Unfinished {
         let id = NEXT_ID.fetch_add(1, Ordering::Relaxed);
         pending().push(Pending {
             id,
@@ -525,9 +525,9 @@ fn on_interrupt(code: i32) {
     let list = pending();
     let mut lines = Vec::new();
     // Locks last: no other filer may start while a half-built version is still there.
-    for p in list.iter().filter(|p| p.kind != Kind::Lock) {
+    for p in list.iter().filter(|p| p.kind != UnfinishedKind::Lock) {
         let removed = match p.kind {
-            Kind::Folder => remove_folder(&p.path),
+            UnfinishedKind::Folder => remove_folder(&p.path),
             _ => std::fs::remove_file(&p.path).or_else(|e| {
                 if e.kind() == ErrorKind::NotFound {
                     Ok(())
@@ -536,7 +536,7 @@ fn on_interrupt(code: i32) {
                 }
             }),
         };
-        let what = if p.kind == Kind::Folder {
+        let what = if p.kind == UnfinishedKind::Folder {
             "version being filed"
         } else {
             "file"
@@ -554,7 +554,7 @@ fn on_interrupt(code: i32) {
             ),
         });
     }
-    for p in list.iter().filter(|p| p.kind == Kind::Lock) {
+    for p in list.iter().filter(|p| p.kind == UnfinishedKind::Lock) {
         match std::fs::remove_file(&p.path) {
             Ok(()) => lines.push(format!("released the archive lock {}", p.path.display())),
             Err(e) => lines.push(format!(
@@ -630,11 +630,11 @@ mod tests {
                 .filter(|p| p.path == Path::new("/x/a"))
                 .count()
         };
-        let a = Unfinished::register(Path::new("/x/a"), Kind::File, Path::new("/x/b"));
+        let a = Unfinished::register(Path::new("/x/a"), UnfinishedKind::File, Path::new("/x/b"));
         assert_eq!(count(), 1);
         a.finish(|| ());
         assert_eq!(count(), 0);
-        let b = Unfinished::register(Path::new("/x/a"), Kind::File, Path::new("/x/b"));
+        let b = Unfinished::register(Path::new("/x/a"), UnfinishedKind::File, Path::new("/x/b"));
         drop(b);
         assert_eq!(count(), 0);
     }

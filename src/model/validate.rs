@@ -117,7 +117,7 @@ struct RawFlow<T> {
 
 /// Flows as a deal file states them, before scenarios change them.
 #[derive(Debug, Clone)]
-enum Series {
+enum ReadFlows {
     Periodic {
         every: Frequency,
         start: Option<NaiveDate>,
@@ -129,14 +129,14 @@ enum Series {
     },
 }
 
-impl Series {
+impl ReadFlows {
     fn clock(&self) -> Clock {
         match self {
-            Series::Periodic { every, start, .. } => Clock::Periodic {
+            ReadFlows::Periodic { every, start, .. } => Clock::Periodic {
                 every: *every,
                 start: *start,
             },
-            Series::Dated { day_count, .. } => Clock::Dated {
+            ReadFlows::Dated { day_count, .. } => Clock::Dated {
                 day_count: *day_count,
             },
         }
@@ -206,7 +206,7 @@ fn choices(candidates: &[&str]) -> String {
         .join(", ")
 }
 
-struct Ctx<'r, 'a> {
+struct Validator<'r, 'a> {
     diags: Vec<Diagnostic>,
     /// Problems found past the first [`MAX_DIAGNOSTICS`] + 1, counted but not kept, so
     /// that a file of a million mistakes does not hold a million messages.
@@ -216,7 +216,7 @@ struct Ctx<'r, 'a> {
     read: &'r mut ReadCompanion<'a>,
 }
 
-impl Ctx<'_, '_> {
+impl Validator<'_, '_> {
     /// Records a problem: kept while there are few, counted beyond.
     fn push(&mut self, d: Diagnostic) -> &mut Diagnostic {
         if self.diags.len() > MAX_DIAGNOSTICS {
@@ -533,7 +533,7 @@ impl Ctx<'_, '_> {
     }
 
     /// Reads a `cash_flows` block in any of its three forms.
-    fn cash_flows(&mut self, node: &Node, path: &str) -> Option<Series> {
+    fn cash_flows(&mut self, node: &Node, path: &str) -> Option<ReadFlows> {
         let f = self.fields(node, path, CASH_FLOWS)?;
         let periodic_key = ["amounts", "every", "start"].into_iter().find(|k| f.has(k));
         let dated_key = ["dated", "day_count"].into_iter().find(|k| f.has(k));
@@ -589,7 +589,7 @@ impl Ctx<'_, '_> {
                 if !ok || !self.nonempty(flows.iter().map(|f| f.amount), amounts?, &list_path) {
                     return None;
                 }
-                Some(Series::Periodic {
+                Some(ReadFlows::Periodic {
                     every,
                     start,
                     flows,
@@ -614,7 +614,7 @@ impl Ctx<'_, '_> {
                 if !ok || !self.nonempty(flows.iter().map(|f| f.amount), dated?, &list_path) {
                     return None;
                 }
-                Some(Series::Dated { day_count, flows })
+                Some(ReadFlows::Dated { day_count, flows })
             }
             (None, None) => {
                 self.hint(
@@ -714,7 +714,7 @@ impl Ctx<'_, '_> {
     }
 
     /// Reads flows from a CSV file named by `cash_flows.csv`.
-    fn csv_flows(&mut self, f: &Fields<'_>, path: &str) -> Option<Series> {
+    fn csv_flows(&mut self, f: &Fields<'_>, path: &str) -> Option<ReadFlows> {
         let csv_node = f.get("csv")?;
         let csv_path = join(path, "csv");
         let name = self.text(csv_node, &csv_path, Text::Line(MAX_NOTE_CHARS))?;
@@ -842,12 +842,12 @@ impl Ctx<'_, '_> {
             return None;
         }
         Some(match clock {
-            Err(every) => Series::Periodic {
+            Err(every) => ReadFlows::Periodic {
                 every,
                 start,
                 flows: periodic,
             },
-            Ok(day_count) => Series::Dated {
+            Ok(day_count) => ReadFlows::Dated {
                 day_count,
                 flows: dated,
             },
@@ -968,8 +968,8 @@ impl Ctx<'_, '_> {
         &mut self,
         name: &str,
         node: &Node,
-        base: Option<&Series>,
-    ) -> Option<(Series, String)> {
+        base: Option<&ReadFlows>,
+    ) -> Option<(ReadFlows, String)> {
         let path = format!("scenarios.{name}");
         let f = self.fields(node, &path, SCENARIO)?;
         let description = f
@@ -1031,7 +1031,7 @@ impl Ctx<'_, '_> {
         let shift = shift.unwrap_or(0);
         let shift_at = shift_node.map_or(f.position, |n| n.position);
         match &mut series {
-            Series::Periodic { flows, .. } => {
+            ReadFlows::Periodic { flows, .. } => {
                 for fl in flows.iter_mut() {
                     if fl.amount > Decimal::ZERO {
                         fl.at += shift;
@@ -1052,7 +1052,7 @@ impl Ctx<'_, '_> {
                     words.push(shift_words(shift, "period"));
                 }
             }
-            Series::Dated { flows, .. } => {
+            ReadFlows::Dated { flows, .. } => {
                 for fl in flows.iter_mut() {
                     if fl.amount > Decimal::ZERO {
                         let moved = if shift >= 0 {
@@ -1110,9 +1110,9 @@ impl Ctx<'_, '_> {
     }
 
     /// Places a series on its clock: sorted, netted by period or date, offsets set.
-    fn resolve(&mut self, series: &Series, path: &str, at: Position) -> Option<Flows> {
+    fn resolve(&mut self, series: &ReadFlows, path: &str, at: Position) -> Option<Flows> {
         match series {
-            Series::Periodic {
+            ReadFlows::Periodic {
                 every,
                 start,
                 flows,
@@ -1159,7 +1159,7 @@ impl Ctx<'_, '_> {
                     periods_per_year: Some(every.per_year()),
                 })
             }
-            Series::Dated { day_count, flows } => {
+            ReadFlows::Dated { day_count, flows } => {
                 let mut sorted = flows.clone();
                 sorted.sort_by_key(|f| f.at);
                 let merged = net(sorted);
@@ -1178,10 +1178,10 @@ impl Ctx<'_, '_> {
     }
 }
 
-fn same_kind(a: &Series, b: &Series) -> bool {
+fn same_kind(a: &ReadFlows, b: &ReadFlows) -> bool {
     match (a, b) {
-        (Series::Periodic { every: x, .. }, Series::Periodic { every: y, .. }) => x == y,
-        (Series::Dated { day_count: x, .. }, Series::Dated { day_count: y, .. }) => x == y,
+        (ReadFlows::Periodic { every: x, .. }, ReadFlows::Periodic { every: y, .. }) => x == y,
+        (ReadFlows::Dated { day_count: x, .. }, ReadFlows::Dated { day_count: y, .. }) => x == y,
         _ => false,
     }
 }
@@ -1238,7 +1238,7 @@ fn display_path(path: &str) -> String {
 /// supplies the text of any CSV file the deal names. Diagnostics about the deal file
 /// carry no file name (the caller adds it); those about a CSV file name it as written.
 pub fn validate(raw: &RawDeal, read: &mut ReadCompanion<'_>) -> Result<Deal, Vec<Diagnostic>> {
-    let mut ctx = Ctx {
+    let mut ctx = Validator {
         diags: Vec::new(),
         dropped: 0,
         spare: Diagnostic::error("", ""),
@@ -1270,7 +1270,7 @@ pub fn validate(raw: &RawDeal, read: &mut ReadCompanion<'_>) -> Result<Deal, Vec
     }
 }
 
-fn build(ctx: &mut Ctx<'_, '_>, raw: &RawDeal) -> Option<Deal> {
+fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     let origin = Position { line: 1, column: 1 };
     let Some(root) = &raw.root else {
         ctx.hint(
@@ -1497,7 +1497,7 @@ fn build(ctx: &mut Ctx<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     })
 }
 
-fn memo(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Memo> {
+fn memo(ctx: &mut Validator<'_, '_>, node: &Node) -> Option<Memo> {
     let f = ctx.fields(node, "memo", MEMO)?;
     let recommendation = f
         .get("recommendation")
@@ -1558,7 +1558,7 @@ fn memo(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Memo> {
     })
 }
 
-fn signoff(ctx: &mut Ctx<'_, '_>, node: &Node) -> Option<Signoff> {
+fn signoff(ctx: &mut Validator<'_, '_>, node: &Node) -> Option<Signoff> {
     let f = ctx.fields(node, "signoff", SIGNOFF)?;
     let prepared_by = f
         .get("prepared_by")

@@ -118,8 +118,9 @@ impl RootSet {
     }
 }
 
-/// The series prepared for evaluation.
-struct Series<'a> {
+/// The NPV as a sum of exponential terms in y = ln(1 + rate per step), prepared for
+/// evaluation.
+struct NpvTerms<'a> {
     /// True for the time-reversed series (variable u = -y), used for rates below 0%.
     reversed: bool,
     /// Coefficients as f64 (see `small_integers`: possibly all scaled by one power of
@@ -190,7 +191,7 @@ impl Point {
 }
 
 struct Solver<'a> {
-    s: &'a Series<'a>,
+    s: &'a NpvTerms<'a>,
     /// True while subdividing: interval ends then need every order.
     in_search: bool,
     /// Double-double point evaluations spent on undecided pieces (bounded, so that a
@@ -212,7 +213,7 @@ fn accumulate<const M: usize>(s: &mut [f64; M], t: &mut [f64; M], cw: f64, nk: f
     }
 }
 
-/// Sums of [`Series::sums`] for evenly spaced exponents (every period present), in
+/// Sums of [`NpvTerms::sums`] for evenly spaced exponents (every period present), in
 /// four interleaved chains of powers, w_k = w_(k-4) z^4, so that the multiplications
 /// do not wait on one another and the compiler can keep the terms in vector registers.
 /// Each w_k still takes at most one rounding per unit of exponent: z^4 = (z^2)^2
@@ -250,18 +251,18 @@ fn sums_even<const M: usize>(c: &[f64], n: &[f64], z: f64) -> ([f64; M], [f64; M
     (s, t)
 }
 
-impl<'a> Series<'a> {
+impl<'a> NpvTerms<'a> {
     fn new(
         amounts: std::borrow::Cow<'a, [Decimal]>,
         c: Vec<f64>,
         exps: &[u64],
         reversed: bool,
-    ) -> Series<'a> {
+    ) -> NpvTerms<'a> {
         // (Exponents are below 2^53; the signed conversion is the cheaper one.)
         let n: Vec<f64> = exps.iter().map(|&e| e as i64 as f64).collect();
         let mut gap_vals: Vec<f64> = Vec::new();
         let mut gap_idx: Vec<u32> = Vec::new();
-        // Evenly spaced exponents need no index (see `Series::gap_index`).
+        // Evenly spaced exponents need no index (see `NpvTerms::gap_index`).
         let even = exps.len() >= 2 && {
             let g = exps[1] - exps[0];
             exps.windows(2).all(|w| w[1] - w[0] == g)
@@ -296,7 +297,7 @@ impl<'a> Series<'a> {
             npow_last[d] = npow_last[d - 1] * last;
         }
         let abs_sum = c.iter().map(|x| x.abs()).sum();
-        Series {
+        NpvTerms {
             reversed,
             c,
             n,
@@ -309,7 +310,7 @@ impl<'a> Series<'a> {
     }
 
     /// The coefficients discounted to `a >= 0`, `c_k exp(-a n_k)`, and the relative
-    /// error allowance of each (the error model of [`Series::eval`]: a fixed part plus
+    /// error allowance of each (the error model of [`NpvTerms::eval`]: a fixed part plus
     /// `per_unit` a unit of exponent). With `reverse`, those of the time-reversed
     /// series instead (`c_k exp(-a (n_K - n_k))`, last term first), worked out from
     /// this one's coefficients and gaps: the same numbers the reversed series itself
@@ -362,7 +363,7 @@ impl<'a> Series<'a> {
     /// roots below `a` are those of the same sum in `1/x`, whose exponents run the other
     /// way). Every partial sum must have a certain sign, f(a) included, so `a` is not a
     /// root; otherwise `None`. With `reverse`, the bounds of the time-reversed series
-    /// at `a` (see [`Series::discounted`]).
+    /// at `a` (see [`NpvTerms::discounted`]).
     fn bounds_at(&self, a: f64, reverse: bool) -> Option<(u32, u32)> {
         let (terms, fixed, per_unit) = self.discounted(a, reverse);
         let above = self.partial_sum_changes(&terms, fixed, per_unit, false)?;
@@ -371,7 +372,7 @@ impl<'a> Series<'a> {
     }
 
     /// Sign changes of the partial sums of `terms` taken forwards (or `backwards`), each
-    /// sum's sign certain under the error model of [`Series::discounted`]; `None`
+    /// sum's sign certain under the error model of [`NpvTerms::discounted`]; `None`
     /// otherwise.
     fn partial_sum_changes(
         &self,
@@ -1230,18 +1231,18 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     // The reversed series is only needed when the Norstrom count below 0% does not
     // already say zero; otherwise an empty one stands in (never evaluated).
     let reversed = if below_zero == Some(0) {
-        Series::new(std::borrow::Cow::Borrowed(&[]), Vec::new(), &[], true)
+        NpvTerms::new(std::borrow::Cow::Borrowed(&[]), Vec::new(), &[], true)
     } else {
         let rev_c: Vec<f64> = c.iter().rev().copied().collect();
         let rev_exps: Vec<u64> = exps.iter().rev().map(|&e| last - e).collect();
-        Series::new(
+        NpvTerms::new(
             std::borrow::Cow::Owned(amounts.iter().rev().copied().collect()),
             rev_c,
             &rev_exps,
             true,
         )
     };
-    let series = Series::new(std::borrow::Cow::Borrowed(amounts), c, &exps, false);
+    let series = NpvTerms::new(std::borrow::Cow::Borrowed(amounts), c, &exps, false);
     let mut solvers = [
         Solver {
             s: &series,
@@ -1260,7 +1261,7 @@ pub fn find_roots(amounts: &[Decimal], offsets: &[i64], units_per_year: u64) -> 
     ];
 
     // Bracket: beyond these the first (resp. last) term dominates all others.
-    let bound = |s: &Series| {
+    let bound = |s: &NpvTerms| {
         let c0 = s.c[0].abs();
         let rest = s.abs_sum - c0;
         let n1 = s.n[1];
@@ -1918,7 +1919,7 @@ fn convex_case(
 
 /// f and f' at `y` in double-double (about 32 digits), each with an error bound: the
 /// second precision level, for clusters of roots that binary floats cannot separate.
-fn dd_eval(s: &Series, y: f64) -> [(f64, f64); 2] {
+fn dd_eval(s: &NpvTerms, y: f64) -> [(f64, f64); 2] {
     let my = Dd::from_f64(-y);
     let (mut f0, mut f1) = (Dd::ZERO, Dd::ZERO);
     let (mut size0, mut size1) = (0.0f64, 0.0f64);
@@ -1939,7 +1940,7 @@ fn dd_eval(s: &Series, y: f64) -> [(f64, f64); 2] {
 
 /// Narrows a simple root's bracket wider than 1e-9 relative by bisection on
 /// double-double signs, down to about 1e-13 or while the signs can be told.
-fn polish(s: &Series, r: &mut FoundRoot) {
+fn polish(s: &NpvTerms, r: &mut FoundRoot) {
     let width = |lo: f64, hi: f64| (hi - lo) / lo.abs().max(hi.abs()).max(1e-300);
     let tight = |lo: f64, hi: f64| width(lo, hi) <= 1e-13;
     // Binary floats usually leave 1e-13 to 1e-10 of relative width: only clearly wide
@@ -1968,7 +1969,7 @@ fn polish(s: &Series, r: &mut FoundRoot) {
 }
 
 /// Certified sign of f at `y` in double-double.
-fn dd_sign(s: &Series, y: f64) -> Option<i8> {
+fn dd_sign(s: &NpvTerms, y: f64) -> Option<i8> {
     let [(v, e), _] = dd_eval(s, y);
     if v > e {
         Some(1)
@@ -1982,7 +1983,7 @@ fn dd_sign(s: &Series, y: f64) -> Option<i8> {
 /// Brackets of the sign changes of f on [a, b] seen on a grid of double-double
 /// evaluations, when there are exactly `m` of them (so that, with at most `m` roots
 /// in [a, b] by Rolle, each bracket holds exactly one simple root).
-fn dd_brackets(s: &Series, a: f64, b: f64, sa: i8, sb: i8, m: usize) -> Option<Vec<(f64, f64)>> {
+fn dd_brackets(s: &NpvTerms, a: f64, b: f64, sa: i8, sb: i8, m: usize) -> Option<Vec<(f64, f64)>> {
     const GRID: usize = 64;
     let mut brackets = Vec::new();
     let mut prev = (a, sa);
@@ -2157,7 +2158,7 @@ fn settle_piece(
 /// ulps of y for a rate near 0% (1e-13 at 0.1%) or near -100%.
 #[allow(clippy::type_complexity)]
 fn exact_root_near(
-    s: &Series,
+    s: &NpvTerms,
     y: f64,
     lo: f64,
     hi: f64,
@@ -2206,7 +2207,7 @@ fn exact_root_near(
 
 /// If x = p/q (as 1 + rate per step) is a root of f, its multiplicity (1..=ORDERS-1),
 /// proven with exact integer arithmetic; None when it is not a root.
-fn exact_multiplicity(s: &Series, p: &BigInt, q: &BigInt) -> Option<u32> {
+fn exact_multiplicity(s: &NpvTerms, p: &BigInt, q: &BigInt) -> Option<u32> {
     let big_n = *s.n.last()? as u64;
     if big_n > EXACT_DEGREE_LIMIT {
         return None;
@@ -2453,7 +2454,7 @@ mod tests {
             let (amounts, exps) = series_of(&raw);
             proptest::prop_assume!(amounts.iter().all(|x| !x.is_zero()));
             let c: Vec<f64> = amounts.iter().map(|x| super::super::flows::amount_f64(*x)).collect();
-            let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+            let s = NpvTerms::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
             let mut sv = Solver { s: &s, in_search: false, dd_spent: 0, evals: 0, cache: Vec::new() };
             let (pa, pb) = (sv.point(a, 1), sv.point(a + w, 1));
             if let (Some(sa), Some(sb)) = (pa.sign(0), pb.sign(0)) {
@@ -2482,7 +2483,7 @@ mod tests {
             let amounts = [Decimal::ONE, -(g1 + g2), g1 * g2];
             let exps = [0u64, 1, 2];
             let c: Vec<f64> = amounts.iter().map(|x| super::super::flows::amount_f64(*x)).collect();
-            let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+            let s = NpvTerms::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
             let mut sv = Solver { s: &s, in_search: false, dd_spent: 0, evals: 0, cache: Vec::new() };
             let (y1, y2) = (g1.to_f64().unwrap().ln(), g2.to_f64().unwrap().ln());
             let a = y1 * (1.0 - left);
@@ -2510,7 +2511,7 @@ mod tests {
             let rs = find_roots(&amounts, &offsets, 1);
             let exps: Vec<u64> = offsets.iter().map(|&o| o as u64 / rs.step_units).collect();
             let c: Vec<f64> = amounts.iter().map(|x| super::super::flows::amount_f64(*x)).collect();
-            let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+            let s = NpvTerms::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
             for r in rs.roots.iter().filter(|r| r.multiplicity == 1 && r.y.abs() < 5.0) {
                 if let (Some(lo), Some(hi)) = (dd_sign(&s, r.lo), dd_sign(&s, r.hi)) {
                     proptest::prop_assert_ne!(lo, hi, "{:?}", r);
@@ -2535,8 +2536,8 @@ mod tests {
             let rev_c: Vec<f64> = c.iter().rev().copied().collect();
             let rev_exps: Vec<u64> = exps.iter().rev().map(|&e| last - e).collect();
             let rev_amounts: Vec<Decimal> = amounts.iter().rev().copied().collect();
-            let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
-            let r = Series::new(std::borrow::Cow::Borrowed(&rev_amounts[..]), rev_c, &rev_exps, true);
+            let s = NpvTerms::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+            let r = NpvTerms::new(std::borrow::Cow::Borrowed(&rev_amounts[..]), rev_c, &rev_exps, true);
             proptest::prop_assert_eq!(s.bounds_at(a, true), r.bounds_at(a, false));
             proptest::prop_assert_eq!(s.discounted(a, true).0, r.discounted(a, false).0);
         }
@@ -2553,7 +2554,7 @@ mod tests {
             .iter()
             .map(|a| super::super::flows::amount_f64(*a))
             .collect();
-        let s = Series::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
+        let s = NpvTerms::new(std::borrow::Cow::Borrowed(&amounts[..]), c, &exps, false);
         let roots = [1.05f64.ln(), 1.2f64.ln(), 1.6f64.ln()];
         for a in [0.0, 0.03, 0.1, 0.3, 0.5, 1.0, 3.0] {
             let above = roots.iter().filter(|&&r| r > a).count() as u32;
