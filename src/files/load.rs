@@ -251,7 +251,8 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
     let mut companions: Vec<(String, Vec<u8>)> = Vec::new();
     // CSV files that are not UTF-8: reported in the CSV file itself, at the bad byte.
     let mut undecodable: Vec<(String, DecodeError)> = Vec::new();
-    // The shown text of every CSV file read, by the name its diagnostics carry.
+    // The shown text of the CSV files that could not be decoded, by the name their
+    // diagnostics carry (those read whole are shown from `companions` on failure).
     let mut csv_texts: Vec<(String, String)> = Vec::new();
     let mut read = |name: &str| -> Result<String, String> {
         let full = folder.join(name);
@@ -267,7 +268,6 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
                 return Err(why);
             }
         };
-        csv_texts.push((full.display().to_string(), shown_text(&bytes)));
         if !companions.iter().any(|(n, _)| n == name) {
             companions.push((name.to_string(), bytes));
         }
@@ -335,7 +335,12 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
                 .collect();
             let mut failure = Failure::many(diagnostics, FailureClass::Invalid)
                 .with_source(shown.clone(), shown_text(text.as_bytes()));
-            for (file, text) in csv_texts {
+            // The lines of the CSV files that were read whole, made only now that a
+            // diagnostic may point into them.
+            let read_whole = companions
+                .iter()
+                .map(|(name, bytes)| (folder.join(name).display().to_string(), shown_text(bytes)));
+            for (file, text) in csv_texts.into_iter().chain(read_whole) {
                 failure = failure.with_source(file, text);
             }
             Err(failure)
