@@ -161,7 +161,7 @@ pub struct IrrReport {
 }
 
 /// Sign-change bounds on the number of IRRs.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub struct SignBounds {
     /// Sign changes of the flows: bounds all IRRs in (-100%, +inf).
     pub descartes: u32,
@@ -170,6 +170,26 @@ pub struct SignBounds {
     pub above_zero: Option<u32>,
     /// Sign changes of the backward cumulative sums: bounds IRRs in (-100%, 0%).
     pub below_zero: Option<u32>,
+}
+
+impl SignBounds {
+    /// Bounds when the flows do not sum to zero, so both cumulative-sum counts apply.
+    pub fn new(descartes: u32, above_zero: u32, below_zero: u32) -> Self {
+        Self {
+            descartes,
+            above_zero: Some(above_zero),
+            below_zero: Some(below_zero),
+        }
+    }
+
+    /// Bounds when the flows sum to zero: only the Descartes/Laguerre count applies.
+    pub fn without_sums(descartes: u32) -> Self {
+        Self {
+            descartes,
+            above_zero: None,
+            below_zero: None,
+        }
+    }
 }
 
 /// One real IRR.
