@@ -140,6 +140,40 @@ pub(crate) mod tests {
         );
     }
 
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(300))]
+        /// Differential: the fast NPV (double-double with an error bound, settled
+        /// exactly only when the cent is in doubt) against the exact rational NPV
+        /// rounded to the cent, on periodic flows, where the value is rational.
+        #[test]
+        fn fast_npv_to_the_cent_matches_the_exact_fraction(
+            cents_list in proptest::collection::vec(-10_000_000_000i64..10_000_000_000, 2..60),
+            bp in -9_900i64..50_000,
+            m in proptest::sample::select(vec![1u32, 2, 4, 12]),
+        ) {
+            let amounts: Vec<String> = cents_list
+                .iter()
+                .map(|c| Decimal::new(*c, 2).to_string())
+                .collect();
+            let refs: Vec<&str> = amounts.iter().map(String::as_str).collect();
+            let flows = periodic(&refs, m);
+            proptest::prop_assume!(!flows.points.is_empty());
+            let rate = Decimal::new(bp, 4);
+            let Some((num, den)) = npv_rational(&flows, rate) else {
+                return Ok(());
+            };
+            let want = exact_figure(&num, &den);
+            let got = npv_at(&flows, rate);
+            match (want, got) {
+                (NpvAt::Cents(a), Some(NpvAt::Cents(b))) => proptest::prop_assert_eq!(a, b),
+                (NpvAt::Beyond(a), Some(NpvAt::Beyond(b))) => {
+                    proptest::prop_assert_eq!(a.negative, b.negative)
+                }
+                (w, g) => proptest::prop_assert!(false, "exact {w:?}, fast {g:?}"),
+            }
+        }
+    }
+
     #[test]
     fn npv_exactly_half_a_cent_is_settled_exactly() {
         // Exact construction: 1,050,000.00525 a year out at 5% is worth 1,000,000.005,
