@@ -6,7 +6,7 @@ use crate::diag::{Diagnostic, Failure};
 use crate::engine::Analysis;
 use crate::files::output;
 use crate::model::Deal;
-use crate::{chart, pdf, report};
+use crate::{chart, pdf, report, worker};
 use chrono::NaiveDateTime;
 use sha2::{Digest, Sha256};
 use std::collections::BTreeMap;
@@ -30,6 +30,8 @@ pub struct MemoInputs<'a> {
     pub source_name: &'a str,
     /// Templates replacing built-in ones, by name.
     pub templates: BTreeMap<String, String>,
+    /// Font files of the house style, beside the bundled fonts.
+    pub fonts: pdf::HouseFonts,
     /// Creation time written into the PDF.
     pub created: NaiveDateTime,
 }
@@ -107,7 +109,7 @@ pub fn typeset_markup(
     charts: &[chart::ScenarioCharts],
     inputs: &MemoInputs<'_>,
 ) -> Result<Vec<u8>, Failure> {
-    let house_style = !inputs.templates.is_empty();
+    let house_style = !inputs.templates.is_empty() || !inputs.fonts.is_empty();
     let mut files: Vec<(String, Vec<u8>)> = charts
         .iter()
         .enumerate()
@@ -119,9 +121,25 @@ pub fn typeset_markup(
         ident: sha256_hex(inputs.source),
     };
     if house_style {
+        // A house style is typeset by a child process of this program, within a budget
+        // of time and memory (see `worker`).
+        let program = std::env::current_exe().map_err(|e| {
+            Failure::internal(Diagnostic::error(
+                "typeset",
+                format!("cannot find the candor program to typeset with: {e}"),
+            ))
+        })?;
         let names: Vec<String> = inputs.templates.keys().cloned().collect();
-        pdf::typeset_within(markup, &files, &options, pdf::HOUSE_STYLE_DEADLINE, &names)
-            .map_err(|d| blame(d, true))
+        worker::typeset_within(
+            &program,
+            markup,
+            &files,
+            &inputs.fonts,
+            &options,
+            worker::Budget::HOUSE_STYLE,
+            &names,
+        )
+        .map_err(|d| blame(d, true))
     } else {
         pdf::typeset(markup, &files, &options).map_err(|d| blame(d, false))
     }
@@ -161,11 +179,39 @@ pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
     output::write_atomically_with(path, bytes, &mut output::Disk)
 }
 
-/// Reads the templates of a house-style folder, by file name: every `*.j2` file must be
-/// named as a built-in template ([`report::BUILTIN_TEMPLATES`]) and is read by the
-/// rules of [`crate::files::load::read_companion`] (a regular file in the folder or
-/// below it, at most 10 MiB). Every problem is reported at once.
-pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
+/// A house style: templates that replace built-in ones, and font files added to the
+/// bundled fonts.
+#[derive(Debug, Clone, Default)]
+pub struct HouseStyle {
+    /// Templates by name (see [`report::BUILTIN_TEMPLATES`]).
+    pub templates: BTreeMap<String, String>,
+    /// Font files (`*.ttf`, `*.otf`, `*.ttc`, `*.otc`).
+    pub fonts: pdf::HouseFonts,
+}
+
+impl HouseStyle {
+    /// The names of every file read, relative to the folder, in order.
+    pub fn file_names(&self) -> Vec<String> {
+        let mut names: Vec<String> = self.templates.keys().cloned().collect();
+        names.extend(self.fonts.names().map(str::to_string));
+        names
+    }
+}
+
+/// True when a file name ends like a font file's.
+fn is_font_file(name: &str) -> bool {
+    let lower = name.to_ascii_lowercase();
+    [".ttf", ".otf", ".ttc", ".otc"]
+        .iter()
+        .any(|end| lower.ends_with(end))
+}
+
+/// Reads a house-style folder: every `*.j2` file must be named as a built-in template
+/// ([`report::BUILTIN_TEMPLATES`]), and every font file (`*.ttf`, `*.otf`, `*.ttc`,
+/// `*.otc`, at most [`crate::limits::MAX_HOUSE_FONTS`]) must hold a face typst can read.
+/// Each is read by the rules of [`crate::files::load::read_companion`] (a regular file in
+/// the folder or below it, at most 10 MiB). Every problem is reported at once.
+pub fn read_house_style(dir: &Path) -> Result<HouseStyle, Failure> {
     let shown = dir.display().to_string();
     let folder_error = |e: std::io::Error| {
         Failure::invalid(
@@ -179,6 +225,7 @@ pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
         .collect::<Vec<_>>()
         .join(", ");
     let mut names = Vec::new();
+    let mut font_names = Vec::new();
     for entry in std::fs::read_dir(dir).map_err(folder_error)? {
         let name = entry
             .map_err(folder_error)?
@@ -187,11 +234,14 @@ pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
             .to_string();
         if name.ends_with(".j2") {
             names.push(name);
+        } else if is_font_file(&name) {
+            font_names.push(name);
         }
     }
     // The folder's listing order is the file system's; the messages' order is not.
     names.sort();
-    let mut out = BTreeMap::new();
+    font_names.sort();
+    let mut style = HouseStyle::default();
     let mut problems = Vec::new();
     for name in names {
         let file = dir.join(&name).display().to_string();
@@ -215,7 +265,7 @@ pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
             });
         match text {
             Ok(text) => {
-                out.insert(name, text);
+                style.templates.insert(name, text);
             }
             Err(why) => problems.push(
                 Diagnostic::error("templates", format!("cannot read the template: {why}"))
@@ -223,20 +273,47 @@ pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
             ),
         }
     }
+    let limit = crate::limits::MAX_HOUSE_FONTS;
+    if font_names.len() > limit {
+        problems.push(
+            Diagnostic::error(
+                "templates",
+                format!(
+                    "the folder holds {} font files; a house style may add at most {limit}",
+                    font_names.len()
+                ),
+            )
+            .in_file(shown.clone())
+            .with_hint("keep the faces the house style names, and move the others away"),
+        );
+        font_names.clear();
+    }
+    for name in font_names {
+        let file = dir.join(&name).display().to_string();
+        let added = crate::files::load::read_companion(dir, &name)
+            .map_err(|(why, _)| why)
+            .and_then(|bytes| style.fonts.add(&name, bytes));
+        if let Err(why) = added {
+            problems.push(
+                Diagnostic::error("templates", format!("cannot use the font file: {why}"))
+                    .in_file(file),
+            );
+        }
+    }
     if !problems.is_empty() {
         return Err(Failure::many(problems, crate::diag::FailureClass::Invalid));
     }
-    if out.is_empty() {
+    if style.templates.is_empty() && style.fonts.is_empty() {
         return Err(Failure::invalid(
             Diagnostic::error(
                 "templates",
-                "the template folder holds no templates (files ending in `.j2`)",
+                "the template folder holds no templates (files ending in `.j2`) and no fonts",
             )
             .in_file(shown)
             .with_hint(format!("the built-in templates are named {accepted}")),
         ));
     }
-    Ok(out)
+    Ok(style)
 }
 
 /// Writes a memo's PDF at `path` through `sink` (the disk, or in tests one that fails

@@ -274,6 +274,7 @@ pub fn verify_version(dir: &Path, report: &mut VerifyReport) {
         source: &loaded.source,
         source_name: &source_name,
         templates,
+        fonts: crate::pdf::HouseFonts::default(),
         created,
     };
     // The section on changes is rebuilt from the version before this one by number,

@@ -5,11 +5,10 @@ use super::{fail, EXIT_OK};
 use crate::archive::{self, Filed};
 use crate::cli::MemoArgs;
 use crate::diag::{Diagnostic, Failure};
-use crate::files::load::load_deal;
+use crate::files::load::load_deal_with_fonts;
 use crate::files::output;
 use crate::memo::{self, MemoInputs};
 use crate::{engine, pdf, report};
-use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 /// Runs the command.
@@ -37,15 +36,27 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
             ));
         }
     };
-    let templates = match &args.templates {
-        Some(dir) => memo::read_templates(dir)?,
-        None => BTreeMap::new(),
+    let style = match &args.templates {
+        Some(dir) => memo::read_house_style(dir)?,
+        None => memo::HouseStyle::default(),
     };
-    let loaded = load_deal(&args.file)?;
+    if args.archive.is_some() && !style.fonts.is_empty() {
+        // `verify` rebuilds a filed memo from the version's own files, and a version
+        // keeps the house style's templates but not its fonts.
+        return Err(Failure::invalid(
+            Diagnostic::error(
+                "templates",
+                "a memo whose house style adds font files cannot be filed: the archive keeps \
+                 a house style's templates, not its fonts, so the filed memo could not be rebuilt",
+            )
+            .with_hint("file it with a house style of templates only, or without `--archive`"),
+        ));
+    }
+    let loaded = load_deal_with_fonts(&args.file, &style.fonts)?;
     // Every file this run reads; none of them may be a destination.
     let mut inputs = loaded.files();
     if let Some(dir) = &args.templates {
-        inputs.extend(templates.keys().map(|name| dir.join(name)));
+        inputs.extend(style.file_names().iter().map(|name| dir.join(name)));
     }
     // Every destination is checked before the memo is made, which takes a while.
     let out = match (&args.output, &args.archive) {
@@ -83,7 +94,8 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
     let inputs = MemoInputs {
         source: &loaded.source,
         source_name: &source_name,
-        templates,
+        templates: style.templates,
+        fonts: style.fonts,
         created,
     };
     let charts = memo::draw_charts(&analysis)?;

@@ -196,6 +196,7 @@ fn memo_of(analysis: &Analysis, deal: &Deal) -> MemoOutput {
             source: SOURCE,
             source_name: "pump.yaml",
             templates: BTreeMap::new(),
+            fonts: Default::default(),
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
         },
     )
@@ -405,6 +406,7 @@ fn every_example_deal_builds_a_memo() {
                 source: &loaded.source,
                 source_name: &name,
                 templates: BTreeMap::new(),
+                fonts: Default::default(),
                 created: loaded.deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
             },
         )
@@ -457,6 +459,7 @@ fn changes_since_a_version_print_literally() {
             source: SOURCE,
             source_name: "pump.yaml",
             templates: BTreeMap::new(),
+            fonts: Default::default(),
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
         },
         Some(changes),
@@ -495,6 +498,68 @@ fn memo_with_templates(dir: &Path, templates: &Path) -> (Option<i32>, String) {
         out.status.code(),
         String::from_utf8_lossy(&out.stderr).into_owned(),
     )
+}
+
+/// A house style can add font files: a deal whose name holds a Thai letter and a CJK
+/// ideograph, which no bundled font shows, fails `check` and `memo` alone, passes
+/// `check --templates` with a folder holding a font that has them, and makes a memo
+/// whose text holds them. A file that only looks like a font is refused by name.
+#[test]
+fn a_house_style_adds_fonts_for_characters_the_bundled_fonts_lack() {
+    let dir = tempfile::tempdir().unwrap();
+    let style = dir.path().join("style");
+    std::fs::create_dir(&style).unwrap();
+    // A font of our own, built by tests/fixtures/house-fonts/make_font.py.
+    std::fs::copy(
+        crate::support::root().join("tests/fixtures/house-fonts/candor-test-glyphs.ttf"),
+        style.join("glyphs.ttf"),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.path().join("deal.yaml"),
+        "candor: 1\ndeal: { name: Mill \u{0E01}\u{4E00}, currency: EUR, as_of: 2027-01-01 }\n\
+         hurdle_rate: 8%\ncash_flows:\n  every: year\n  amounts: [-100, 60, 60]\n",
+    )
+    .unwrap();
+    let run = |args: &[&str]| {
+        let out = crate::support::candor_in(dir.path(), args);
+        (out.status.code(), crate::support::text(&out.stderr))
+    };
+    let (code, err) = run(&["check", "deal.yaml"]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("unshowable-character") && err.contains("U+0E01"),
+        "{err}"
+    );
+    let (code, err) = run(&["check", "deal.yaml", "--templates", "style"]);
+    assert_eq!(code, Some(0), "{err}");
+    let (code, err) = run(&["memo", "deal.yaml", "-o", "m.pdf"]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(!dir.path().join("m.pdf").exists());
+    let (code, err) = run(&["memo", "deal.yaml", "-o", "m.pdf", "--templates", "style"]);
+    assert_eq!(code, Some(0), "{err}");
+    let pdf = crate::support::pdf::Pdf::open(&dir.path().join("m.pdf"));
+    assert!(
+        pdf.text().contains("Mill \u{0E01}\u{4E00}"),
+        "{}",
+        pdf.text()
+    );
+    assert!(
+        pdf.fonts()
+            .iter()
+            .any(|f| f.name.contains("Candor") && f.embedded),
+        "{:?}",
+        pdf.fonts()
+    );
+
+    std::fs::write(style.join("broken.otf"), "not a font").unwrap();
+    let (code, err) = run(&["memo", "deal.yaml", "-o", "m2.pdf", "--templates", "style"]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("broken.otf") && err.contains("not a font file"),
+        "{err}"
+    );
+    assert!(!dir.path().join("m2.pdf").exists());
 }
 
 /// A misspelt template name is an error listing the names a house style can use, and
@@ -539,29 +604,34 @@ fn house_style_files_are_named_and_read_by_the_rules() {
     assert!(!dir.path().join("m.pdf").exists());
 }
 
-/// A house style whose Typst code loops a billion times is given up after the deadline,
-/// with a diagnostic naming the house style's templates; markup that ends is typeset
-/// as by `typeset`. (The loop count is the issue's; one iteration takes well over a
-/// nanosecond, so it cannot end within the two seconds given.)
+/// A house style whose Typst code loops ten billion times is stopped at the deadline,
+/// and one that builds an array of a hundred million numbers at the memory budget,
+/// each with a diagnostic naming the house style's templates; markup that ends is
+/// typeset as by `typeset`. The child process is the built candor program. (One
+/// iteration takes well over a nanosecond, so ten billion cannot end within the two
+/// seconds given, and the inner arrays are small; the array of pairs needs several GiB,
+/// far past 512 MiB.)
 #[test]
-fn typesetting_a_house_style_has_a_deadline() {
+fn typesetting_a_house_style_has_a_budget_of_time_and_memory() {
+    use candor::worker::{typeset_within, Budget};
+    let program = Path::new(env!("CARGO_BIN_EXE_candor"));
     let options = candor::pdf::TypesetOptions {
         created: NaiveDate::from_ymd_opt(2026, 1, 2)
             .and_then(|d| d.and_hms_opt(0, 0, 0))
             .expect("time"),
-        ident: "deadline-test".to_string(),
+        ident: "budget-test".to_string(),
     };
     let names = vec!["style.typ.j2".to_string()];
-    let deadline = std::time::Duration::from_secs(2);
+    let budget = Budget {
+        deadline: std::time::Duration::from_secs(2),
+        memory: 512 << 20,
+    };
+    let fonts = Default::default();
+    let typeset =
+        |markup: &str| typeset_within(program, markup, &[], &fonts, &options, budget, &names);
     let started = std::time::Instant::now();
-    let err = candor::pdf::typeset_within(
-        "#for i in range(1000000000) {}\nEnd.",
-        &[],
-        &options,
-        deadline,
-        &names,
-    )
-    .expect_err("a billion iterations cannot finish in two seconds");
+    let err = typeset("#for i in range(100000) { for j in range(100000) {} }\nEnd.")
+        .expect_err("ten billion iterations cannot finish in two seconds");
     assert!(started.elapsed() < std::time::Duration::from_secs(10));
     assert_eq!(err.code, "typeset");
     assert!(err.message.contains("`style.typ.j2`"), "{}", err.message);
@@ -570,12 +640,36 @@ fn typesetting_a_house_style_has_a_deadline() {
         "{}",
         err.message
     );
-    let quick = candor::pdf::typeset_within("Hello.", &[], &options, deadline, &names)
-        .expect("a short document is typeset");
+
+    let big = Budget {
+        deadline: std::time::Duration::from_secs(60),
+        ..budget
+    };
+    let err = typeset_within(
+        program,
+        "#let a = range(100000000).map(i => (i, i))\n#a.len()",
+        &[],
+        &fonts,
+        &options,
+        big,
+        &names,
+    )
+    .expect_err("an array of several GiB cannot be built in 512 MiB");
+    assert_eq!(err.code, "typeset");
+    assert!(err.message.contains("more than 512 MiB"), "{}", err.message);
+    assert_eq!(err.file.as_deref(), Some("style.typ.j2"));
+
+    // A Typst error comes back as the diagnostic typesetting in-process gives.
+    let broken = typeset("#nope").expect_err("an unknown variable");
+    assert_eq!(
+        broken,
+        candor::pdf::typeset("#nope", &[], &options).unwrap_err()
+    );
+    let quick = typeset("Hello.").expect("a short document is typeset");
     assert_eq!(
         quick,
         candor::pdf::typeset("Hello.", &[], &options).unwrap(),
-        "the same bytes as without a deadline"
+        "the same bytes as in-process"
     );
 }
 

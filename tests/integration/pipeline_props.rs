@@ -243,6 +243,7 @@ proptest! {
             source: g.yaml.as_bytes(),
             source_name: "generated.yaml",
             templates: BTreeMap::new(),
+            fonts: Default::default(),
             created: chrono::NaiveDate::from_ymd_opt(2027, 1, 1)
                 .and_then(|d| d.and_hms_opt(0, 0, 0))
                 .expect("time"),
