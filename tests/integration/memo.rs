@@ -798,3 +798,26 @@ fn house_style_templates_are_bounded_and_their_errors_located() {
     assert!(err.contains("undefined value"), "{err}");
     assert!(err.contains("included from `memo.typ.j2`"), "{err}");
 }
+
+/// Without `-o`, the memo is named after the deal file (`kestrel.yaml` gives
+/// `kestrel.pdf`), so two deal files of one deal name in one folder write two memos.
+#[test]
+fn the_default_memo_is_named_after_the_deal_file() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let source =
+        std::fs::read(crate::support::example("kestrel-bay-cold-store.yaml")).expect("example");
+    for name in ["kestrel-high.yaml", "kestrel-low.yaml"] {
+        std::fs::write(dir.path().join(name), &source).expect("copy");
+        let out = crate::support::candor_in(dir.path(), &["memo", name]);
+        assert_eq!(
+            out.status.code(),
+            Some(0),
+            "{}",
+            crate::support::text(&out.stderr)
+        );
+    }
+    for pdf in ["kestrel-high.pdf", "kestrel-low.pdf"] {
+        assert!(dir.path().join(pdf).is_file(), "{pdf} missing");
+    }
+    assert!(!dir.path().join("kestrel-bay-cold-store.pdf").exists());
+}
