@@ -614,20 +614,22 @@ fn cash_flows(area: &Area<'_>, flows: &[FlowRow], currency: &str) -> DrawResult 
             (a.min(*v), b.max(*v))
         });
     let span = (xmax - xmin).max(unit);
-    let pad = span * 0.04;
-    let xrange = (xmin - pad)..(xmax + pad);
-    let yrange = padded(ymin, ymax);
     // Pixels of the plot, roughly: the canvas less the label areas and margins.
     let plot_w = f64::from(SIZE.0) - 84.0 - 34.0;
     let plot_h = f64::from(SIZE.1) - 52.0 - 20.0;
-    let per_px_x = (xrange.end - xrange.start) / plot_w;
-    let per_px_y = (yrange.end - yrange.start) / plot_h;
     let natural = if min_gap.is_finite() {
         min_gap * 0.6
     } else {
         unit * 0.6
     };
-    let width = natural.max(MIN_BAR_PX * per_px_x);
+    let width = natural.max(MIN_BAR_PX * span * 1.2 / plot_w);
+    // Room for half a bar and a little more on each side, so no bar meets the frame.
+    let pad = span * 0.04 + width / 2.0;
+    let xrange = (xmin - pad)..(xmax + pad);
+    let yrange = padded(ymin, ymax);
+    let per_px_x = (xrange.end - xrange.start) / plot_w;
+    let per_px_y = (yrange.end - yrange.start) / plot_h;
+    let width = width.max(MIN_BAR_PX * per_px_x);
     let min_height = MIN_BAR_HEIGHT_PX * per_px_y;
     let ticks: Vec<f64> = match origin {
         Some(first) => {
