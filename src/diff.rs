@@ -389,7 +389,7 @@ fn result_changes(a: &ScenarioAnalysis, b: &ScenarioAnalysis, currency: &str) ->
     );
     change(
         &mut figures,
-        "decision at hurdle",
+        "NPV rule at hurdle",
         Some(a.decision),
         Some(b.decision),
         |d: Decision| words::decision(d).to_string(),

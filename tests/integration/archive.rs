@@ -452,7 +452,7 @@ fn diff_names_the_flow_the_hurdle_and_the_lost_roots() {
         "  base case: IRR 5.60% disappeared",
         "  base case: IRR 15.65% disappeared",
         "  base case: IRR count: 2 → 0",
-        "  base case: decision at hurdle: accept → reject",
+        "  base case: NPV rule at hurdle: accept → reject",
         "  base case: caution multiple-irr no longer raised",
     ] {
         assert!(report.lines().any(|l| l == line), "`{line}` in\n{report}");
@@ -560,7 +560,7 @@ fn a_new_version_memo_names_the_changes_since_the_previous() {
          \u{2212}9,000,000.00.",
         "Base case: the IRR of 5.60% disappeared.",
         "Base case: the IRR of 15.65% disappeared.",
-        "Base case: decision at hurdle changed from accept to reject.",
+        "Base case: NPV rule at hurdle changed from accept to reject.",
         // The title block names the version the memo is filed as.
         "version 002 in the archive",
     ] {
