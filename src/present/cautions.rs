@@ -692,6 +692,56 @@ mod tests {
         assert!(text.contains("changes sign"), "{text}");
     }
 
+    /// The mixed-balance caution's claim (the balance is at times owed by the project,
+    /// at others by the investor) holds in the balance path it names, and the
+    /// IRR-NPV conflict names the side of the hurdle the IRRs are on.
+    #[test]
+    fn mixed_balance_and_conflict_claims_hold_in_the_numbers() {
+        // The mine (docs/methods.md, Check values): IRRs 3.50% and 19.54%, NPV at 10%
+        // = 2.53 > 0.
+        let case = Case::new(mine(), &[(0.03503024, 1), (0.19542150, 1)], 0.1);
+        let c = case.run();
+        let mixed = c
+            .iter()
+            .find(|x| x.code == "mixed-balance")
+            .expect("raised");
+        let named: Vec<&Root> = case
+            .roots
+            .iter()
+            .filter(|r| {
+                mixed
+                    .text
+                    .contains(&percent(r.annual_rate.unwrap(), 2, Style::Prose))
+            })
+            .collect();
+        assert!(!named.is_empty(), "{}", mixed.text);
+        for r in named {
+            let path = &r.balance_path[..r.balance_path.len() - 1];
+            assert!(
+                path.iter().any(|b| b.balance < Decimal::ZERO),
+                "{}",
+                mixed.text
+            );
+            assert!(
+                path.iter().any(|b| b.balance > Decimal::ZERO),
+                "{}",
+                mixed.text
+            );
+        }
+        let conflict = c
+            .iter()
+            .find(|x| x.code == "irr-npv-conflict")
+            .expect("raised");
+        // 3.50% is below the 10% hurdle while the NPV is positive.
+        assert!(
+            conflict.text.contains("The IRR of 3.50% is below"),
+            "{}",
+            conflict.text
+        );
+        assert!(conflict.text.contains("EUR 2.53"), "{}", conflict.text);
+        assert!(conflict.text.contains("adds value"), "{}", conflict.text);
+    }
+
     /// The net-borrowing caution says who pays first as the deal's own flows do.
     #[test]
     fn net_borrowing_says_who_pays_first_as_the_flows_do() {
