@@ -419,15 +419,21 @@ fn npv_profile(
         } else {
             (plotters::style::text_anchor::VPos::Top, 10)
         };
+        // Next to the hurdle line, the number moves to the side away from it.
+        let gap = chart.backend_coord(&p).0 - chart.backend_coord(&(hurdle, 0.0)).0;
+        let (hpos, dx) = if !x.contains(&hurdle) || gap.abs() >= 14 {
+            (plotters::style::text_anchor::HPos::Center, 0)
+        } else if gap >= 0 {
+            (plotters::style::text_anchor::HPos::Left, 6)
+        } else {
+            (plotters::style::text_anchor::HPos::Right, -6)
+        };
         chart.draw_series(std::iter::once(
             EmptyElement::at(p)
                 + Text::new(
                     format!("{}", i + 1),
-                    (0, dy),
-                    font(FONT_SIZE).pos(plotters::style::text_anchor::Pos::new(
-                        plotters::style::text_anchor::HPos::Center,
-                        vpos,
-                    )),
+                    (dx, dy),
+                    font(FONT_SIZE).pos(plotters::style::text_anchor::Pos::new(hpos, vpos)),
                 ),
         ))?;
         let text = entries[usize::from(x.contains(&hurdle)) + n].clone();
