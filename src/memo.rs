@@ -50,19 +50,21 @@ pub fn build_memo(
     deal: &Deal,
     inputs: MemoInputs<'_>,
 ) -> Result<MemoOutput, Failure> {
-    build_memo_with_changes(analysis, deal, inputs, None)
+    build_memo_with_changes(analysis, deal, inputs, None, None)
 }
 
 /// Builds the memo of a filed version, with its section on what changed since the
-/// previous version (`None` for a first version, which has no such section).
+/// previous version (`None` for a first version, which has no such section) and the
+/// version it is filed as, which its title block shows.
 pub fn build_memo_with_changes(
     analysis: &Analysis,
     deal: &Deal,
     inputs: MemoInputs<'_>,
     changes: Option<report::ChangesSince>,
+    filed_version: Option<&str>,
 ) -> Result<MemoOutput, Failure> {
     let charts = draw_charts(analysis)?;
-    let markup = render_markup(analysis, deal, &inputs, &charts, changes)?;
+    let markup = render_markup(analysis, deal, &inputs, &charts, changes, filed_version)?;
     let pdf = typeset_markup(&markup, &charts, &inputs)?;
     Ok(MemoOutput { markup, pdf })
 }
@@ -90,6 +92,7 @@ pub fn render_markup(
     inputs: &MemoInputs<'_>,
     charts: &[chart::ScenarioCharts],
     changes: Option<report::ChangesSince>,
+    filed_version: Option<&str>,
 ) -> Result<String, Failure> {
     let house_style = !inputs.templates.is_empty();
     let ctx = report::MemoContext {
@@ -99,6 +102,7 @@ pub fn render_markup(
         charts: charts.to_vec(),
         templates: inputs.templates.clone(),
         changes,
+        filed_version: filed_version.map(str::to_string),
     };
     report::render(analysis, deal, &ctx).map_err(|d| blame(d, house_style))
 }
@@ -167,10 +171,20 @@ pub fn slug(name: &str) -> String {
     }
 }
 
-/// The default output path: the slug of the deal's name with `.pdf`, next to the deal.
+/// The default output path: the deal file's own name with `.pdf` for its extension,
+/// next to the deal (`brannock-mill-hydro.yaml` gives `brannock-mill-hydro.pdf`), so two
+/// deal files in one folder never write the same memo. The slug of the deal's name
+/// stands in only when the file has no name to use.
 pub fn default_output(deal_path: &Path, deal_name: &str) -> PathBuf {
     let folder = deal_path.parent().unwrap_or_else(|| Path::new(""));
-    folder.join(format!("{}.pdf", slug(deal_name)))
+    let stem = deal_path
+        .file_stem()
+        .map(|s| s.to_string_lossy().to_string())
+        .filter(|s| !s.is_empty() && !s.starts_with('.'));
+    match stem {
+        Some(stem) => folder.join(format!("{stem}.pdf")),
+        None => folder.join(format!("{}.pdf", slug(deal_name))),
+    }
 }
 
 /// Writes bytes to `path` through a temporary file in the same folder, so the file

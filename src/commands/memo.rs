@@ -102,7 +102,20 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
     // The memo is made once, or under `--archive` once per filing attempt, since its
     // section on changes depends on the version it will follow.
     let make_pdf = |changes: Option<report::ChangesSince>| -> Result<Vec<u8>, Failure> {
-        let markup = memo::render_markup(&analysis, &loaded.deal, &inputs, &charts, changes)?;
+        // A filed memo's title block names the version it becomes: the one after the
+        // version its section on changes compares with, or the first.
+        let filed_as = args
+            .archive
+            .as_ref()
+            .map(|_| version_after(changes.as_ref().map(|c| c.version.as_str())));
+        let markup = memo::render_markup(
+            &analysis,
+            &loaded.deal,
+            &inputs,
+            &charts,
+            changes,
+            filed_as.as_deref(),
+        )?;
         // The markup is written before typesetting so that a failing house style can be
         // inspected.
         if let Some(path) = &emit_typst {
@@ -151,4 +164,26 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
     memo::write_memo(&out, &pdf, &mut output::Disk)?;
     eprintln!("wrote {}", out.display());
     Ok(())
+}
+
+/// The archive version that follows `previous` (`002` after `001`), or `001`. Versions
+/// are numbered without gaps, and a filing compares with the version just before the
+/// one it becomes.
+fn version_after(previous: Option<&str>) -> String {
+    let next = previous
+        .and_then(|v| v.parse::<u32>().ok())
+        .map_or(1, |n| n.saturating_add(1));
+    format!("{next:03}")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::version_after;
+
+    #[test]
+    fn versions_follow_in_order() {
+        assert_eq!(version_after(None), "001");
+        assert_eq!(version_after(Some("001")), "002");
+        assert_eq!(version_after(Some("099")), "100");
+    }
 }

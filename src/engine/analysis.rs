@@ -281,15 +281,51 @@ pub struct ComplexReading {
     pub decision: Decision,
 }
 
-/// Payback figures, in years since the series' start.
+/// Payback figures, in years since the series' start (docs/methods.md, "Other figures").
 #[derive(Debug, Clone, Serialize)]
 pub struct Payback {
-    /// First time the cumulative undiscounted flows reach zero or more, interpolated.
+    /// The first time after which the cumulative undiscounted flows stay at zero or
+    /// more, interpolated within the period for periodic flows, the flow's own time for
+    /// dated flows; `None` when not reached or not applicable (see `status`).
     pub simple_years: Option<f64>,
     /// The same with flows discounted at the hurdle.
     pub discounted_years: Option<f64>,
-    /// True when the cumulative position turns negative again after the simple payback.
+    /// True when an earlier recovery of the undiscounted total did not last: it turned
+    /// non-negative after being negative, then negative again.
     pub turns_negative_again: bool,
+    /// Whether the simple payback is reached within the forecast.
+    pub status: PaybackStatus,
+    /// Whether the discounted payback is reached within the forecast.
+    pub discounted_status: PaybackStatus,
+    /// How the time is placed: within the paying flow's period, or at its date.
+    pub method: PaybackMethod,
+    /// For dated flows, the date of the flow that pays back (`YYYY-MM-DD`).
+    pub simple_date: Option<String>,
+    /// For dated flows, the date of the flow that pays back the discounted total.
+    pub discounted_date: Option<String>,
+}
+
+/// Whether a payback is reached.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum PaybackStatus {
+    /// The running total, once negative, turns non-negative and stays so.
+    Reached,
+    /// The running total is still negative at the last flow.
+    NotReached,
+    /// The investor is paid first (or never out of pocket): nothing to pay back.
+    NotApplicable,
+}
+
+/// How the payback time is placed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum PaybackMethod {
+    /// Periodic flows: linear within the period of the flow that pays back, as if that
+    /// flow arrived evenly over its period.
+    WithinPeriod,
+    /// Dated flows: the date of the flow that pays back; no interpolation between dates.
+    FlowDate,
 }
 
 /// One point of the NPV profile.
