@@ -31,6 +31,7 @@ pub const BUILTIN_TEMPLATES: &[(&str, &str)] = &[
         "scenario.typ.j2",
         include_str!("../templates/scenario.typ.j2"),
     ),
+    ("lines.typ.j2", include_str!("../templates/lines.typ.j2")),
 ];
 
 /// Balance paths longer than this are shown as their first and last rows.
@@ -364,6 +365,10 @@ struct View {
     title: String,
     currency: String,
     as_of: String,
+    /// How the amounts were entered (deal format version 2).
+    amounts: Option<String>,
+    /// The deal's basis (deal format version 2).
+    basis: Option<String>,
     draft: bool,
     status: String,
     hash: String,
@@ -463,6 +468,23 @@ struct ScenarioView {
     charts: ChartPaths,
     profile_range: Option<String>,
     roots_outside: Vec<String>,
+    /// The deal's lines in this scenario (version 2; empty otherwise).
+    lines: Vec<LineView>,
+    /// Peak exposure in words (version 2).
+    exposure: Option<String>,
+    /// Committed outflows (version 2).
+    committed: Option<String>,
+}
+
+/// One line of a scenario, for its table.
+#[derive(Debug, Serialize)]
+struct LineView {
+    label: String,
+    note: Option<String>,
+    count: usize,
+    inflows: String,
+    outflows: String,
+    net: String,
 }
 
 #[derive(Debug, Serialize)]
@@ -640,7 +662,10 @@ fn scenario_view(
     ScenarioView {
         index,
         name: s.name.clone(),
-        label: words::scenario_label(&s.name),
+        label: s
+            .label
+            .clone()
+            .unwrap_or_else(|| words::scenario_label(&s.name)),
         description,
         hurdle: present::percent(s.hurdle_rate, 2, PRINT),
         finance: present::percent(s.finance_rate, 2, PRINT),
@@ -710,6 +735,24 @@ fn scenario_view(
             )
         }),
         roots_outside,
+        lines: s
+            .lines
+            .iter()
+            .flatten()
+            .map(|l| LineView {
+                label: l.label.clone(),
+                note: l.note.clone(),
+                count: l.flows.len(),
+                inflows: present::money(l.inflows, PRINT),
+                outflows: present::money(l.outflows, PRINT),
+                net: present::money(l.net, PRINT),
+            })
+            .collect(),
+        exposure: s
+            .peak_exposure
+            .as_ref()
+            .map(|e| present::lines::exposure_words(e, currency, PRINT)),
+        committed: s.committed_outflows.map(|c| present::money(c, PRINT)),
     }
 }
 
@@ -729,6 +772,10 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         title: deal.name.clone(),
         currency: deal.currency.clone(),
         as_of: present::date_long(deal.as_of),
+        amounts: analysis
+            .units
+            .map(|u| present::lines::units_words(u, &deal.currency)),
+        basis: analysis.basis.as_ref().map(present::lines::basis_words),
         draft,
         status: status.to_string(),
         hash: ctx.source_sha256.clone(),

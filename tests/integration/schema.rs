@@ -103,7 +103,7 @@ fn malformed_fixtures_are_rejected() {
         "unknown-value--frequency",
         "unknown-value--day-count",
         "unknown-value--signoff-decision",
-        "unknown-version--two",
+        "unknown-version--three",
         "bad-currency--euro",
         "bad-number--rate-as-text",
         "flows-conflict--periodic-and-dated",
