@@ -273,6 +273,9 @@ pub struct Component {
     pub label: String,
     /// The line's note, if any.
     pub note: Option<String>,
+    /// The line's fields as written (`stream.growth` -> `2%`), scalars and short
+    /// lists of scalars only; empty for a version-1 deal.
+    pub fields: Vec<(String, String)>,
     /// The line's flows, on the scenario's clock (offsets from the scenario's start),
     /// in time order; zero amounts kept where the line states them.
     pub flows: Flows,
@@ -307,6 +310,7 @@ pub fn split_by_sign(flows: &Flows) -> Vec<Component> {
         key: key.to_string(),
         label: label.to_string(),
         note: None,
+        fields: Vec::new(),
         flows: Flows {
             points: flows.points.iter().filter(|p| keep(p)).cloned().collect(),
             units_per_year: flows.units_per_year,

@@ -168,3 +168,92 @@ fn a_real_basis_with_rates_not_marked_real_is_cautioned() {
         .iter()
         .any(|c| c["code"] == "real-amounts-nominal-rates"));
 }
+
+#[test]
+fn diff_names_the_line_and_the_field_that_changed() {
+    let dir = tempfile::tempdir().unwrap();
+    let old = dir.path().join("old.yaml");
+    let new = dir.path().join("new.yaml");
+    let text =
+        std::fs::read_to_string(root().join("example-deals/corrie-vale-quarry.yaml")).unwrap();
+    std::fs::write(&old, &text).unwrap();
+    let edited = text
+        .replace("      growth: 0%  ", "      growth: 1%  ")
+        .replace(
+            "    factors: { sales: 0.85 }",
+            "    factors: { sales: 0.8 }",
+        );
+    assert_ne!(edited, text);
+    std::fs::write(&new, edited).unwrap();
+    let out = candor(&[
+        "diff",
+        old.to_str().unwrap(),
+        new.to_str().unwrap(),
+        "--json",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text_of(&out.stderr));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let inputs = v["inputs"].as_array().unwrap();
+    let find = |field: &str| inputs.iter().find(|c| c["field"] == field).cloned();
+    let growth = find("lines.sales.stream.growth").expect("the growth change");
+    assert_eq!(
+        (growth["old"].as_str(), growth["new"].as_str()),
+        (Some("0%"), Some("1%"))
+    );
+    assert!(find("lines.sales (amounts)").is_some());
+    let weak = find("scenarios.weak_demand.description").expect("the factor change");
+    assert_eq!(weak["new"], "sales x 0.8");
+}
+
+fn text_of(bytes: &[u8]) -> String {
+    String::from_utf8_lossy(bytes).into_owned()
+}
+
+#[test]
+fn watch_and_archive_take_the_csv_files_of_lines() {
+    // Two lines read one CSV file: it is watched, and filed, once.
+    let deal = root().join("example-deals/marlow-fen-solar.yaml");
+    let watched = candor::commands::watch::watched_files(&deal, &[]);
+    let names: Vec<String> = watched
+        .iter()
+        .map(|p| p.file_name().unwrap().to_string_lossy().into_owned())
+        .collect();
+    assert_eq!(
+        names,
+        ["marlow-fen-solar.yaml", "marlow-fen-solar-costs.csv"]
+    );
+    let dir = tempfile::tempdir().unwrap();
+    for name in ["marlow-fen-solar.yaml", "marlow-fen-solar-costs.csv"] {
+        std::fs::copy(
+            root().join("example-deals").join(name),
+            dir.path().join(name),
+        )
+        .unwrap();
+    }
+    let archive = dir.path().join("archive");
+    let out = candor(&[
+        "memo",
+        dir.path().join("marlow-fen-solar.yaml").to_str().unwrap(),
+        "--archive",
+        archive.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text_of(&out.stderr));
+    let version = archive.join("marlow-fen-solar-farm").join("001");
+    let manifest: Value =
+        serde_json::from_slice(&std::fs::read(version.join("manifest.json")).unwrap()).unwrap();
+    let paths: Vec<&str> = manifest["files"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|f| f["path"].as_str().unwrap())
+        .collect();
+    assert!(
+        paths.contains(&"inputs/marlow-fen-solar-costs.csv"),
+        "{paths:?}"
+    );
+    let out = candor(&[
+        "verify",
+        archive.join("marlow-fen-solar-farm").to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", text_of(&out.stderr));
+}

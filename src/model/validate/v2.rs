@@ -103,6 +103,7 @@ struct LineFlows {
     at: Position,
     flows: Vec<RawFlow<At>>,
     terminal: Option<(Terminal, Decimal)>,
+    fields: Vec<(String, String)>,
 }
 
 /// Where a scenario moves a line: the line's key, and the position and field path
@@ -623,7 +624,29 @@ fn line_flows(
         at: def.at,
         flows,
         terminal,
+        fields: def
+            .entries
+            .iter()
+            .filter_map(|e| Some((e.name.clone(), field_text(e.node)?)))
+            .collect(),
     })
+}
+
+/// A field's value as written, for `candor diff`: a scalar's text, or a list of
+/// scalars joined with ", " in brackets; `None` for a mapping or a list of mappings
+/// (their own fields, or the amounts, say what changed).
+fn field_text(node: &Node) -> Option<String> {
+    if let Some(s) = node.scalar() {
+        return Some(s.trim().to_string());
+    }
+    match &node.value {
+        Value::Sequence(items) if items.len() <= 50 => {
+            let parts: Option<Vec<&str>> =
+                items.iter().map(|n| n.scalar().map(str::trim)).collect();
+            Some(format!("[{}]", parts?.join(", ")))
+        }
+        _ => None,
+    }
 }
 
 /// `amounts` (and `from`): one amount a period from period `from` (default 0).
@@ -1259,6 +1282,7 @@ fn component(l: &LineFlows, flows: Flows) -> Component {
         key: l.key.clone(),
         label: l.label.clone(),
         note: l.note.clone(),
+        fields: l.fields.clone(),
         flows,
     }
 }
