@@ -114,6 +114,10 @@ type Move = (String, Position, String);
 struct Setting {
     clock: Clock,
     units: Units,
+    /// Line amounts that may still be read over the base case and every scenario
+    /// ([`MAX_TOTAL_FLOWS`]): lines are resolved again for each scenario, so a short
+    /// file of long streams and many scenarios is bounded in memory and time.
+    budget: std::cell::Cell<usize>,
 }
 
 pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
@@ -139,6 +143,7 @@ pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
     let setting = Setting {
         clock: clock?,
         units: units?,
+        budget: std::cell::Cell::new(MAX_TOTAL_FLOWS),
     };
     let horizon = top
         .get("horizon")
@@ -447,8 +452,27 @@ fn resolve_lines(
     let mut out = Vec::with_capacity(defs.len());
     let mut ok = true;
     for def in defs {
+        if setting.budget.get() == 0 {
+            ctx.hint(
+                "too-many-flows",
+                format!(
+                    "the lines of the base case and the scenarios up to line `{}` ({}) hold more than {} amounts in all",
+                    def.key,
+                    def.path,
+                    values::grouped(MAX_TOTAL_FLOWS as u64)
+                ),
+                &def.path,
+                def.at,
+                "aggregate the amounts to a coarser period, or keep fewer scenarios",
+            );
+            return None;
+        }
         match line_flows(ctx, setting, def) {
-            Some(l) => out.push(l),
+            Some(l) => {
+                let left = setting.budget.get().saturating_sub(l.flows.len());
+                setting.budget.set(left);
+                out.push(l);
+            }
             None => ok = false,
         }
     }
