@@ -1116,7 +1116,7 @@ impl Validator<'_, '_> {
                     self.hint(
                     "past-horizon",
                     format!(
-                        "scenario `{name}` moves line `{}` to {}, past {end} ({})",
+                        "scenario `{name}` puts an amount of line `{}` at {}, past {end} ({})",
                         l.key,
                         time_words(&past),
                         time_words(&horizon)
