@@ -22,6 +22,8 @@ const TOP: &[&str] = &[
     "scenarios",
     "memo",
     "signoff",
+    // Not a field of version 2: read only to say so plainly (see `build`).
+    "cash_flows",
 ];
 const DEAL: &[&str] = &["name", "currency", "as_of", "units", "basis"];
 const BASIS: &[&str] = &["prices", "tax", "rates"];
@@ -122,6 +124,15 @@ struct Setting {
 
 pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
     let top = ctx.fields(root, "", TOP)?;
+    if let Some(k) = top.key("cash_flows") {
+        ctx.hint(
+            "unknown-field",
+            "`cash_flows` is a field of format version 1, not of version 2",
+            "cash_flows",
+            k.position,
+            "in version 2 give `timing` and named `lines` (see `candor new`), or write `candor: 1` to keep `cash_flows`",
+        );
+    }
     let (header, deal_fields) = match deal_header(ctx, &top, DEAL) {
         Some((h, f)) => (h, Some(f)),
         None => (None, None),
@@ -140,14 +151,6 @@ pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
     let clock = ctx
         .required(&top, "", "timing", "{ every: year, start: 2027-01-01 }")
         .and_then(|n| timing(ctx, n));
-    let setting = Setting {
-        clock: clock?,
-        units: units?,
-        budget: std::cell::Cell::new(MAX_TOTAL_FLOWS),
-    };
-    let horizon = top
-        .get("horizon")
-        .map(|n| time(ctx, &setting.clock, n, "horizon"));
     let lines_node = ctx.required(
         &top,
         "",
@@ -155,6 +158,20 @@ pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
         "{ sales: { label: Sales, amounts: [0, 600, 600] } }",
     );
     let defs = lines_node.map_or_else(Vec::new, |n| line_defs(ctx, n, "lines"));
+    let (Some(clock), Some(units)) = (clock, units) else {
+        // Lines cannot be placed without their timing or unit; the narrative can
+        // still be checked, so that every problem is reported at once.
+        let _ = narrative(ctx, &top);
+        return None;
+    };
+    let setting = Setting {
+        clock,
+        units,
+        budget: std::cell::Cell::new(MAX_TOTAL_FLOWS),
+    };
+    let horizon = top
+        .get("horizon")
+        .map(|n| time(ctx, &setting.clock, n, "horizon"));
 
     let mut scenarios = Vec::new();
     let base_lines = resolve_lines(ctx, &setting, &defs);
