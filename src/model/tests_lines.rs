@@ -360,3 +360,17 @@ fn malformed_lines_report_every_problem() {
         ]
     );
 }
+
+#[test]
+fn line_amounts_are_bounded_over_every_scenario() {
+    // Nine daily streams of 100,000 amounts (900,000) fit the base case; the first
+    // scenario resolves them again and passes the 1,000,000 amounts read in all, so
+    // the file is refused once, at the line that reached the bound.
+    let lines: String = (0..9)
+        .map(|i| format!("  l{i}: {{ stream: {{ first: 1, start: 0, periods: 100000 }} }}\n"))
+        .collect();
+    let text = format!(
+        "candor: 2\ndeal: {{ name: T, currency: EUR, as_of: 2027-01-01 }}\nhurdle_rate: 9%\ntiming: {{ every: day }}\nlines:\n  b: {{ amounts: [-1000] }}\n{lines}scenarios:\n  s1: {{ hurdle_rate: 10% }}\n  s2: {{ hurdle_rate: 11% }}\n"
+    );
+    assert_eq!(codes(&text), ["too-many-flows"]);
+}

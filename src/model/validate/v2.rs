@@ -206,6 +206,10 @@ pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
     if let Some(s) = top.get("scenarios") {
         let mut total: usize = scenarios.iter().map(|s| s.flows.points.len()).sum();
         each_scenario(ctx, s, SCENARIO_CHANGES, |ctx, name, k, v| {
+            if setting.budget.get() == 0 {
+                // Reported once, at the line that used the last of it.
+                return false;
+            }
             let path = format!("scenarios.{name}");
             let Some(sc) = scenario(ctx, &setting, name, v, &defs, rates, horizon_at) else {
                 return true;
