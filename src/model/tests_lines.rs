@@ -374,3 +374,63 @@ fn line_amounts_are_bounded_over_every_scenario() {
     );
     assert_eq!(codes(&text), ["too-many-flows"]);
 }
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(64))]
+
+    /// Lines of every form that falls on a periodic clock (lists from a period, streams
+    /// with growth and a ramp, a terminal value), in any unit, with a scenario that
+    /// scales and shifts one of them: in every scenario the lines add up, time by time,
+    /// to the flows, and the net flows' total is the lines' total (common practice:
+    /// addition is exact on decimals).
+    #[test]
+    fn lines_always_sum_to_the_flows(
+        lists in proptest::collection::vec(
+            (0i64..6, proptest::collection::vec(-5_000i64..5_000, 1..6)),
+            1..4,
+        ),
+        stream in (1i64..2_000, 0i64..4, 1u32..12, -20i64..40, proptest::bool::ANY),
+        unit in 0usize..3,
+        factor in 0u32..300,
+        shift in 0i64..3,
+    ) {
+        let mut text = format!(
+            "candor: 2\ndeal: {{ name: T, currency: EUR, as_of: 2027-01-01, units: {} }}\nhurdle_rate: 9%\ntiming: {{ every: quarter }}\nlines:\n",
+            Units::WORDS[unit]
+        );
+        for (i, (from, amounts)) in lists.iter().enumerate() {
+            let list: Vec<String> = amounts.iter().map(|a| format!("{}.5", a)).collect();
+            text.push_str(&format!("  list{i}: {{ amounts: [{}], from: {from} }}\n", list.join(", ")));
+        }
+        let (first, start, periods, growth, per_period) = stream;
+        text.push_str(&format!(
+            "  stream: {{ stream: {{ first: {first}, start: {start}, periods: {periods}, growth: {growth}.5%, growth_per: {}, ramp: [30%, 70%] }} }}\n",
+            if per_period { "period" } else { "year" }
+        ));
+        text.push_str("  exit: { terminal: { at: 20, next_flow: 10, growth: 1%, discount: 8% } }\n");
+        text.push_str(&format!(
+            "scenarios:\n  s: {{ factors: {{ list0: {}.{:02} }}, shift: {{ stream: {shift} }}, extend_horizon: true }}\n",
+            factor / 100,
+            factor % 100
+        ));
+        let deal = match check(&text) {
+            Ok(d) => d,
+            // Lines that cancel at every time are refused (`all-zero-flows`): nothing
+            // to sum.
+            Err(e) => {
+                proptest::prop_assert!(e.iter().all(|d| d.code == "all-zero-flows"), "{e:?}");
+                return Ok(());
+            }
+        };
+        assert_sums(&deal);
+        for s in &deal.scenarios {
+            let lines: Decimal = s
+                .components
+                .iter()
+                .map(|c| c.inflows() + c.outflows())
+                .sum();
+            let flows: Decimal = s.flows.points.iter().map(|p| p.amount).sum();
+            proptest::prop_assert_eq!(lines, flows);
+        }
+    }
+}
