@@ -136,6 +136,90 @@ fn clock_words(clock: &Clock) -> String {
     }
 }
 
+/// Changes to the deal's lines (format version 2): units, basis, and per line of the
+/// base case the line added or removed, each field written differently, and its
+/// amounts.
+fn line_changes(out: &mut Vec<Change>, old: &Deal, new: &Deal, a: &Scenario, b: &Scenario) {
+    change(
+        out,
+        "deal.units",
+        Some(old.units.as_str()),
+        Some(new.units.as_str()),
+        str::to_string,
+    );
+    change(
+        out,
+        "deal.basis",
+        old.basis.map(|x| present::lines::basis_words(&x)),
+        new.basis.map(|x| present::lines::basis_words(&x)),
+        |x| x,
+    );
+    if old.version < 2 && new.version < 2 {
+        return;
+    }
+    for l in &a.components {
+        let path = format!("lines.{}", l.key);
+        let Some(m) = b.components.iter().find(|m| m.key == l.key) else {
+            change(out, &path, Some(&l.label), None, String::clone);
+            continue;
+        };
+        let names = l
+            .fields
+            .iter()
+            .chain(&m.fields)
+            .map(|(k, _)| k.as_str())
+            .fold(Vec::new(), |mut v: Vec<&str>, k| {
+                if !v.contains(&k) {
+                    v.push(k);
+                }
+                v
+            });
+        for name in names {
+            let get = |c: &crate::model::Component| {
+                c.fields
+                    .iter()
+                    .find(|(k, _)| k == name)
+                    .map(|(_, v)| v.clone())
+            };
+            change(out, &format!("{path}.{name}"), get(l), get(m), |x| x);
+        }
+        let amounts = |c: &crate::model::Component| -> Vec<(i64, Decimal)> {
+            c.flows
+                .points
+                .iter()
+                .map(|p| (p.offset, p.amount))
+                .collect()
+        };
+        if amounts(l) != amounts(m) {
+            let total = |c: &crate::model::Component| {
+                format!(
+                    "{} amounts, net {}",
+                    c.flows.points.len(),
+                    present::money(c.inflows() + c.outflows(), Style::Print)
+                )
+            };
+            change(
+                out,
+                &format!("{path} (amounts)"),
+                Some(total(l)),
+                Some(total(m)),
+                |x| x,
+            );
+        }
+    }
+    for m in &b.components {
+        if !a.components.iter().any(|l| l.key == m.key) {
+            change(
+                out,
+                &format!("lines.{}", m.key),
+                None,
+                Some(&m.label),
+                String::clone,
+            );
+        }
+    }
+}
+
 fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
     let mut out = Vec::new();
     let s = |x: &String| x.clone();
@@ -182,6 +266,46 @@ fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
                     Some(&a.description),
                     Some(&b.description),
                     s,
+                );
+            }
+        }
+    }
+    if let (Some(a), Some(b)) = (old.scenarios.first(), new.scenarios.first()) {
+        line_changes(&mut out, old, new, a, b);
+    }
+    for a in old.scenarios.iter().skip(1) {
+        if let Some(b) = new.scenarios.iter().find(|b| b.name == a.name) {
+            let path = format!("scenarios.{}", a.name);
+            change(
+                &mut out,
+                &format!("{path}.label"),
+                a.label.as_ref(),
+                b.label.as_ref(),
+                s,
+            );
+            for (field, x, y) in [
+                ("hurdle_rate", a.rates.hurdle, b.rates.hurdle),
+                ("finance_rate", a.rates.finance, b.rates.finance),
+                (
+                    "reinvestment_rate",
+                    a.rates.reinvestment,
+                    b.rates.reinvestment,
+                ),
+            ] {
+                // A scenario's rate is a change of its own only when it differs from
+                // the deal's (the deal's own change is reported above).
+                let mine = |r: Decimal, deal: Decimal| (r != deal).then_some(r);
+                let (da, db) = match field {
+                    "hurdle_rate" => (old.rates.hurdle, new.rates.hurdle),
+                    "finance_rate" => (old.rates.finance, new.rates.finance),
+                    _ => (old.rates.reinvestment, new.rates.reinvestment),
+                };
+                change(
+                    &mut out,
+                    &format!("{path}.{field}"),
+                    mine(x, da),
+                    mine(y, db),
+                    present::exact_percent,
                 );
             }
         }

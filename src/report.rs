@@ -32,14 +32,17 @@ pub const BUILTIN_TEMPLATES: &[(&str, &str)] = &[
         include_str!("../templates/scenario.typ.j2"),
     ),
     ("checks.typ.j2", include_str!("../templates/checks.typ.j2")),
+    ("lines.typ.j2", include_str!("../templates/lines.typ.j2")),
 ];
 
 /// Balance paths longer than this are shown as their first and last rows.
-pub const LONG_PATH_ROWS: usize = 40;
+pub const LONG_PATH_ROWS: usize = 30;
 /// Rows shown from the start of a long balance path.
-const HEAD_ROWS: usize = 15;
+const HEAD_ROWS: usize = 8;
 /// Rows shown from the end of a long balance path.
-const TAIL_ROWS: usize = 10;
+const TAIL_ROWS: usize = 5;
+/// At most this many more rows of a long path: changes of sign and new notes.
+const MAX_TURN_ROWS: usize = 16;
 
 /// Where the attached deal file's bytes are found by the typesetter.
 pub const SOURCE_FILE: &str = "/candor/source";
@@ -374,6 +377,10 @@ struct View {
     title: String,
     currency: String,
     as_of: String,
+    /// How the amounts were entered (deal format version 2).
+    amounts: Option<String>,
+    /// The deal's basis (deal format version 2).
+    basis: Option<String>,
     draft: bool,
     status: String,
     hash: String,
@@ -530,6 +537,15 @@ struct ScenarioView {
     balance_heads: Vec<String>,
     /// The definition of each balance kind the IRRs show, once.
     kind_definitions: Vec<String>,
+    /// True when the flows are the base case's (only rates changed): the flow table
+    /// is then the base case's and is not repeated.
+    same_flows_as_base: bool,
+    /// The deal's lines in this scenario (version 2; empty otherwise).
+    lines: Vec<LineView>,
+    /// Peak exposure in words (version 2).
+    exposure: Option<String>,
+    /// Committed outflows (version 2).
+    committed: Option<String>,
 }
 
 #[derive(Debug, Serialize)]
@@ -540,6 +556,17 @@ struct FlowTableRow {
     balances: Vec<String>,
     /// Rows left out just before this one.
     gap_before: usize,
+}
+
+/// One line of a scenario, for its table.
+#[derive(Debug, Serialize)]
+struct LineView {
+    label: String,
+    note: Option<String>,
+    count: usize,
+    inflows: String,
+    outflows: String,
+    net: String,
 }
 
 #[derive(Debug, Serialize)]
@@ -677,7 +704,10 @@ fn flow_table_rows(flows: &[FlowRow]) -> Vec<usize> {
     let mut extra = 0;
     for i in 1..n {
         let turns = flows[i].amount.is_sign_negative() != flows[i - 1].amount.is_sign_negative();
-        if (turns || flows[i].note.is_some()) && !keep.contains(&i) && extra < LONG_PATH_ROWS {
+        // A note repeated from the flow before (a line's note on each of its flows)
+        // adds nothing; a new note is kept.
+        let new_note = flows[i].note.is_some() && flows[i].note != flows[i - 1].note;
+        if (turns || new_note) && !keep.contains(&i) && extra < MAX_TURN_ROWS {
             keep.insert(i);
             extra += 1;
         }
@@ -902,6 +932,25 @@ fn scenario_view(
         flow_hidden,
         balance_heads,
         kind_definitions,
+        same_flows_as_base: false,
+        lines: s
+            .lines
+            .iter()
+            .flatten()
+            .map(|l| LineView {
+                label: l.label.clone(),
+                note: l.note.clone(),
+                count: l.flows.len(),
+                inflows: present::money(l.inflows, PRINT),
+                outflows: present::money(l.outflows, PRINT),
+                net: present::money(l.net, PRINT),
+            })
+            .collect(),
+        exposure: s
+            .peak_exposure
+            .as_ref()
+            .map(|e| present::lines::exposure_words(e, currency, PRINT)),
+        committed: s.committed_outflows.map(|c| present::money(c, PRINT)),
     }
 }
 
@@ -915,7 +964,22 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         .scenarios
         .iter()
         .enumerate()
-        .map(|(i, s)| scenario_view(i, s, deal, &analysis.currency, ctx.charts.get(i), scale))
+        .map(|(i, s)| {
+            let mut view = scenario_view(i, s, deal, &analysis.currency, ctx.charts.get(i), scale);
+            // A scenario that changes only rates has the base case's flows, and so its
+            // flow table and balances: it points there instead of repeating them.
+            let base = &analysis.scenarios[0];
+            view.same_flows_as_base = i > 0
+                && s.flows.len() == base.flows.len()
+                && s.flows.iter().zip(&base.flows).all(|(a, b)| {
+                    a.amount == b.amount && a.period == b.period && a.date == b.date
+                })
+                && s.irr.roots.len() == base.irr.roots.len();
+            if view.same_flows_as_base {
+                view.flow_rows.clear();
+            }
+            view
+        })
         .collect();
     let anchor = "m".to_string();
     // Each caution code once, in the catalogue's order, with the scenarios raising it.
@@ -957,6 +1021,10 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         title: deal.name.clone(),
         currency: deal.currency.clone(),
         as_of: present::date_long(deal.as_of),
+        amounts: analysis
+            .units
+            .map(|u| present::lines::units_words(u, &deal.currency)),
+        basis: analysis.basis.as_ref().map(present::lines::basis_words),
         draft,
         status: status.to_string(),
         hash: ctx.source_sha256.clone(),

@@ -55,8 +55,38 @@ fn optional(schema: Value) -> Value {
     json!({ "anyOf": [schema, { "type": "null" }] })
 }
 
-/// The JSON Schema of a version 1 deal file.
+/// The JSON Schema of a deal file: version 1 or version 2, each under `$defs`.
 pub fn deal_schema() -> Value {
+    let mut one = version_one();
+    let defs = one
+        .as_object_mut()
+        .and_then(|o| o.remove("$defs"))
+        .unwrap_or_else(|| json!({}));
+    if let Some(o) = one.as_object_mut() {
+        o.remove("$schema");
+    }
+    let two = version_two(&one);
+    let mut defs = defs;
+    defs["version_1"] = one;
+    defs["version_2"] = two;
+    for (name, def) in lines_defs() {
+        defs[name] = def;
+    }
+    json!({
+        "$schema": "https://json-schema.org/draft/2020-12/schema",
+        "title": "candor deal file, version 1 or 2",
+        "description": "A deal's cash-flow forecast for candor. `candor check` is the final word on validity.",
+        "type": "object",
+        "oneOf": [
+            { "$ref": "#/$defs/version_1" },
+            { "$ref": "#/$defs/version_2" }
+        ],
+        "$defs": defs
+    })
+}
+
+/// The schema of a version 1 deal file (its `$defs` shared with version 2).
+fn version_one() -> Value {
     let frequencies: Vec<&str> = Frequency::ALL.iter().map(|f| f.as_str()).collect();
     let day_counts: Vec<&str> = DayCount::ALL.iter().map(|d| d.as_str()).collect();
     let decimal = "^\\s*[+-]?[0-9]+(\\.[0-9]+)?\\s*$";
@@ -180,7 +210,7 @@ pub fn deal_schema() -> Value {
                 "type": "object",
                 "additionalProperties": false,
                 "properties": {
-                    "label": optional(json!({ "$ref": "#/$defs/text", "description": "The scenario's name in print; default: the key in words." })),
+                    "label": optional(json!({ "$ref": "#/$defs/text", "description": "A short name for print." })),
                     "description": optional(json!({ "$ref": "#/$defs/text" })),
                     "inflows_factor": optional(json!({ "$ref": "#/$defs/factor", "description": "Multiplies every positive flow; default 1." })),
                     "outflows_factor": optional(json!({ "$ref": "#/$defs/factor", "description": "Multiplies every negative flow; default 1." })),
@@ -190,6 +220,207 @@ pub fn deal_schema() -> Value {
             }
         }
     })
+}
+
+/// The schema of a version 2 deal file: the version 1 header, rates, memo and
+/// sign-off, with `timing`, `horizon` and `lines` in place of `cash_flows`.
+fn version_two(one: &Value) -> Value {
+    let p = &one["properties"];
+    let mut deal = p["deal"].clone();
+    deal["properties"]["units"] = optional(word(
+        &crate::model::Units::WORDS,
+        "The unit of every amount in the file; default ones.",
+    ));
+    deal["properties"]["basis"] = optional(json!({
+        "description": "The basis of the amounts and rates, printed in the memo.",
+        "type": "object",
+        "additionalProperties": false,
+        "properties": {
+            "prices": optional(word(&crate::model::lines::Prices::WORDS, "Nominal or real amounts.")),
+            "tax": optional(word(&crate::model::lines::Tax::WORDS, "Amounts before or after tax.")),
+            "rates": optional(word(&crate::model::lines::Prices::WORDS, "Whether the rates are nominal or real."))
+        }
+    }));
+    json!({
+        "title": "version 2: named cash-flow lines",
+        "type": "object",
+        "required": ["candor", "deal", "hurdle_rate", "timing", "lines"],
+        "additionalProperties": false,
+        "properties": {
+            "candor": { "description": "Format version 2.", "enum": [2, "2"] },
+            "deal": deal,
+            "hurdle_rate": p["hurdle_rate"].clone(),
+            "finance_rate": p["finance_rate"].clone(),
+            "reinvestment_rate": p["reinvestment_rate"].clone(),
+            "timing": {
+                "description": "One amount a period (`every`, optional `start`) or dated amounts (`day_count`).",
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "every": { "$ref": "#/$defs/every" },
+                    "start": optional(json!({ "$ref": "#/$defs/date" })),
+                    "day_count": { "$ref": "#/$defs/day_count" }
+                },
+                "oneOf": [
+                    { "required": ["every"], "not": { "required": ["day_count"] } },
+                    { "required": ["day_count"], "not": { "anyOf": [{ "required": ["every"] }, { "required": ["start"] }] } }
+                ]
+            },
+            "horizon": optional(json!({
+                "description": "The deal's last period (or date, on dated timing); default: the base case's last flow.",
+                "anyOf": [{ "$ref": "#/$defs/period" }, { "$ref": "#/$defs/date" }]
+            })),
+            "lines": {
+                "description": "Named cash-flow lines; the net flow at each time is their sum.",
+                "type": "object",
+                "minProperties": 1,
+                "propertyNames": { "$ref": "#/$defs/line_key" },
+                "additionalProperties": { "$ref": "#/$defs/line" }
+            },
+            "scenarios": optional(json!({
+                "description": "Named changes to the base case, kept in file order.",
+                "type": "object",
+                "propertyNames": { "not": { "const": "base" }, "pattern": "\\S" },
+                "additionalProperties": { "$ref": "#/$defs/line_scenario" }
+            })),
+            "memo": p["memo"].clone(),
+            "signoff": p["signoff"].clone()
+        }
+    })
+}
+
+/// The `$defs` of version 2's lines and scenarios.
+fn lines_defs() -> Vec<(&'static str, Value)> {
+    let time = json!({ "anyOf": [{ "$ref": "#/$defs/period" }, { "$ref": "#/$defs/date" }] });
+    let keyed = |what: &str, of: Value| {
+        json!({
+            "description": what,
+            "type": "object",
+            "propertyNames": { "$ref": "#/$defs/line_key" },
+            "additionalProperties": of
+        })
+    };
+    vec![
+        (
+            "period",
+            json!({
+                "description": "A period number from 0.",
+                "anyOf": [
+                    { "type": "integer", "minimum": 0, "maximum": MAX_SHIFT },
+                    { "type": "string", "pattern": "^\\s*\\+?[0-9]+\\s*$" }
+                ]
+            }),
+        ),
+        (
+            "line_key",
+            json!({
+                "description": "A line's key: letters, digits, `_` or `-`.",
+                "type": "string",
+                "pattern": "^[\\p{L}\\p{N}_-]{1,64}$"
+            }),
+        ),
+        (
+            "line",
+            json!({
+                "description": "A cash-flow line: a label, an optional note, and its amounts in one form.",
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "label": optional(json!({ "$ref": "#/$defs/text", "description": "For print; default: the key." })),
+                    "note": optional(json!({ "$ref": "#/$defs/text" })),
+                    "amounts": { "type": "array", "minItems": 1, "maxItems": MAX_FLOWS, "items": { "$ref": "#/$defs/amount" }, "description": "One amount a period from period `from`." },
+                    "from": optional(json!({ "$ref": "#/$defs/period", "description": "The period of the first amount; default 0." })),
+                    "dated": { "$ref": "#/$defs/cash_flows/properties/dated" },
+                    "csv": { "$ref": "#/$defs/text", "description": "CSV file whose first column is `period` or `date`." },
+                    "column": { "$ref": "#/$defs/text", "description": "The CSV column holding this line's amounts." },
+                    "stream": { "$ref": "#/$defs/stream" },
+                    "terminal": { "$ref": "#/$defs/terminal" }
+                },
+                "oneOf": [
+                    { "required": ["amounts"] },
+                    { "required": ["dated"] },
+                    { "required": ["csv", "column"] },
+                    { "required": ["stream"] },
+                    { "required": ["terminal"] }
+                ]
+            }),
+        ),
+        (
+            "stream",
+            json!({
+                "description": "Amounts generated from their drivers, one a period.",
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "first": { "$ref": "#/$defs/amount" },
+                    "start": time.clone(),
+                    "periods": { "type": "integer", "minimum": 1, "maximum": MAX_FLOWS },
+                    "end": time.clone(),
+                    "growth": optional(json!({ "$ref": "#/$defs/rate" })),
+                    "growth_per": optional(word(&crate::model::lines::GrowthStep::WORDS, "When growth applies; default year.")),
+                    "ramp": optional(json!({ "type": "array", "items": { "$ref": "#/$defs/rate" }, "description": "Fractions of the first amounts, such as [25%, 60%]." })),
+                    "every": { "$ref": "#/$defs/every" }
+                }
+            }),
+        ),
+        (
+            "terminal",
+            json!({
+                "description": "A terminal value: next_flow / (discount - growth), at period or date `at`.",
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "at": time,
+                    "next_flow": { "$ref": "#/$defs/amount" },
+                    "growth": { "$ref": "#/$defs/rate" },
+                    "discount": { "$ref": "#/$defs/rate" }
+                }
+            }),
+        ),
+        (
+            "line_change",
+            json!({
+                "description": "Fields of a line that a scenario replaces.",
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "label": optional(json!({ "$ref": "#/$defs/text" })),
+                    "note": optional(json!({ "$ref": "#/$defs/text" })),
+                    "amounts": { "type": "array", "items": { "$ref": "#/$defs/amount" } },
+                    "from": { "$ref": "#/$defs/period" },
+                    "dated": { "$ref": "#/$defs/cash_flows/properties/dated" },
+                    "csv": { "$ref": "#/$defs/text" },
+                    "column": { "$ref": "#/$defs/text" },
+                    "stream": { "type": "object" },
+                    "terminal": { "type": "object" }
+                }
+            }),
+        ),
+        (
+            "line_scenario",
+            json!({
+                "description": "Changes to the base case, any assumption by name.",
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "label": optional(json!({ "$ref": "#/$defs/text" })),
+                    "description": optional(json!({ "$ref": "#/$defs/text" })),
+                    "hurdle_rate": optional(json!({ "$ref": "#/$defs/rate" })),
+                    "finance_rate": optional(json!({ "$ref": "#/$defs/rate" })),
+                    "reinvestment_rate": optional(json!({ "$ref": "#/$defs/rate" })),
+                    "factors": optional(keyed("A factor on one line or several.", json!({ "$ref": "#/$defs/factor" }))),
+                    "shift": optional(keyed("Moves a line by whole periods (dated timing: days).", json!({ "$ref": "#/$defs/shift" }))),
+                    "change": optional(keyed("Replaces fields of a line.", json!({ "$ref": "#/$defs/line_change" }))),
+                    "add": optional(keyed("New lines.", json!({ "$ref": "#/$defs/line" }))),
+                    "drop": optional(json!({ "type": "array", "items": { "$ref": "#/$defs/line_key" } })),
+                    "inflows_factor": optional(json!({ "$ref": "#/$defs/factor" })),
+                    "outflows_factor": optional(json!({ "$ref": "#/$defs/factor" })),
+                    "shift_inflows": optional(json!({ "$ref": "#/$defs/shift" })),
+                    "extend_horizon": optional(json!({ "type": "boolean", "description": "Lets the scenario's lines run past the horizon." }))
+                }
+            }),
+        ),
+    ]
 }
 
 /// The `cash_flows` block in its four forms: periodic, dated, and either from a CSV file.

@@ -15,41 +15,72 @@ const PERIODIC_HEAD: &str = r#"# A starter deal file written by `candor new`. Th
 # example: replace them with the deal's own forecast, then run
 "#;
 
-/// The lines both starters share, from the commands to run down to `cash_flows:`.
+/// The lines both starters share, from the commands to run down to `timing:`.
 const COMMON: &str = r#"#   candor check {FILE}
 #   candor rates {FILE}
-# Every field is described in candor's README, section "The deal file".
-candor: 1                        # format version: this candor reads version 1
+# Every field is described in candor's README, section "The deal file". This file
+# uses format version 2: the forecast in named lines, as a model is organised.
+candor: 2                        # format version: this candor reads versions 1 and 2
 
 deal:
   name: {NAME}
   currency: EUR                  # ISO 4217 code in capitals, such as GBP or USD
   as_of: 2027-01-15              # the date the forecast was made, YYYY-MM-DD
+  units: ones                    # ones, thousands or millions: the unit of every amount below
+  basis:                         # optional, printed in the memo
+    prices: nominal              # nominal or real
+    tax: after                   # before or after tax
+    rates: nominal               # whether the rates below are nominal or real
 
 hurdle_rate: 9%                  # the annual return the committee requires
 finance_rate: 6%                 # optional (MIRR): cost of money borrowed; default the hurdle
 reinvestment_rate: 7%            # optional (MIRR): return on money paid back early; default the hurdle
 
-cash_flows:
+timing:
 "#;
 
-/// The periodic starter's flows, scenarios, memo and sign-off.
+/// The periodic starter's lines, scenarios, memo and sign-off.
 const PERIODIC_BODY: &str = r#"  every: year                    # year, half-year, quarter, month, week or day
   start: 2027-04-01              # optional: the date of period 0
-  amounts: [-2400000,            # period 0: the investment (negative = paid by the investor)
-            310000, 420000,      # periods 1-2: ramping up
-            480000, 480000, 480000, 480000,
-            480000, 480000, 480000,
-            650000]              # period 10: the last year's income plus the resale value
+
+lines:                           # the parts of the forecast; the net flow of a period is their sum
+  purchase:                      # a key of your choosing, used by scenarios
+    label: Purchase and fit-out  # the line's name in the memo
+    amounts: [-2400000]          # a list from period 0 (negative = paid by the investor)
+  income:
+    label: Net operating income
+    note: Rents less running costs
+    stream:                      # amounts generated from their drivers, one a period
+      first: 480000              # the full first amount
+      start: 1                   # its period
+      periods: 10                # how many (or `end:` the period of the last)
+      growth: 2%                 # a year (`growth_per: period` to grow every period)
+      ramp: [65%, 85%]           # optional: the first periods at part of the full amount
+  resale:
+    label: Resale value
+    terminal:                    # the growing perpetuity: next_flow / (discount - growth)
+      at: 10                     # the period it is counted in
+      next_flow: 150000          # the flow a year after
+      growth: 1%                 # its growth a year, for ever
+      discount: 9%               # the rate it is discounted at
 
 scenarios:                       # optional: named changes to the base case
   weak_demand:
-    label: Weak demand (income 20% lower)   # optional: the name the memo prints
-    inflows_factor: 0.8          # every inflow 20% lower
+    label: Income 20% lower      # optional: a short name for print
+    factors: { income: 0.8 }     # a factor on one line, or on several
   cost_overrun:
-    outflows_factor: 1.15        # every outflow 15% higher
+    label: Fit-out 15% dearer
+    factors: { purchase: 1.15 }
   slow_start:
-    shift_inflows: 1             # every inflow one period later
+    label: Income a year late
+    shift: { income: 1 }         # a line moved one period later
+    extend_horizon: true         # needed to move a line past the base case's last period
+  flat_income:
+    label: No growth in income
+    change: { income: { stream: { growth: 0% } } }   # any field of a line
+  dearer_money:
+    label: Hurdle rate 11%
+    hurdle_rate: 11%             # rates may change too
 
 memo:                            # optional: the memo's narrative
   recommendation: State the recommendation to the committee in a sentence or two.
@@ -71,24 +102,42 @@ const DATED_HEAD: &str = r#"# A starter deal file written by `candor new --dated
 # invented example: replace them with the deal's own forecast, then run
 "#;
 
-/// The dated starter's flows, scenarios, memo and sign-off.
+/// The dated starter's lines, scenarios, memo and sign-off.
 const DATED_BODY: &str = r#"  day_count: act/365f            # act/365f, act/360, act/act-isda, 30/360, 30e/360 or 30e/360-isda
-  dated:                         # any order; flows on one date are added together
-    - { date: 2027-03-01, amount: -1800000, note: purchase and fit-out }
-    - { date: 2027-09-30, amount: 140000 }
-    - { date: 2028-03-31, amount: 165000 }
-    - { date: 2028-09-30, amount: 170000 }
-    - { date: 2029-03-31, amount: 175000 }
-    - { date: 2029-09-30, amount: -90000, note: roof repair net of income }
-    - { date: 2030-03-31, amount: 180000 }
-    - { date: 2030-12-31, amount: 1650000, note: sale }
+
+lines:                           # the parts of the forecast; amounts on one date are added together
+  purchase:
+    label: Purchase and fit-out
+    dated:                       # any order; `note` is optional
+      - { date: 2027-03-01, amount: -1800000, note: purchase and fit-out }
+  rent:
+    label: Rent
+    stream:                      # amounts generated from their drivers
+      first: 165000
+      start: 2027-09-30          # the date of the first amount
+      every: half-year           # on dated timing a stream says its own period
+      end: 2030-09-30            # the date of the last amount (or `periods: 7`)
+      growth: 2%                 # a year
+  roof:
+    label: Roof repair
+    dated:
+      - { date: 2029-09-30, amount: -260000 }
+  sale:
+    label: Sale of the building
+    dated:
+      - { date: 2030-12-31, amount: 1650000 }
 
 scenarios:                       # optional: named changes to the base case
   lower_rents:
-    label: Rents 15% lower       # optional: the name the memo prints (else the key in words)
-    inflows_factor: 0.85         # every inflow 15% lower
+    label: Rents 15% lower       # optional: a short name for print
+    factors: { rent: 0.85 }      # a factor on one line, or on several
   late_sale:
-    shift_inflows: 90            # every inflow 90 days later
+    label: Sale 90 days late
+    shift: { sale: 90 }          # dated timing: days
+    extend_horizon: true         # needed to move a line past the base case's last date
+  no_repair:
+    label: Roof lasts
+    drop: [roof]                 # lines may be dropped, or added with `add:`
 
 memo:                            # optional: the memo's narrative
   recommendation: State the recommendation to the committee in a sentence or two.

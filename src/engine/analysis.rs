@@ -14,6 +14,14 @@ pub struct Analysis {
     pub deal: String,
     /// ISO 4217 currency code.
     pub currency: String,
+    /// The unit the deal file's amounts are written in (deal format version 2 only;
+    /// every amount here is in currency units).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub units: Option<crate::model::Units>,
+    /// The basis of the amounts and rates (deal format version 2 only; each part null
+    /// when the deal does not state it).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub basis: Option<crate::model::Basis>,
     /// Base case first, then scenarios in file order.
     pub scenarios: Vec<ScenarioAnalysis>,
 }
@@ -23,6 +31,9 @@ pub struct Analysis {
 pub struct ScenarioAnalysis {
     /// `base` or the scenario's name.
     pub name: String,
+    /// The scenario's label for print, when the deal gives one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub label: Option<String>,
     /// Annual effective hurdle rate.
     pub hurdle_rate: f64,
     /// Annual effective finance rate (MIRR, return on invested capital).
@@ -59,6 +70,16 @@ pub struct ScenarioAnalysis {
     pub payback: Payback,
     /// NPV over a range of annual rates, for the profile chart.
     pub npv_profile: Vec<ProfilePoint>,
+    /// The deal's lines in this scenario (deal format version 2 only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lines: Option<Vec<LineSummary>>,
+    /// The most negative running total of the flows, and when (version 2 only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub peak_exposure: Option<Exposure>,
+    /// The sum of every negative amount of every line, before lines are netted
+    /// (version 2 only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub committed_outflows: Option<Decimal>,
     /// The cautions that apply, with the facts each states (the JSON contract and the
     /// reports give each its title and paragraph through `present::cautions`).
     pub cautions: Vec<Caution>,
@@ -100,6 +121,39 @@ impl Serialize for ApproxAmount {
     fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
         serializer.serialize_str(&self.to_scientific())
     }
+}
+
+/// One line of a scenario (deal format version 2): its totals and its amounts.
+#[derive(Debug, Clone, Serialize)]
+pub struct LineSummary {
+    /// The line's key.
+    pub key: String,
+    /// The line's label.
+    pub label: String,
+    /// The line's note.
+    pub note: Option<String>,
+    /// Sum of the line's positive amounts.
+    pub inflows: Decimal,
+    /// Sum of the line's negative amounts.
+    pub outflows: Decimal,
+    /// Sum of all its amounts.
+    pub net: Decimal,
+    /// The line's amounts in time order.
+    pub flows: Vec<FlowRow>,
+}
+
+/// The most negative running total of a scenario's flows (undiscounted).
+#[derive(Debug, Clone, Serialize)]
+pub struct Exposure {
+    /// The running total, zero or negative (zero when it never goes below zero).
+    pub amount: Decimal,
+    /// The period where it is first reached (periodic flows), else null.
+    pub period: Option<u32>,
+    /// The date where it is first reached, when the flows have dates.
+    pub date: Option<String>,
+    /// Years from the series' start to that flow; null when the total never goes
+    /// below zero.
+    pub years: Option<f64>,
 }
 
 /// One netted cash flow.

@@ -8,7 +8,7 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 /// Every caution code, in the order cautions are listed.
-pub const CODES: [&str; 12] = [
+pub const CODES: [&str; 14] = [
     "uncertified",
     "one-sign",
     "no-irr",
@@ -21,6 +21,8 @@ pub const CODES: [&str; 12] = [
     "irr-npv-conflict",
     "mirr-assumptions",
     "short-horizon",
+    "terminal-spread",
+    "real-amounts-nominal-rates",
 ];
 
 /// A caution raised for one scenario: its code and the facts its paragraph states
@@ -79,6 +81,21 @@ pub enum Caution {
     },
     /// The deal runs for less than a year.
     ShortHorizon,
+    /// A terminal value whose discount rate is within two points of its growth rate
+    /// (deal format version 2).
+    TerminalSpread {
+        /// The line's label.
+        label: String,
+        /// The discount rate (fraction).
+        discount: Decimal,
+        /// The growth rate (fraction).
+        growth: Decimal,
+        /// The terminal value, in currency units.
+        value: Decimal,
+    },
+    /// The deal states real amounts but does not say its rates are real (deal format
+    /// version 2).
+    RealAmountsNominalRates,
 }
 
 impl Caution {
@@ -97,6 +114,8 @@ impl Caution {
             Caution::IrrNpvConflict { .. } => 9,
             Caution::MirrAssumptions { .. } => 10,
             Caution::ShortHorizon => 11,
+            Caution::TerminalSpread { .. } => 12,
+            Caution::RealAmountsNominalRates => 13,
         }]
     }
 }

@@ -13,19 +13,89 @@ pub use crate::model::flows::{self, FlowPoint, Flows};
 pub use analysis::*;
 pub use cautions::Caution;
 
-use crate::model::{Deal, Rates};
+use crate::model::{Deal, Rates, Scenario};
 use rust_decimal::prelude::*;
 
-/// Analyses the base case and every scenario of a validated deal.
+/// Analyses the base case and every scenario of a validated deal, each at its own
+/// rates. A deal of format version 2 also gets its units, basis, lines, peak exposure
+/// and committed outflows, and the cautions that rest on them.
 pub fn analyse(deal: &Deal) -> Analysis {
+    let lines = deal.version >= 2;
     Analysis {
         deal: deal.name.clone(),
         currency: deal.currency.clone(),
+        units: lines.then_some(deal.units),
+        basis: lines.then(|| deal.basis.unwrap_or_default()),
         scenarios: deal
             .scenarios
             .iter()
-            .map(|s| analyse_scenario(&s.name, &s.flows, &deal.rates))
+            .map(|s| {
+                let mut a = analyse_scenario(&s.name, &s.flows, &s.rates);
+                a.label = s.label.clone();
+                if lines {
+                    with_lines(&mut a, s, deal);
+                }
+                a
+            })
             .collect(),
+    }
+}
+
+/// Adds a version-2 scenario's lines, peak exposure, committed outflows and the
+/// cautions on its terminal values and basis.
+fn with_lines(a: &mut ScenarioAnalysis, s: &Scenario, deal: &Deal) {
+    let row = |flows: &Flows, i: usize| {
+        let p = &flows.points[i];
+        FlowRow {
+            period: p.period,
+            date: p.date.map(|d| d.to_string()),
+            years: flows.years(i),
+            amount: p.amount,
+            note: p.note.clone(),
+        }
+    };
+    a.lines = Some(
+        s.components
+            .iter()
+            .map(|c| LineSummary {
+                key: c.key.clone(),
+                label: c.label.clone(),
+                note: c.note.clone(),
+                inflows: c.inflows(),
+                outflows: c.outflows(),
+                net: c.inflows() + c.outflows(),
+                flows: (0..c.flows.points.len())
+                    .map(|i| row(&c.flows, i))
+                    .collect(),
+            })
+            .collect(),
+    );
+    let flows = s.flows.normalised();
+    a.peak_exposure = Some(match crate::model::lines::peak_exposure(&flows) {
+        Some((amount, i)) => Exposure {
+            amount,
+            period: flows.points[i].period,
+            date: flows.points[i].date.map(|d| d.to_string()),
+            years: Some(flows.years(i)),
+        },
+        None => Exposure {
+            amount: Decimal::ZERO,
+            period: None,
+            date: None,
+            years: None,
+        },
+    });
+    a.committed_outflows = Some(s.components.iter().map(|c| c.outflows()).sum());
+    for t in &s.narrow_terminals {
+        a.cautions.push(Caution::TerminalSpread {
+            label: t.label.clone(),
+            discount: t.discount,
+            growth: t.growth,
+            value: t.value,
+        });
+    }
+    if deal.basis.is_some_and(|b| b.real_amounts_nominal_rates()) {
+        a.cautions.push(Caution::RealAmountsNominalRates);
     }
 }
 
@@ -182,6 +252,10 @@ pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAna
         profitability_index: figures::profitability_index(&flows, hurdle),
         payback: figures::payback(&flows, hurdle),
         npv_profile: figures::npv_profile(&flows, &marks, hurdle),
+        label: None,
+        lines: None,
+        peak_exposure: None,
+        committed_outflows: None,
         irr: report,
         cautions: Vec::new(),
     };

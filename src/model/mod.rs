@@ -8,10 +8,12 @@ use serde::Serialize;
 
 pub mod daycount;
 pub mod flows;
+pub mod lines;
 mod validate;
 pub mod values;
 
 pub use daycount::DayCount;
+pub use lines::{Basis, Component, NarrowTerminal, Units};
 pub use validate::{
     validate, ReadCompanion, MAX_BLOCK_CHARS, MAX_DIAGNOSTICS, MAX_FLOWS, MAX_ITEMS,
     MAX_MEMO_CHARS, MAX_NAME_CHARS, MAX_NOTE_CHARS, MAX_WORD_CHARS,
@@ -20,6 +22,13 @@ pub use validate::{
 /// A validated deal.
 #[derive(Debug, Clone, Serialize)]
 pub struct Deal {
+    /// The deal file's format version (1 or 2).
+    pub version: u32,
+    /// The unit the deal file's amounts are written in (always ones in version 1);
+    /// every amount here is already in currency units.
+    pub units: Units,
+    /// The basis of the amounts and rates, when the deal states it (version 2).
+    pub basis: Option<Basis>,
     /// Deal name.
     pub name: String,
     /// ISO 4217 code.
@@ -126,13 +135,20 @@ impl Frequency {
 pub struct Scenario {
     /// `base`, or the scenario's key in the deal file.
     pub name: String,
-    /// The scenario's label for print (`label` in the deal file); `None` for the base
-    /// case and when not given (the memo then turns the key into words).
+    /// The scenario's label for print, when the deal gives one.
     pub label: Option<String>,
     /// What was changed, in words (empty for the base case).
     pub description: String,
+    /// The rates this scenario is analysed at (the deal's, or the scenario's own).
+    pub rates: Rates,
     /// The flows, netted by date, on the deal's clock.
     pub flows: Flows,
+    /// The lines whose sum, time by time, is [`Scenario::flows`]: the deal's lines
+    /// (version 2), or `inflows` and `outflows` (version 1).
+    pub components: Vec<Component>,
+    /// Terminal values of this scenario whose discount rate is within two points of
+    /// their growth rate.
+    pub narrow_terminals: Vec<NarrowTerminal>,
 }
 
 /// Narrative passed through to the memo.
@@ -186,3 +202,5 @@ pub enum SignoffDecision {
 
 #[cfg(test)]
 mod tests;
+#[cfg(test)]
+mod tests_lines;

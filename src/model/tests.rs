@@ -5,7 +5,7 @@ use crate::input::parse;
 use rust_decimal::Decimal;
 use std::str::FromStr;
 
-fn d(s: &str) -> Decimal {
+pub(super) fn d(s: &str) -> Decimal {
     Decimal::from_str(s).unwrap()
 }
 
@@ -13,7 +13,10 @@ fn date(y: i32, m: u32, day: u32) -> NaiveDate {
     NaiveDate::from_ymd_opt(y, m, day).unwrap()
 }
 
-fn check_with(text: &str, files: &[(&str, &str)]) -> Result<Deal, Vec<crate::diag::Diagnostic>> {
+pub(super) fn check_with(
+    text: &str,
+    files: &[(&str, &str)],
+) -> Result<Deal, Vec<crate::diag::Diagnostic>> {
     let raw = parse(text)?;
     let mut read = |name: &str| {
         files
@@ -25,11 +28,11 @@ fn check_with(text: &str, files: &[(&str, &str)]) -> Result<Deal, Vec<crate::dia
     validate(&raw, &mut read)
 }
 
-fn check(text: &str) -> Result<Deal, Vec<crate::diag::Diagnostic>> {
+pub(super) fn check(text: &str) -> Result<Deal, Vec<crate::diag::Diagnostic>> {
     check_with(text, &[])
 }
 
-fn codes(text: &str) -> Vec<String> {
+pub(super) fn codes(text: &str) -> Vec<String> {
     check(text)
         .unwrap_err()
         .into_iter()
@@ -215,7 +218,7 @@ fn conflicts_and_empty_series() {
         )),
         ["all-zero-flows"]
     );
-    assert_eq!(codes("candor: 2\nwhatever: 1\n"), ["unknown-version"]);
+    assert_eq!(codes("candor: 3\nwhatever: 1\n"), ["unknown-version"]);
     assert_eq!(codes(""), ["empty-file"]);
     assert_eq!(codes("- 1\n"), ["wrong-type"]);
 }

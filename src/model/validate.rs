@@ -12,6 +12,8 @@ use crate::input::{csv, Node, RawDeal, Value};
 use chrono::{Datelike, Days, Months, NaiveDate};
 use rust_decimal::Decimal;
 
+mod v2;
+
 /// Largest shift accepted, in periods or days.
 const MAX_SHIFT: i64 = 100_000;
 pub use crate::limits::{
@@ -748,25 +750,47 @@ impl Validator<'_, '_> {
                 return None;
             }
         };
-        let text = match (self.read)(&name) {
-            Ok(t) => t,
+        let text = self.companion(&name, &csv_path, csv_node)?;
+        self.csv_series(&name, &text, clock, start, (&csv_path, csv_node), None)
+    }
+
+    /// The text of a companion file named at `path` (`node`), or a `csv-missing`
+    /// problem saying why it cannot be read.
+    fn companion(&mut self, name: &str, path: &str, node: &Node) -> Option<String> {
+        match (self.read)(name) {
+            Ok(t) => Some(t),
             Err(why) => {
                 let d = self.report(
                     "csv-missing",
                     format!("cannot read the CSV file `{name}`: {why}"),
-                    &csv_path,
-                    csv_node.position,
+                    path,
+                    node.position,
                 );
                 // Other reasons (size, encoding) carry their own advice.
                 if why == "no such file" {
                     d.hint = Some("the path is relative to the deal file's folder".to_string());
                 }
-                return None;
+                None
             }
-        };
+        }
+    }
+
+    /// The flows of a CSV file's text on a clock (`Err(every)` for a `period` column,
+    /// `Ok(day_count)` for a `date` column), named at `csv_path` (`csv_node`); the
+    /// amounts are read from the column `amount`, or from `column` (other columns
+    /// then allowed, as several lines share one file).
+    fn csv_series(
+        &mut self,
+        name: &str,
+        text: &str,
+        clock: Result<DayCount, Frequency>,
+        start: Option<NaiveDate>,
+        (csv_path, csv_node): (&str, &Node),
+        column: Option<&str>,
+    ) -> Option<ReadFlows> {
         let first_column = if clock.is_err() { "period" } else { "date" };
         let before = self.count();
-        let rows = self.csv_rows(&name, &text, first_column)?;
+        let rows = self.csv_rows(name, text, first_column, column)?;
         if rows.len() > MAX_FLOWS {
             self.hint(
                 "too-many-flows",
@@ -775,7 +799,7 @@ impl Validator<'_, '_> {
                     values::grouped(rows.len() as u64),
                     values::grouped(MAX_FLOWS as u64)
                 ),
-                &csv_path,
+                csv_path,
                 csv_node.position,
                 "aggregate the flows to a coarser period",
             );
@@ -788,7 +812,7 @@ impl Validator<'_, '_> {
         for (first, amount, note) in rows {
             let cell_err = |ctx: &mut Self, code: &str, e: ValueError, at: Position| {
                 let mut d = Diagnostic::error(code, e.message)
-                    .in_file(name.clone())
+                    .in_file(name)
                     .at(at.line, at.column);
                 d.hint = e.hint;
                 ctx.push(d);
@@ -839,7 +863,7 @@ impl Validator<'_, '_> {
             ok &= value.is_some();
             amounts.extend(value);
         }
-        if !ok || !self.nonempty(amounts.into_iter(), csv_node, &csv_path) {
+        if !ok || !self.nonempty(amounts.into_iter(), csv_node, csv_path) {
             return None;
         }
         Some(match clock {
@@ -861,6 +885,7 @@ impl Validator<'_, '_> {
         name: &str,
         text: &str,
         first_column: &str,
+        column: Option<&str>,
     ) -> Option<Vec<(csv::Cell, csv::Cell, Option<String>)>> {
         let in_csv = |code: &str, message: String, at: Position, hint: Option<String>| {
             let mut d = Diagnostic::error(code, message)
@@ -877,7 +902,11 @@ impl Validator<'_, '_> {
             }
         };
         let start = Position { line: 1, column: 1 };
-        let expected = format!("{first_column},amount[,note]");
+        let amount = column.unwrap_or("amount");
+        let expected = match column {
+            None => format!("{first_column},amount[,note]"),
+            Some(c) => format!("{first_column},{c}[,other columns][,note]"),
+        };
         let Some((header, body)) = rows.split_first() else {
             self.push(in_csv(
                 "csv-format",
@@ -891,10 +920,11 @@ impl Validator<'_, '_> {
             .iter()
             .map(|c| c.text.trim().to_ascii_lowercase())
             .collect();
-        let known = [first_column, "amount", "note"];
+        let known = [first_column, amount, "note"];
         let mut bad = false;
         for (i, n) in names.iter().enumerate() {
-            if !known.contains(&n.as_str()) || names[..i].contains(n) {
+            let unknown = column.is_none() && !known.contains(&n.as_str());
+            if unknown || names[..i].contains(n) {
                 bad = true;
                 let hint = nearest(n, &known).map_or_else(
                     || format!("the header row names the columns: {expected}"),
@@ -912,17 +942,24 @@ impl Validator<'_, '_> {
             }
         }
         let index = |col: &str| names.iter().position(|n| n == col);
-        let (Some(fi), Some(ai)) = (index(first_column), index("amount")) else {
+        let (Some(fi), Some(ai)) = (index(first_column), index(amount)) else {
             let missing = if index(first_column).is_none() {
                 first_column
             } else {
-                "amount"
+                amount
+            };
+            let others: Vec<&str> = names.iter().map(String::as_str).collect();
+            let hint = match nearest(missing, &others) {
+                Some(n) if column.is_some() => {
+                    format!("did you mean `{n}`? the first row names the columns: {expected}")
+                }
+                _ => format!("the first row names the columns: {expected}"),
             };
             self.push(in_csv(
                 "csv-format",
                 format!("`{name}` has no `{missing}` column"),
                 start,
-                Some(format!("the first row names the columns: {expected}")),
+                Some(hint),
             ));
             return None;
         };
@@ -973,9 +1010,7 @@ impl Validator<'_, '_> {
     ) -> Option<(ReadFlows, String, Option<String>)> {
         let path = format!("scenarios.{name}");
         let f = self.fields(node, &path, SCENARIO)?;
-        let label = f
-            .get("label")
-            .and_then(|n| self.text(n, &join(&path, "label"), Text::Line(MAX_NAME_CHARS)));
+        let label = self.label(&f, &path);
         let description = f
             .get("description")
             .and_then(|n| self.text(n, &join(&path, "description"), Text::Line(MAX_NOTE_CHARS)));
@@ -1096,6 +1131,23 @@ impl Validator<'_, '_> {
             }
         });
         Some((series, description, label))
+    }
+
+    /// A scenario's optional `label`: a short line for print, not blank.
+    fn label(&mut self, f: &Fields<'_>, path: &str) -> Option<String> {
+        let node = f.get("label")?;
+        let field = join(path, "label");
+        let text = self.text(node, &field, Text::Line(MAX_NAME_CHARS))?;
+        if text.trim().is_empty() {
+            self.report(
+                "missing-field",
+                format!("`{field}` is empty"),
+                &field,
+                node.position,
+            );
+            return None;
+        }
+        Some(text.trim().to_string())
     }
 
     fn factor(&mut self, node: &Node, path: &str) -> Option<Decimal> {
@@ -1293,62 +1345,28 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
             .iter()
             .find(|(k, v)| k.scalar() == Some("candor") && !v.is_null());
         if let Some((_, v)) = version {
-            if v.scalar().map(str::trim) != Some("1") {
-                let shown = v.scalar().map_or("a structure", str::trim);
-                ctx.hint(
-                    "unknown-version",
-                    format!("this candor reads deal files of version 1, not `{shown}`"),
-                    "candor",
-                    v.position,
-                    "write `candor: 1` and follow the version 1 format",
-                );
-                return None;
+            match v.scalar().map(str::trim) {
+                Some("1") => {}
+                Some("2") => return v2::build(ctx, root),
+                other => {
+                    let shown = other.unwrap_or("a structure");
+                    ctx.hint(
+                        "unknown-version",
+                        format!("this candor reads deal files of version 1 or 2, not `{shown}`"),
+                        "candor",
+                        v.position,
+                        "write `candor: 2` (or `candor: 1`) and follow that version's format",
+                    );
+                    return None;
+                }
             }
         }
     }
     let top = ctx.fields(root, "", TOP)?;
     ctx.required(&top, "", "candor", "1");
 
-    let mut header = None;
-    if let Some(d) = ctx.required(
-        &top,
-        "",
-        "deal",
-        "{ name: ..., currency: EUR, as_of: 2027-01-01 }",
-    ) {
-        if let Some(f) = ctx.fields(d, "deal", DEAL) {
-            let name = ctx.required(&f, "deal", "name", "Ridgeline quarry extension");
-            let currency = ctx.required(&f, "deal", "currency", "EUR");
-            let as_of = ctx.required(&f, "deal", "as_of", "2027-01-01");
-            let name = name.and_then(|n| ctx.text(n, "deal.name", Text::Line(MAX_NAME_CHARS)));
-            let name = match name {
-                Some(n) if n.trim().is_empty() => {
-                    let at = f.get("name").map_or(f.position, |n| n.position);
-                    ctx.report("missing-field", "`deal.name` is empty", "deal.name", at);
-                    None
-                }
-                other => other.map(|n| n.trim().to_string()),
-            };
-            let currency = currency.and_then(|n| {
-                let text = ctx.scalar(n, "deal.currency", "a currency code such as EUR")?;
-                values::check_currency(text)
-                    .map_err(|e| ctx.value_error("bad-currency", e, "deal.currency", n.position))
-                    .ok()
-            });
-            let as_of = as_of.and_then(|n| ctx.date(n, "deal.as_of"));
-            if let (Some(n), Some(c), Some(a)) = (name, currency, as_of) {
-                header = Some((n, c, a));
-            }
-        }
-    }
-
-    let hurdle = ctx
-        .required(&top, "", "hurdle_rate", "9%")
-        .and_then(|n| ctx.rate(n, "hurdle_rate"));
-    let finance = top.get("finance_rate").map(|n| ctx.rate(n, "finance_rate"));
-    let reinvest = top
-        .get("reinvestment_rate")
-        .map(|n| ctx.rate(n, "reinvestment_rate"));
+    let header = deal_header(ctx, &top, DEAL).and_then(|(h, _)| h);
+    let rates = stated_rates(ctx, &top, "");
 
     let flows_node = ctx.required(
         &top,
@@ -1362,137 +1380,50 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     if let Some(base) = &base {
         let at = flows_node.map_or(origin, |n| n.position);
         if let Some(flows) = ctx.resolve(base, "cash_flows", at) {
-            scenarios.push(Scenario {
-                name: "base".to_string(),
-                label: None,
-                description: String::new(),
-                flows,
-            });
+            scenarios.push(version_one_scenario("base", None, String::new(), flows));
         }
     }
     if let Some(s) = top.get("scenarios") {
-        match &s.value {
-            Value::Mapping(entries) if entries.len() > MAX_SCENARIOS => {
-                ctx.hint(
-                    "too-many-scenarios",
-                    format!(
-                        "`scenarios` holds {} scenarios; at most {MAX_SCENARIOS} are accepted",
-                        values::grouped(entries.len() as u64)
-                    ),
-                    "scenarios",
-                    s.position,
-                    "keep the scenarios the committee needs, and analyse the others in files of their own",
+        let mut total: usize = scenarios.iter().map(|s| s.flows.points.len()).sum();
+        let fields = "`inflows_factor`, `outflows_factor`, `shift_inflows`, `cash_flows`";
+        each_scenario(ctx, s, fields, |ctx, name, k, v| {
+            let path = format!("scenarios.{name}");
+            let Some((series, description, label)) = ctx.scenario(name, v, base.as_ref()) else {
+                return true;
+            };
+            let Some(flows) = ctx.resolve(&series, &path, v.position) else {
+                return true;
+            };
+            total = total.saturating_add(flows.points.len());
+            if !ctx.total_flows(total, name, &path, k.position) {
+                return false;
+            }
+            if flows.points.iter().all(|p| p.amount.is_zero()) {
+                ctx.report(
+                    "all-zero-flows",
+                    format!("every flow of scenario `{name}` is zero"),
+                    &path,
+                    v.position,
                 );
+                return true;
             }
-            Value::Mapping(entries) => {
-                let mut seen: Vec<&str> = Vec::new();
-                let mut total: usize = scenarios.iter().map(|s| s.flows.points.len()).sum();
-                for (k, v) in entries {
-                    let Some(name) = k.scalar() else {
-                        ctx.wrong_type(k, "scenarios", "a scenario name");
-                        continue;
-                    };
-                    let path = format!("scenarios.{name}");
-                    if let Some((message, hint)) =
-                        text_problem(name, "a scenario name", Text::Line(MAX_NAME_CHARS))
-                    {
-                        let code = if message.contains("characters") {
-                            "text-too-long"
-                        } else {
-                            "control-character"
-                        };
-                        ctx.hint(code, message, "scenarios", k.position, hint);
-                        continue;
-                    }
-                    if name == "base" || name.trim().is_empty() {
-                        ctx.hint(
-                            "reserved-name",
-                            format!("a scenario cannot be called `{name}`"),
-                            &path,
-                            k.position,
-                            "`base` is the deal's own flows; choose another name",
-                        );
-                        continue;
-                    }
-                    if seen.contains(&name) {
-                        ctx.hint(
-                            "duplicate-key",
-                            format!("scenario `{name}` is given more than once"),
-                            &path,
-                            k.position,
-                            "give each scenario a name of its own",
-                        );
-                        continue;
-                    }
-                    seen.push(name);
-                    if v.is_null() {
-                        ctx.hint(
-                            "wrong-type",
-                            format!("scenario `{name}` changes nothing"),
-                            &path,
-                            v.position,
-                            "give at least one of `inflows_factor`, `outflows_factor`, `shift_inflows`, `cash_flows`",
-                        );
-                        continue;
-                    }
-                    if let Some((series, description, label)) = ctx.scenario(name, v, base.as_ref())
-                    {
-                        if let Some(flows) = ctx.resolve(&series, &path, v.position) {
-                            total = total.saturating_add(flows.points.len());
-                            if total > MAX_TOTAL_FLOWS {
-                                ctx.hint(
-                                    "too-many-flows",
-                                    format!(
-                                        "the base case and the scenarios up to `{name}` hold more than {} flows in all",
-                                        values::grouped(MAX_TOTAL_FLOWS as u64)
-                                    ),
-                                    &path,
-                                    k.position,
-                                    "aggregate the flows to a coarser period, or keep fewer scenarios",
-                                );
-                                break;
-                            }
-                            if flows.points.iter().all(|p| p.amount.is_zero()) {
-                                ctx.report(
-                                    "all-zero-flows",
-                                    format!("every flow of scenario `{name}` is zero"),
-                                    &path,
-                                    v.position,
-                                );
-                                continue;
-                            }
-                            scenarios.push(Scenario {
-                                name: name.to_string(),
-                                label,
-                                description,
-                                flows,
-                            });
-                        }
-                    }
-                }
-            }
-            _ => ctx.wrong_type(s, "scenarios", "a mapping from scenario names to changes"),
-        }
+            scenarios.push(version_one_scenario(name, label, description, flows));
+            true
+        });
     }
 
-    let memo = match top.get("memo") {
-        Some(n) => memo(ctx, n),
-        None => Some(Memo::default()),
-    };
-    let signoff = match top.get("signoff") {
-        Some(n) => Some(signoff(ctx, n)?),
-        None => None,
-    };
+    let (memo, signoff) = narrative(ctx, &top)?;
 
     let (name, currency, as_of) = header?;
-    let hurdle = hurdle?;
-    let rates = Rates {
-        hurdle,
-        finance: finance.unwrap_or(Some(hurdle))?,
-        reinvestment: reinvest.unwrap_or(Some(hurdle))?,
-    };
+    let rates = rates?.resolved();
+    for s in &mut scenarios {
+        s.rates = rates;
+    }
     let clock = base?.clock();
     Some(Deal {
+        version: 1,
+        units: super::Units::Ones,
+        basis: None,
         name,
         currency,
         as_of,
@@ -1502,6 +1433,230 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
         memo: memo?,
         signoff,
     })
+}
+
+/// The optional `memo` and `signoff` blocks; `None` when the sign-off is wrong (the
+/// memo's problems are reported and leave it `None` inside).
+fn narrative(
+    ctx: &mut Validator<'_, '_>,
+    top: &Fields<'_>,
+) -> Option<(Option<Memo>, Option<Signoff>)> {
+    let memo = match top.get("memo") {
+        Some(n) => memo(ctx, n),
+        None => Some(Memo::default()),
+    };
+    let signoff = match top.get("signoff") {
+        Some(n) => Some(signoff(ctx, n)?),
+        None => None,
+    };
+    Some((memo, signoff))
+}
+
+/// A scenario of a version-1 deal: its components are its inflows and outflows, and
+/// its rates (set once the deal's are read) the deal's.
+fn version_one_scenario(
+    name: &str,
+    label: Option<String>,
+    description: String,
+    flows: Flows,
+) -> Scenario {
+    let zero = Decimal::ZERO;
+    Scenario {
+        name: name.to_string(),
+        label,
+        description,
+        rates: Rates {
+            hurdle: zero,
+            finance: zero,
+            reinvestment: zero,
+        },
+        components: super::lines::split_by_sign(&flows),
+        flows,
+        narrow_terminals: Vec::new(),
+    }
+}
+
+/// The deal's header (`deal.name`, `currency`, `as_of`) and the fields of `deal`,
+/// whose other keys (`known`) a version may read. The header is `None` when one of
+/// its fields is missing or wrong (each reported).
+#[allow(clippy::type_complexity)]
+fn deal_header<'n>(
+    ctx: &mut Validator<'_, '_>,
+    top: &Fields<'n>,
+    known: &[&str],
+) -> Option<(Option<(String, String, NaiveDate)>, Fields<'n>)> {
+    let d = ctx.required(
+        top,
+        "",
+        "deal",
+        "{ name: ..., currency: EUR, as_of: 2027-01-01 }",
+    )?;
+    let f = ctx.fields(d, "deal", known)?;
+    let name = ctx.required(&f, "deal", "name", "Ridgeline quarry extension");
+    let currency = ctx.required(&f, "deal", "currency", "EUR");
+    let as_of = ctx.required(&f, "deal", "as_of", "2027-01-01");
+    let name = name.and_then(|n| ctx.text(n, "deal.name", Text::Line(MAX_NAME_CHARS)));
+    let name = match name {
+        Some(n) if n.trim().is_empty() => {
+            let at = f.get("name").map_or(f.position, |n| n.position);
+            ctx.report("missing-field", "`deal.name` is empty", "deal.name", at);
+            None
+        }
+        other => other.map(|n| n.trim().to_string()),
+    };
+    let currency = currency.and_then(|n| {
+        let text = ctx.scalar(n, "deal.currency", "a currency code such as EUR")?;
+        values::check_currency(text)
+            .map_err(|e| ctx.value_error("bad-currency", e, "deal.currency", n.position))
+            .ok()
+    });
+    let as_of = as_of.and_then(|n| ctx.date(n, "deal.as_of"));
+    let header = match (name, currency, as_of) {
+        (Some(n), Some(c), Some(a)) => Some((n, c, a)),
+        _ => None,
+    };
+    Some((header, f))
+}
+
+/// The rates as a deal states them: the hurdle, and the finance and reinvestment
+/// rates when given (they default to the hurdle).
+#[derive(Debug, Clone, Copy)]
+struct StatedRates {
+    hurdle: Decimal,
+    finance: Option<Decimal>,
+    reinvestment: Option<Decimal>,
+}
+
+impl StatedRates {
+    fn resolved(self) -> Rates {
+        Rates {
+            hurdle: self.hurdle,
+            finance: self.finance.unwrap_or(self.hurdle),
+            reinvestment: self.reinvestment.unwrap_or(self.hurdle),
+        }
+    }
+}
+
+/// Reads the required `hurdle_rate` and the optional `finance_rate` and
+/// `reinvestment_rate` of the top level; `None` when one is wrong (reported).
+fn stated_rates(ctx: &mut Validator<'_, '_>, top: &Fields<'_>, path: &str) -> Option<StatedRates> {
+    let hurdle = ctx
+        .required(top, path, "hurdle_rate", "9%")
+        .and_then(|n| ctx.rate(n, &join(path, "hurdle_rate")));
+    let finance = top
+        .get("finance_rate")
+        .map(|n| ctx.rate(n, &join(path, "finance_rate")));
+    let reinvest = top
+        .get("reinvestment_rate")
+        .map(|n| ctx.rate(n, &join(path, "reinvestment_rate")));
+    Some(StatedRates {
+        hurdle: hurdle?,
+        finance: finance.map_or(Some(None), |r| r.map(Some))?,
+        reinvestment: reinvest.map_or(Some(None), |r| r.map(Some))?,
+    })
+}
+
+/// Reads the entries of `scenarios` in file order, calling `read` with (name, key
+/// node, value node) for each that may be read, after reporting too many scenarios,
+/// names that are not text, too long, reserved or repeated, and scenarios that change
+/// nothing (`fields` lists what they may change). `read` returns false to stop.
+fn each_scenario<'n>(
+    ctx: &mut Validator<'_, '_>,
+    s: &'n Node,
+    fields: &str,
+    mut read: impl FnMut(&mut Validator<'_, '_>, &'n str, &'n Node, &'n Node) -> bool,
+) {
+    match &s.value {
+        Value::Mapping(entries) if entries.len() > MAX_SCENARIOS => {
+            ctx.hint(
+                "too-many-scenarios",
+                format!(
+                    "`scenarios` holds {} scenarios; at most {MAX_SCENARIOS} are accepted",
+                    values::grouped(entries.len() as u64)
+                ),
+                "scenarios",
+                s.position,
+                "keep the scenarios the committee needs, and analyse the others in files of their own",
+            );
+        }
+        Value::Mapping(entries) => {
+            let mut seen: Vec<&str> = Vec::new();
+            for (k, v) in entries {
+                let Some(name) = k.scalar() else {
+                    ctx.wrong_type(k, "scenarios", "a scenario name");
+                    continue;
+                };
+                let path = format!("scenarios.{name}");
+                if let Some((message, hint)) =
+                    text_problem(name, "a scenario name", Text::Line(MAX_NAME_CHARS))
+                {
+                    let code = if message.contains("characters") {
+                        "text-too-long"
+                    } else {
+                        "control-character"
+                    };
+                    ctx.hint(code, message, "scenarios", k.position, hint);
+                    continue;
+                }
+                if name == "base" || name.trim().is_empty() {
+                    ctx.hint(
+                        "reserved-name",
+                        format!("a scenario cannot be called `{name}`"),
+                        &path,
+                        k.position,
+                        "`base` is the deal's own flows; choose another name",
+                    );
+                    continue;
+                }
+                if seen.contains(&name) {
+                    ctx.hint(
+                        "duplicate-key",
+                        format!("scenario `{name}` is given more than once"),
+                        &path,
+                        k.position,
+                        "give each scenario a name of its own",
+                    );
+                    continue;
+                }
+                seen.push(name);
+                if v.is_null() {
+                    ctx.hint(
+                        "wrong-type",
+                        format!("scenario `{name}` changes nothing"),
+                        &path,
+                        v.position,
+                        format!("give at least one of {fields}"),
+                    );
+                    continue;
+                }
+                if !read(ctx, name, k, v) {
+                    break;
+                }
+            }
+        }
+        _ => ctx.wrong_type(s, "scenarios", "a mapping from scenario names to changes"),
+    }
+}
+
+impl Validator<'_, '_> {
+    /// Reports the flows over the base case and the scenarios up to `name` passing
+    /// [`MAX_TOTAL_FLOWS`]; true while they do not.
+    fn total_flows(&mut self, total: usize, name: &str, path: &str, at: Position) -> bool {
+        if total <= MAX_TOTAL_FLOWS {
+            return true;
+        }
+        self.hint(
+            "too-many-flows",
+            format!(
+                "the base case and the scenarios up to `{name}` hold more than {} flows in all",
+                values::grouped(MAX_TOTAL_FLOWS as u64)
+            ),
+            path,
+            at,
+            "aggregate the flows to a coarser period, or keep fewer scenarios",
+        );
+        false
+    }
 }
 
 fn memo(ctx: &mut Validator<'_, '_>, node: &Node) -> Option<Memo> {

@@ -57,6 +57,13 @@ pub fn caution_text(c: &Caution, f: &CautionFigures, currency: &str) -> CautionT
             mirr_assumptions(&w, f, *reinvestment_range)
         }
         Caution::ShortHorizon => short_horizon(&w, f),
+        Caution::TerminalSpread {
+            label,
+            discount,
+            growth,
+            value,
+        } => terminal_spread(&w, label, (*discount, *growth), *value),
+        Caution::RealAmountsNominalRates => real_amounts_nominal_rates(&w),
     };
     CautionText {
         code: c.code(),
@@ -379,6 +386,50 @@ fn short_horizon(w: &Wording, f: &CautionFigures) -> (&'static str, String) {
              short a time is compounded as if it went on all year, so the IRR and MIRR look far \
              larger (or worse) than the money involved. Judge it by the amounts and by \
              the NPV at the hurdle rate of {h}, which is {npv}."
+        ),
+    )
+}
+
+fn terminal_spread(
+    w: &Wording,
+    label: &str,
+    (discount, growth): (Decimal, Decimal),
+    value: Decimal,
+) -> (&'static str, String) {
+    use rust_decimal::prelude::ToPrimitive;
+    let spread = discount - growth;
+    let point = Decimal::new(1, 2);
+    // The growing perpetuity C / (r - g): one point more on r scales it by
+    // (r - g) / (r - g + 0.01).
+    let higher = (value * spread / (spread + point)).round_dp(2);
+    let rate = |r: Decimal| w.rate(r.to_f64().unwrap_or(0.0));
+    (
+        "A terminal value close to its growth rate",
+        format!(
+            "The line {label} ends in a terminal value of {}: a flow growing for ever at {} \
+             a year, discounted at {}, only {} apart. So close, a small change in either rate \
+             moves the value a great deal: with the discount rate one point higher it would \
+             be {}. Test the growth and the discount rate in scenarios before relying on \
+             this value.",
+            w.money(value),
+            rate(growth),
+            rate(discount),
+            rate(spread),
+            w.money(higher)
+        ),
+    )
+}
+
+fn real_amounts_nominal_rates(w: &Wording) -> (&'static str, String) {
+    let (h, npv) = (&w.hurdle, &w.npv);
+    (
+        "Real amounts, rates not said to be real",
+        format!(
+            "The deal states its amounts in real terms (inflation removed) but does not \
+             say that its hurdle rate of {h} is a real rate. Discounting real amounts at a \
+             rate that includes inflation understates their value, and the NPV of {npv} \
+             and the decision rest on that rate. If the rates are real, say so in the deal \
+             (`basis: {{ rates: real }}`); if not, state the hurdle rate without inflation."
         ),
     )
 }
@@ -954,6 +1005,13 @@ mod tests {
                 reinvestment_range: None,
             },
             Caution::ShortHorizon,
+            Caution::TerminalSpread {
+                label: "Residual value".to_string(),
+                discount: Decimal::new(8, 2),
+                growth: Decimal::new(65, 3),
+                value: Decimal::from(100_000_000),
+            },
+            Caution::RealAmountsNominalRates,
         ];
         let case = plain();
         let f = &case.flows;

@@ -65,6 +65,8 @@ mod tests {
         let a = Analysis {
             deal: "pump".to_string(),
             currency: "EUR".to_string(),
+            units: None,
+            basis: None,
             scenarios: vec![analyse_scenario("base", &flows, &rates)],
         };
         let v = analysis(&a).expect("json");

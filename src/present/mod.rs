@@ -12,6 +12,7 @@
 pub mod cautions;
 pub mod certificate;
 pub mod json;
+pub mod lines;
 pub mod numbers;
 pub mod summary;
 pub mod terminal;

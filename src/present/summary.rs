@@ -484,6 +484,8 @@ mod tests {
         Analysis {
             deal: "test".to_string(),
             currency: "EUR".to_string(),
+            units: None,
+            basis: None,
             scenarios,
         }
     }

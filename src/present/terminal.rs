@@ -2,7 +2,8 @@
 //! [`Style`].
 
 use super::{
-    caution_text_list, decimals_to_separate, percent, ratio, scenario_npv_in, words, Style,
+    caution_text_list, decimals_to_separate, lines, money_in, percent, ratio, scenario_npv_in,
+    words, Style,
 };
 use crate::diag::terminal_safe;
 use crate::engine::{Analysis, ScenarioAnalysis};
@@ -14,6 +15,16 @@ const T: Style = Style::Terminal;
 pub fn report(a: &Analysis) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "{} ({})", terminal_safe(&a.deal), a.currency);
+    if let Some(units) = a.units {
+        let _ = writeln!(
+            o,
+            "  amounts     {}",
+            lines::units_words(units, &a.currency)
+        );
+    }
+    if let Some(basis) = &a.basis {
+        let _ = writeln!(o, "  basis       {}", lines::basis_words(basis));
+    }
     for s in &a.scenarios {
         scenario_block(&mut o, s, &a.currency);
     }
@@ -22,7 +33,14 @@ pub fn report(a: &Analysis) -> String {
 
 fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     let _ = writeln!(o);
-    let title = format!("scenario: {}", terminal_safe(&s.name));
+    let title = match &s.label {
+        Some(label) => format!(
+            "scenario: {} ({})",
+            terminal_safe(&s.name),
+            terminal_safe(label)
+        ),
+        None => format!("scenario: {}", terminal_safe(&s.name)),
+    };
     let _ = writeln!(o, "{title}\n{}", "-".repeat(title.chars().count()));
     let _ = writeln!(
         o,
@@ -121,6 +139,31 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
             ""
         }
     );
+    if let Some(e) = &s.peak_exposure {
+        let _ = writeln!(
+            o,
+            "  exposure    peak {}",
+            lines::exposure_words(e, currency, T)
+        );
+    }
+    if let Some(c) = s.committed_outflows {
+        let _ = writeln!(
+            o,
+            "  committed   {} of outflows over all lines",
+            money_in(c, currency, T)
+        );
+    }
+    if let Some(ls) = &s.lines {
+        let _ = writeln!(o, "  lines");
+        for l in ls {
+            let _ = writeln!(
+                o,
+                "    {}: {}",
+                terminal_safe(&l.label),
+                lines::line_totals(l, currency, T)
+            );
+        }
+    }
     if !s.cautions.is_empty() {
         let _ = writeln!(o, "  cautions");
         for c in caution_text_list(s, currency) {

@@ -167,7 +167,11 @@ fn refiling_unchanged_inputs_files_nothing_and_a_change_files_002() {
 fn approved_signoff_is_recorded_in_the_manifest() {
     let dir = tempfile::tempdir().unwrap();
     let deal = dir.path().join("quarry.yaml");
-    std::fs::copy(examples().join("corrie-vale-quarry.yaml"), &deal).unwrap();
+    std::fs::copy(
+        root().join("tests/fixtures/v1/corrie-vale-quarry.yaml"),
+        &deal,
+    )
+    .unwrap();
     edit(&deal, "decision: deferred", "decision: approved");
     let archive = dir.path().join("archive");
     let out = file_memo(&deal, &archive);
@@ -427,7 +431,7 @@ fn quarry_pair(dir: &Path) -> (PathBuf, PathBuf) {
     let new = dir.join("new").join("quarry.yaml");
     for p in [&old, &new] {
         std::fs::create_dir_all(p.parent().unwrap()).unwrap();
-        std::fs::copy(examples().join("corrie-vale-quarry.yaml"), p).unwrap();
+        std::fs::copy(root().join("tests/fixtures/v1/corrie-vale-quarry.yaml"), p).unwrap();
     }
     // A larger closure cost and a higher hurdle.
     edit(&new, "-7000000]", "-9000000]");

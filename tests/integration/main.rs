@@ -14,6 +14,7 @@ mod faults;
 mod fuzz_regressions;
 mod help;
 mod limits;
+mod lines;
 mod memo;
 mod new;
 mod pack;

@@ -13,8 +13,9 @@ use candor::engine::{
     Stance, Totals,
 };
 use candor::memo::{build_memo, build_memo_with_changes, sha256_hex, MemoInputs, MemoOutput};
+use candor::model::lines::split_by_sign;
 use candor::model::{
-    Clock, Deal, Frequency, Memo, MemoSection, Rates, Scenario, Signoff, SignoffDecision,
+    Clock, Deal, Frequency, Memo, MemoSection, Rates, Scenario, Signoff, SignoffDecision, Units,
 };
 use chrono::NaiveDate;
 use rust_decimal::Decimal;
@@ -73,6 +74,10 @@ fn pump_scenario(name: &str, cautions: Vec<Caution>) -> ScenarioAnalysis {
     };
     ScenarioAnalysis {
         name: name.to_string(),
+        label: None,
+        lines: None,
+        peak_exposure: None,
+        committed_outflows: None,
         hurdle_rate: 0.10,
         finance_rate: 0.10,
         reinvestment_rate: 0.10,
@@ -144,10 +149,20 @@ fn sample(name: &str, decision: SignoffDecision) -> (Analysis, Deal) {
     let analysis = Analysis {
         deal: name.to_string(),
         currency: "EUR".to_string(),
+        units: None,
+        basis: None,
         scenarios: vec![base, hostile_scenario],
     };
     let flows = Flows::periodic(["-1600", "10000", "-10000"].iter().map(|a| dec(a)), 1);
+    let rates = Rates {
+        hurdle: dec("0.10"),
+        finance: dec("0.10"),
+        reinvestment: dec("0.10"),
+    };
     let deal = Deal {
+        version: 1,
+        units: Units::Ones,
+        basis: None,
         name: name.to_string(),
         currency: "EUR".to_string(),
         as_of: NaiveDate::from_ymd_opt(2026, 11, 30).expect("date"),
@@ -165,13 +180,19 @@ fn sample(name: &str, decision: SignoffDecision) -> (Analysis, Deal) {
                 name: "base".to_string(),
                 label: None,
                 description: String::new(),
+                rates,
+                components: split_by_sign(&flows),
                 flows: flows.clone(),
+                narrow_terminals: vec![],
             },
             Scenario {
                 name: HOSTILE.to_string(),
                 label: None,
                 description: "inflows \u{00d7} 1 (unchanged, for the test)".to_string(),
+                rates,
+                components: split_by_sign(&flows),
                 flows,
+                narrow_terminals: vec![],
             },
         ],
         memo: Memo {

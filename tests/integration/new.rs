@@ -22,12 +22,29 @@ fn periodic_starter_is_named_after_the_deal_and_passes_check() {
     let (code, report) = check(dir.path(), "harbour-row-offices.yaml");
     assert_eq!(code, Some(0), "{report}");
     assert_eq!(report["deal"], "Harbour Row offices");
-    // Periodic starter: 11 yearly flows, base case + 3 scenarios.
+    // Periodic starter: 11 yearly flows, base case + 5 scenarios.
     assert_eq!(report["flows"], 11);
-    assert_eq!(report["scenarios"].as_array().map(Vec::len), Some(4));
+    assert_eq!(report["scenarios"].as_array().map(Vec::len), Some(6));
     let text = std::fs::read_to_string(dir.path().join("harbour-row-offices.yaml")).unwrap();
     assert!(text.contains("every: year"));
     assert!(!text.contains("day_count"));
+    // It teaches format version 2: lines, a generated stream, a terminal value, and
+    // labelled scenarios that change one assumption each.
+    for taught in [
+        "candor: 2",
+        "lines:",
+        "stream:",
+        "terminal:",
+        "label:",
+        "factors:",
+        "shift:",
+        "change:",
+        "extend_horizon:",
+        "units:",
+        "basis:",
+    ] {
+        assert!(text.contains(taught), "the starter lacks {taught}");
+    }
     // The starter also goes through the whole analysis.
     let rates = candor(dir.path(), &["rates", "harbour-row-offices.yaml"]);
     assert_eq!(rates.status.code(), Some(0));
@@ -43,7 +60,10 @@ fn dated_starter_passes_check_and_rates() {
     assert_eq!(report["deal"], "Dock Lane depot");
     let text = std::fs::read_to_string(dir.path().join("dock-lane-depot.yaml")).unwrap();
     assert!(text.contains("day_count: act/365f"));
-    assert!(!text.contains("every:"));
+    assert!(!text.contains("timing:\n  every"));
+    for taught in ["lines:", "dated:", "stream:", "label:", "shift:", "drop:"] {
+        assert!(text.contains(taught), "the dated starter lacks {taught}");
+    }
     let rates = candor(dir.path(), &["rates", "--json", "dock-lane-depot.yaml"]);
     assert_eq!(rates.status.code(), Some(0));
 }

@@ -103,7 +103,7 @@ fn malformed_fixtures_are_rejected() {
         "unknown-value--frequency",
         "unknown-value--day-count",
         "unknown-value--signoff-decision",
-        "unknown-version--two",
+        "unknown-version--three",
         "bad-currency--euro",
         "bad-number--rate-as-text",
         "flows-conflict--periodic-and-dated",
@@ -111,6 +111,11 @@ fn malformed_fixtures_are_rejected() {
         "reserved-name--scenario-base",
         "empty-flows--no-amounts",
         "several--five-mistakes",
+        "bad-key--line-key-with-space",
+        "flows-conflict--line-two-forms",
+        "missing-field--line-without-amounts",
+        "unknown-value--units",
+        "unknown-field--line-field-typo",
     ] {
         let text = std::fs::read_to_string(dir.join(format!("{name}.yaml"))).unwrap();
         assert!(!errors(&v, &text).is_empty(), "{name} passes the schema");
@@ -159,6 +164,38 @@ fn schema_and_validator_agree_on_variants() {
         (format!("{base}{periodic}signoff:\n  date: [2027-02-01]\n"), false),
         (format!("candor: 1\ndeal:\n  name: X\n  currency: usd\n  as_of: 2027-01-01\nhurdle_rate: 9%\n{periodic}"), false),
         (format!("candor: 1\ndeal:\n  name: X\n  currency: CHF\n  as_of: 2027-01-01\n  sector: energy\nhurdle_rate: 9%\n{periodic}"), false),
+    ];
+    for (text, expected) in cases {
+        let errs = errors(&v, &text);
+        assert_eq!(errs.is_empty(), expected, "schema on:\n{text}\n{errs:#?}");
+        assert_eq!(validator_accepts(&text), expected, "validator on:\n{text}");
+    }
+}
+
+/// The same agreement on deals of format version 2: lines in each form, units and
+/// basis, and each kind of scenario change.
+#[test]
+fn schema_and_validator_agree_on_version_two() {
+    let v = schema();
+    let head = "candor: 2\ndeal:\n  name: Lines deal\n  currency: EUR\n  as_of: 2027-01-01\nhurdle_rate: 9%\ntiming: { every: year }\n";
+    let lines = "lines:\n  build: { label: Build, amounts: [-1000] }\n  rent: { stream: { first: 300, start: 1, periods: 5, growth: 2% } }\n";
+    let cases: Vec<(String, bool)> = vec![
+        (format!("{head}{lines}"), true),
+        (format!("{}{lines}", head.replace("as_of: 2027-01-01\n", "as_of: 2027-01-01\n  units: Thousands\n  basis: { prices: real, tax: after, rates: real }\n")), true),
+        (format!("{}{lines}", head.replace("as_of: 2027-01-01\n", "as_of: 2027-01-01\n  units: dozens\n")), false),
+        (format!("{}{lines}", head.replace("as_of: 2027-01-01\n", "as_of: 2027-01-01\n  basis: { prices: current }\n")), false),
+        (format!("{head}horizon: 8\n{lines}"), true),
+        (format!("{head}lines:\n  build: {{ amounts: [-1000] }}\n  exit: {{ terminal: {{ at: 5, next_flow: 80, growth: 1%, discount: 9% }} }}\n"), true),
+        (format!("{head}lines:\n  build: {{ amounts: [-1000] }}\n  rent: {{ amounts: [300, 300], from: 1, stream: {{ first: 1, start: 0, periods: 1 }} }}\n"), false),
+        (format!("{head}lines:\n  build: {{ amounts: [-1000] }}\n  rent: {{ label: Rent }}\n"), false),
+        (format!("{head}lines:\n  build: {{ amounts: [-1000] }}\n  rent: {{ stream: {{ first: 300, start: 1, periods: 5, speed: 2 }} }}\n"), false),
+        (format!("{head}lines:\n  build it: {{ amounts: [-1000, 600, 600] }}\n"), false),
+        (format!("{head}lines: {{}}\n"), false),
+        (format!("{head}{lines}scenarios:\n  s:\n    label: Stressed\n    hurdle_rate: 10%\n    factors: {{ build: 1.2, rent: 0.9 }}\n    shift: {{ rent: 1 }}\n    extend_horizon: true\n"), true),
+        (format!("{head}{lines}scenarios:\n  s:\n    change: {{ rent: {{ stream: {{ growth: 0% }} }} }}\n    add: {{ grant: {{ amounts: [100] }} }}\n    drop: [build]\n"), true),
+        (format!("{head}{lines}scenarios:\n  s:\n    factors: {{ rent: -1 }}\n"), false),
+        (format!("{head}{lines}scenarios:\n  s:\n    cash_flows: {{ every: year, amounts: [1] }}\n"), false),
+        (format!("{head}{lines}scenarios:\n  s:\n    extend_horizon: maybe\n"), false),
     ];
     for (text, expected) in cases {
         let errs = errors(&v, &text);
