@@ -8,6 +8,7 @@ pub mod dd;
 pub mod figures;
 pub mod irr;
 pub mod roots;
+pub mod sensitivity;
 
 pub use crate::model::flows::{self, FlowPoint, Flows};
 pub use analysis::*;
@@ -24,7 +25,15 @@ pub fn analyse(deal: &Deal) -> Analysis {
         scenarios: deal
             .scenarios
             .iter()
-            .map(|s| analyse_scenario(&s.name, &s.flows, &deal.rates))
+            .map(|s| {
+                let mut a = analyse_scenario(&s.name, &s.flows, &deal.rates);
+                a.sensitivity = Some(sensitivity::sensitivity(
+                    &sensitivity::v1_components(&s.flows),
+                    &deal.rates,
+                    &sensitivity::SensitivityOptions::default(),
+                ));
+                a
+            })
             .collect(),
     }
 }
@@ -121,6 +130,7 @@ pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAna
         npv_profile: figures::npv_profile(&flows, &marks, hurdle),
         irr: report,
         cautions: Vec::new(),
+        sensitivity: None,
     };
     let one_sign = flows.points.iter().all(|p| p.amount.is_sign_positive())
         || flows.points.iter().all(|p| p.amount.is_sign_negative());

@@ -127,6 +127,7 @@ fn pump_scenario(name: &str, cautions: Vec<Caution>) -> ScenarioAnalysis {
             })
             .collect(),
         cautions,
+        sensitivity: None,
     }
 }
 
