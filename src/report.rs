@@ -20,6 +20,8 @@ use std::collections::BTreeMap;
 /// Figures in the memo are written for print.
 const PRINT: Style = Style::Print;
 
+mod sensitivity;
+
 /// The name of the main template, the one rendered first.
 pub const MAIN_TEMPLATE: &str = "memo.typ.j2";
 
@@ -30,6 +32,10 @@ pub const BUILTIN_TEMPLATES: &[(&str, &str)] = &[
     (
         "scenario.typ.j2",
         include_str!("../templates/scenario.typ.j2"),
+    ),
+    (
+        "sensitivity.typ.j2",
+        include_str!("../templates/sensitivity.typ.j2"),
     ),
 ];
 
@@ -173,6 +179,16 @@ pub fn render_body(
         .flatten()
         {
             *path = format!("{prefix}{path}");
+        }
+        if let Some(v) = &mut s.sensitivity {
+            for path in v
+                .count_maps
+                .iter_mut()
+                .filter_map(|c| c.chart.as_mut())
+                .chain(v.tornado_chart.as_mut())
+            {
+                *path = format!("{prefix}{path}");
+            }
         }
     }
     render_view(&view, ctx)
@@ -463,6 +479,8 @@ struct ScenarioView {
     charts: ChartPaths,
     profile_range: Option<String>,
     roots_outside: Vec<String>,
+    /// The sensitivity (`templates/sensitivity.typ.j2`).
+    sensitivity: Option<sensitivity::SensitivityView>,
 }
 
 #[derive(Debug, Serialize)]
@@ -710,6 +728,7 @@ fn scenario_view(
             )
         }),
         roots_outside,
+        sensitivity: sensitivity::view(index, s, currency, charts),
     }
 }
 

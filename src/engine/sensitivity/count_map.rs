@@ -383,13 +383,29 @@ fn wronskian(rest: &Flows, own: &Flows) -> Option<(Vec<Decimal>, Vec<i64>)> {
     } else {
         Vec::new()
     };
-    for &(tj, aj) in &a {
-        for &(tk, bk) in &b {
-            if tj == tk {
-                continue;
+    // When no product or sum can leave i128 (bounded up front: every coefficient is at
+    // most max|a| max|b| max|t_k - t_j| times the number of pairs), the dense sums run
+    // without overflow checks; otherwise every step is checked.
+    let max_a = a.iter().map(|x| x.1.unsigned_abs()).max().unwrap_or(0) as f64;
+    let max_b = b.iter().map(|x| x.1.unsigned_abs()).max().unwrap_or(0) as f64;
+    let reach = (hi - lo) as f64;
+    let pairs = a.len() as f64 * b.len() as f64;
+    if !dense.is_empty() && max_a * max_b * reach * pairs < 2f64.powi(125) {
+        for &(tj, aj) in &a {
+            for &(tk, bk) in &b {
+                let slot = &mut dense[(tj + tk - lo) as usize];
+                *slot = slot.wrapping_add(aj.wrapping_mul(bk).wrapping_mul(i128::from(tk - tj)));
             }
-            let v = aj.checked_mul(bk)?.checked_mul(i128::from(tk - tj))?;
-            add(tj + tk, v, &mut dense)?;
+        }
+    } else {
+        for &(tj, aj) in &a {
+            for &(tk, bk) in &b {
+                if tj == tk {
+                    continue;
+                }
+                let v = aj.checked_mul(bk)?.checked_mul(i128::from(tk - tj))?;
+                add(tj + tk, v, &mut dense)?;
+            }
         }
     }
     let mut terms: Vec<(i64, i128)> = if dense.is_empty() {

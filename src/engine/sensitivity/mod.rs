@@ -323,24 +323,71 @@ struct Parts {
     pv: Vec<(Dd, Dd, f64)>,
 }
 
+/// The components' flows prepared once for [`Parts::at`]: the distinct times (in
+/// years, double-double) and each flow's amount with the index of its time.
+struct Prepared {
+    times: Vec<Dd>,
+    /// Per component: (index into `times`, amount, inflow?).
+    flows: Vec<Vec<(usize, Dd, bool)>>,
+}
+
+impl Prepared {
+    fn new(components: &[Component]) -> Prepared {
+        let mut offsets: Vec<(i64, u64)> = components
+            .iter()
+            .flat_map(|c| {
+                c.flows
+                    .points
+                    .iter()
+                    .map(|p| (p.offset, c.flows.units_per_year))
+            })
+            .collect();
+        offsets.sort_unstable();
+        offsets.dedup();
+        let times = offsets.iter().map(|&(o, u)| Dd::ratio(o, u)).collect();
+        let flows = components
+            .iter()
+            .map(|c| {
+                c.flows
+                    .points
+                    .iter()
+                    .map(|p| {
+                        let i = offsets
+                            .binary_search(&(p.offset, c.flows.units_per_year))
+                            .unwrap_or(0);
+                        (i, Dd::from_decimal(p.amount), p.amount.is_sign_positive())
+                    })
+                    .collect()
+            })
+            .collect();
+        Prepared { times, flows }
+    }
+}
+
 impl Parts {
-    fn at(components: &[Component], rate: Decimal) -> Option<Parts> {
+    fn at(prepared: &Prepared, rate: Decimal) -> Option<Parts> {
         let base = Dd::ONE + Dd::from_decimal(rate);
         if base.hi <= 0.0 {
             return None;
         }
         let log_base = base.ln();
         let lb = log_base.to_f64().abs();
-        let pv = components
+        // Each distinct time's discount factor once, with its error allowance.
+        let discount: Vec<(Dd, f64)> = prepared
+            .times
             .iter()
-            .map(|c| {
+            .map(|t| ((-(*t * log_base)).exp(), 1.0 + t.to_f64().abs() * lb))
+            .collect();
+        let pv = prepared
+            .flows
+            .iter()
+            .map(|flows| {
                 let (mut pos, mut neg, mut err) = (Dd::ZERO, Dd::ZERO, 0.0);
-                let units = c.flows.units_per_year;
-                for p in &c.flows.points {
-                    let t = Dd::ratio(p.offset, units);
-                    let term = Dd::from_decimal(p.amount) * (-(t * log_base)).exp();
-                    err += term.to_f64().abs() * (1.0 + t.to_f64().abs() * lb) * TERM_ERROR;
-                    if p.amount.is_sign_positive() {
+                for &(i, amount, inflow) in flows {
+                    let (d, allowance) = discount[i];
+                    let term = amount * d;
+                    err += term.to_f64().abs() * allowance * TERM_ERROR;
+                    if inflow {
                         pos = pos + term;
                     } else {
                         neg = neg + term;
@@ -453,7 +500,8 @@ pub fn sensitivity(
 ) -> Sensitivity {
     let ones = vec![Decimal::ONE; components.len()];
     let hurdle = rates.hurdle;
-    let base_parts = Parts::at(components, hurdle);
+    let prepared = Prepared::new(components);
+    let base_parts = Parts::at(&prepared, hurdle);
     let base_npv = base_parts
         .as_ref()
         .and_then(|p| moved_npv(components, p, &ones, 0));
@@ -486,7 +534,7 @@ pub fn sensitivity(
             TornadoMove {
                 step: s.to_f64().unwrap_or(0.0),
                 hurdle_rate: rate.to_f64().unwrap_or(0.0),
-                npv: Parts::at(components, rate).and_then(|p| moved_npv(components, &p, &ones, 0)),
+                npv: Parts::at(&prepared, rate).and_then(|p| moved_npv(components, &p, &ones, 0)),
             }
         })
         .collect();
@@ -557,7 +605,7 @@ pub fn sensitivity(
             .find(|b| b.kind == MoveKind::Component)
             .and_then(|b| components.iter().position(|c| c.key == b.key)),
     };
-    let table = table_index.map(|i| two_way_table(components, i, hurdle, options));
+    let table = table_index.map(|i| two_way_table(components, &prepared, i, hurdle, options));
 
     let headlines = headlines(&tornado, &break_even, &count_map);
     Sensitivity {
@@ -703,6 +751,7 @@ pub fn hurdle_band(net: &Flows, hurdle: f64) -> HurdleBand {
 
 fn two_way_table(
     components: &[Component],
+    prepared: &Prepared,
     index: usize,
     hurdle: Decimal,
     options: &SensitivityOptions,
@@ -725,7 +774,7 @@ fn two_way_table(
     let mut npv = Vec::new();
     let mut zero_at = Vec::new();
     for rate in &rates {
-        let parts = Parts::at(components, *rate);
+        let parts = Parts::at(prepared, *rate);
         npv.push(
             factors
                 .iter()
