@@ -1,4 +1,4 @@
-//! The count map (docs/methods.md, "Where the number of IRRs changes"): for one
+//! The count map (docs/methods.md, "Sensitivity"): for one
 //! component scaled by a factor f, the factors at which the number of real IRRs
 //! changes, and the certified count between them.
 //!
