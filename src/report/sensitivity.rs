@@ -31,6 +31,8 @@ pub(super) struct SensitivityView {
     pub(super) count_maps: Vec<CountRow>,
     /// True when some count changes within the factors studied.
     count_changes: bool,
+    /// When every map is drawn and certified and none changes: the one count they show.
+    count_steady: Option<u32>,
     /// The two-way table.
     table: Option<TableView>,
     /// The findings a decision page leads with, as sentences.
@@ -51,6 +53,9 @@ pub(super) struct CountRow {
     sentence: String,
     /// Path of the strip chart, only where the count changes.
     pub(super) chart: Option<String>,
+    /// True when the memo mentions the component: its count changes, or its map was
+    /// not drawn or not certified.
+    shown: bool,
 }
 
 #[derive(Debug, Serialize)]
@@ -120,6 +125,9 @@ pub(super) fn view(
             } else {
                 strip_of(k)
             },
+            shown: !m.change_points.is_empty()
+                || !m.certified
+                || m.status != crate::engine::sensitivity::MapStatus::Mapped,
         })
         .collect();
     let table = sens.table.as_ref().map(|t| TableView {
@@ -162,8 +170,19 @@ pub(super) fn view(
             .collect(),
         band: capitalised(&band_sentence(&sens.hurdle_band, PRINT)),
         count_changes: sens.count_map.iter().any(|m| !m.change_points.is_empty()),
+        count_steady: steady(sens),
         count_maps,
         table,
         headlines: headline_sentences(sens, s.hurdle_rate, currency, periodic, PRINT),
     })
+}
+
+/// The count every map shows when each is drawn, certified and without a change.
+fn steady(sens: &crate::engine::sensitivity::Sensitivity) -> Option<u32> {
+    let mut counts = sens.count_map.iter().map(|m| match m.intervals.as_slice() {
+        [one] if m.certified && one.certified && m.change_points.is_empty() => Some(one.count),
+        _ => None,
+    });
+    let first = counts.next()??;
+    counts.all(|c| c == Some(first)).then_some(first)
 }

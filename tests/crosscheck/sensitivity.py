@@ -35,7 +35,7 @@ import random
 import subprocess
 import sys
 import time
-from concurrent.futures import ThreadPoolExecutor
+from concurrent.futures import ProcessPoolExecutor, ThreadPoolExecutor
 from fractions import Fraction
 
 import mpmath
@@ -189,7 +189,8 @@ def main() -> int:
     ap.add_argument("--seed", type=int, default=20261214)
     ap.add_argument("--count", type=int, default=240, help="generated deals")
     ap.add_argument("--out", default="target/crosscheck")
-    ap.add_argument("--jobs", type=int, default=2)
+    ap.add_argument("--jobs", type=int, default=os.cpu_count() or 2,
+                    help="engine runs and reference worker processes")
     args = ap.parse_args()
     t0 = time.time()
     folder = os.path.join(args.out, "sensitivity")
@@ -220,8 +221,9 @@ def main() -> int:
             and (pts[0]["count_below"], pts[0]["count_above"]) == (0, 2)):
         failed += 1
         report.append(f"--- known-double-root: expected one change at 1.1 (0 -> 2), got {pts}")
-    for (name, every, amounts, _), got in zip(deals, outs):
-        problems, stats = check_deal(amounts, got)
+    with ProcessPoolExecutor(args.jobs) as pool:
+        checked = list(pool.map(check_deal, [d[2] for d in deals], outs, chunksize=4))
+    for (name, every, amounts, _), (problems, stats) in zip(deals, checked):
         for k, v in stats.items():
             totals[k] = totals.get(k, 0) + v
         if problems:

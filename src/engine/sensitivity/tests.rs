@@ -295,3 +295,88 @@ fn the_count_map_sees_a_root_leave_through_minus_one_hundred_percent() {
         assert_eq!(irr::roots_of(&deal).count(), i.count, "{i:?}");
     }
 }
+
+/// Components of a deal on one yearly or quarterly clock: two to four parts, each a
+/// few flows of either sign in cents, some at the same times as others.
+fn components() -> impl proptest::strategy::Strategy<Value = Vec<Component>> {
+    use proptest::prelude::*;
+    let part = prop::collection::vec((0i64..12, -500_000i64..500_000), 1..6);
+    (
+        prop::collection::vec(part, 2..5),
+        prop::sample::select(vec![1u32, 4]),
+    )
+        .prop_map(|(parts, per_year)| {
+            parts
+                .into_iter()
+                .enumerate()
+                .map(|(i, flows)| Component {
+                    key: format!("part_{i}"),
+                    label: format!("part {i}"),
+                    flows: Flows {
+                        points: flows
+                            .into_iter()
+                            .filter(|f| f.1 != 0)
+                            .map(|(o, c)| FlowPoint {
+                                offset: o,
+                                amount: Decimal::new(c, 2),
+                                date: None,
+                                period: None,
+                                note: None,
+                            })
+                            .collect(),
+                        units_per_year: u64::from(per_year),
+                        periods_per_year: Some(per_year),
+                    }
+                    .into_normalised(),
+                })
+                .filter(|c| !c.flows.points.is_empty())
+                .collect()
+        })
+}
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(128))]
+
+    /// On any decomposition: each break-even put back gives an NPV within a cent of
+    /// zero, and each certified interval of a count map has the engine's count at a
+    /// factor inside it (and the counts beside a change point differ).
+    #[test]
+    fn break_even_and_count_map_hold_for_any_components(
+        comps in components(),
+        hurdle in 0u32..2000,
+    ) {
+        proptest::prop_assume!(comps.len() >= 2);
+        let h = Decimal::new(i64::from(hurdle), 4);
+        let s = sensitivity(&comps, &rates(&h.to_string()), &SensitivityOptions::default());
+        for (i, b) in s.break_even.iter().enumerate() {
+            if let BreakEvenOutcome::At { factor, .. } = b.outcome {
+                let mut m = vec![Decimal::ONE; comps.len()];
+                m[i] = factor;
+                let moved = moved_deal(&comps, &m, 0).expect("in range");
+                let npv = npv_at_hurdle(&moved, h).0.expect("npv");
+                proptest::prop_assert!(npv.abs() <= dec("0.01"), "{} at {}", npv, factor);
+            }
+        }
+        for (i, map) in s.count_map.iter().enumerate() {
+            for iv in map.intervals.iter().filter(|iv| iv.certified) {
+                let mid = (iv.from + iv.to) / 2.0;
+                let Some(f) = (0..=12).find_map(|dp| {
+                    let d = Decimal::from_f64(mid)?.round_dp(dp);
+                    let v = d.to_f64()?;
+                    (v > iv.from && v < iv.to).then_some(d)
+                }) else { continue };
+                let mut m = vec![Decimal::ONE; comps.len()];
+                m[i] = f;
+                let deal = moved_deal(&comps, &m, 0).expect("in range");
+                let set = irr::roots_of(&deal);
+                if set.certified {
+                    proptest::prop_assert_eq!(set.count(), iv.count, "{:?} at {}", map.key, f);
+                }
+            }
+            for p in &map.change_points {
+                proptest::prop_assert_ne!(p.count_below, p.count_above);
+                proptest::prop_assert!(p.interval[0] <= p.factor && p.factor <= p.interval[1]);
+            }
+        }
+    }
+}
