@@ -105,6 +105,10 @@ pub fn break_even_sentence(b: &BreakEven, hurdle: f64, style: Style) -> String {
             "no break-even for {name}: the NPV at {h} stays {} for any factor of 0 or more",
             sign_word(*keeps)
         ),
+        BreakEvenOutcome::Beyond { keeps } => format!(
+            "no break-even for {name} within reach: the NPV at {h} stays {} for any factor up to 10^28",
+            sign_word(*keeps)
+        ),
         BreakEvenOutcome::Independent => {
             format!("no break-even for {name}: scaling {name} leaves the NPV at {h} unchanged")
         }

@@ -368,14 +368,16 @@ fn wronskian(rest: &Flows, own: &Flows) -> Option<(Vec<Decimal>, Vec<i64>)> {
     let lo = a[0].0 + b[0].0;
     let hi = a[a.len() - 1].0 + b[b.len() - 1].0;
     let span = usize::try_from(hi - lo).ok()? + 1;
-    let mut acc: Vec<(i64, i128)> = Vec::new();
+    // Sums on a sparse clock (dated flows) go to a map keyed by exponent, whose size is
+    // the number of distinct sums rather than of pairs.
+    let mut sparse: std::collections::BTreeMap<i64, i128> = std::collections::BTreeMap::new();
     let mut add = |s: i64, v: i128, dense: &mut Vec<i128>| -> Option<()> {
-        if dense.is_empty() {
-            acc.push((s, v));
+        let slot = if dense.is_empty() {
+            sparse.entry(s).or_insert(0)
         } else {
-            let slot = &mut dense[(s - lo) as usize];
-            *slot = slot.checked_add(v)?;
-        }
+            &mut dense[(s - lo) as usize]
+        };
+        *slot = slot.checked_add(v)?;
         Some(())
     };
     let mut dense: Vec<i128> = if span <= 1 << 18 {
@@ -409,15 +411,7 @@ fn wronskian(rest: &Flows, own: &Flows) -> Option<(Vec<Decimal>, Vec<i64>)> {
         }
     }
     let mut terms: Vec<(i64, i128)> = if dense.is_empty() {
-        acc.sort_by_key(|t| t.0);
-        let mut merged: Vec<(i64, i128)> = Vec::new();
-        for (s, v) in acc {
-            match merged.last_mut() {
-                Some(last) if last.0 == s => last.1 = last.1.checked_add(v)?,
-                _ => merged.push((s, v)),
-            }
-        }
-        merged
+        sparse.into_iter().collect()
     } else {
         dense
             .iter()

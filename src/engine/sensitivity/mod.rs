@@ -78,8 +78,8 @@ pub struct SensitivityOptions {
 }
 
 /// The largest product of flow counts the count map takes ([`SensitivityOptions::max_pairs`]):
-/// two series of 2,000 flows.
-pub const MAX_PAIRS: usize = 4_000_000;
+/// two series of 1,000 flows (a 481-flow monthly deal needs at most 231,361).
+pub const MAX_PAIRS: usize = 1_000_000;
 
 impl Default for SensitivityOptions {
     fn default() -> Self {
@@ -219,6 +219,12 @@ pub enum BreakEvenOutcome {
     /// The component's present value at the hurdle is zero (to 32 digits): scaling it
     /// does not move the NPV.
     Independent,
+    /// The NPV is zero only at a factor beyond Decimal's range (about 7.9e28): it
+    /// keeps this sign for every factor up to there.
+    Beyond {
+        /// The sign the NPV keeps.
+        keeps: Sign,
+    },
 }
 
 /// The hurdle rates at which the NPV is above zero, between the deal's IRRs.
@@ -684,6 +690,7 @@ fn break_even_of(parts: &Parts, i: usize) -> (BreakEvenOutcome, Option<f64>) {
                 Some(f.to_f64()),
             )
         }
+        None if f.to_f64() > 0.0 => (BreakEvenOutcome::Beyond { keeps: now }, None),
         _ => (BreakEvenOutcome::None { keeps: now }, None),
     }
 }

@@ -247,6 +247,44 @@ fn the_count_map_finds_a_double_root_at_a_known_factor() {
 }
 
 #[test]
+fn the_count_map_of_dated_flows_takes_the_sparse_sums() {
+    // The same -100, 200 f, -121 dated on 1 January a year apart under act/act-isda: each
+    // interval is one year exactly (ISDA 2006 4.16(b); methods.md, Day counts), so the
+    // double root is again at f = 1.1 and 10%, and the clock (133,590 units a year)
+    // spreads the exponents too wide for the dense sums.
+    let date = |y| chrono::NaiveDate::from_ymd_opt(y, 1, 1).expect("date");
+    let flows = Flows::dated(
+        vec![
+            (date(2027), dec("-100"), None),
+            (date(2028), dec("200"), None),
+            (date(2029), dec("-121"), None),
+        ],
+        crate::model::DayCount::ActActIsda,
+    );
+    let s = sensitivity(
+        &v1_components(&flows),
+        &rates("0.1"),
+        &SensitivityOptions::default(),
+    );
+    let map = s
+        .count_map
+        .iter()
+        .find(|m| m.key == "inflows")
+        .expect("map");
+    assert!(map.certified, "{map:?}");
+    let p = &map.change_points[0];
+    assert!(p.interval[0] <= 1.1 && 1.1 <= p.interval[1], "{p:?}");
+    assert!((p.annual_rate.expect("rate") - 0.1).abs() < 1e-9);
+    // The delay of the inflows on a dated clock is one year.
+    let delay = s
+        .tornado
+        .iter()
+        .find(|b| b.kind == MoveKind::InflowDelay)
+        .expect("delay");
+    assert_eq!(delay.moves[0].step, 1.0);
+}
+
+#[test]
 fn the_count_map_sees_a_root_leave_through_minus_one_hundred_percent() {
     // -100 + 50 v + 60 v^2 with the last flow made of the rest's -30 and the
     // component's +60 f... built as three components: the last net flow changes sign
