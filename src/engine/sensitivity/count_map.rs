@@ -252,6 +252,23 @@ pub(super) fn count_map(
         }
         gaps.push(count);
     }
+    // A cluster across an end of the range leaves the factors it covers inside the
+    // range without a count: the map is then incomplete unless that part is negligible.
+    if let (Some(first), Some(last)) = (clusters.first(), clusters.last()) {
+        let reach = |cl: &[Candidate], lower: bool| {
+            if lower {
+                cl.iter().map(|c| c.hi).fold(f64::NEG_INFINITY, f64::max) - f0
+            } else {
+                f1 - cl.iter().map(|c| c.lo).fold(f64::INFINITY, f64::min)
+            }
+        };
+        let tiny = 1e-9 * (f1 - f0).abs().max(1.0);
+        let straddles_low = first.iter().any(|c| c.lo <= f0) && reach(first, true) > tiny;
+        let straddles_high = last.iter().any(|c| c.hi >= f1) && reach(last, false) > tiny;
+        if straddles_low || straddles_high {
+            map.certified = false;
+        }
+    }
     // Walk the gaps and clusters: a cluster is a change point when the counts beside
     // it differ; an empty gap (a cluster at an end of the range) carries no count.
     let mut from = f0;
