@@ -36,7 +36,7 @@ pub fn step(step: f64, style: Style) -> String {
 
 /// `|change|` as a percentage with one decimal (more when that shows zero), rounded
 /// towards zero (`down`) or away from it.
-fn share(change: Decimal, down: bool) -> String {
+fn share(change: Decimal, down: bool, style: Style) -> String {
     let pct = change.abs() * Decimal::ONE_HUNDRED;
     let strategy = if down {
         RoundingStrategy::ToZero
@@ -49,7 +49,12 @@ fn share(change: Decimal, down: bool) -> String {
         places += 1;
         r = pct.round_dp_with_strategy(places, strategy);
     }
-    format!("{:.*}%", places as usize, r)
+    let text = format!("{:.*}", places as usize, r);
+    if style == Style::Terminal {
+        return format!("{text}%");
+    }
+    let (int, frac) = text.split_once('.').unwrap_or((&text, ""));
+    format!("{}.{frac}%", super::group_thousands(int))
 }
 
 fn sign_word(s: Sign) -> &'static str {
@@ -90,13 +95,13 @@ pub fn break_even_sentence(b: &BreakEven, hurdle: f64, style: Style) -> String {
             if now == Sign::Positive {
                 format!(
                     "{name} can {verb} {} before the NPV at {h} turns {}",
-                    share(*change, true),
+                    share(*change, true, style),
                     sign_word(past)
                 )
             } else {
                 format!(
                     "{name} would have to {verb} {} for the NPV at {h} to turn {}",
-                    share(*change, false),
+                    share(*change, false, style),
                     sign_word(past)
                 )
             }
@@ -327,5 +332,44 @@ pub fn terminal_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
         let line = count_map_sentence(m, t);
         let line = crate::diag::terminal_safe(&line);
         let _ = writeln!(o, "    {line}");
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn at(factor: &str, below: Sign, above: Sign) -> BreakEven {
+        let factor: Decimal = factor.parse().expect("factor");
+        BreakEven {
+            key: "sales".into(),
+            label: "sales".into(),
+            outcome: BreakEvenOutcome::At {
+                factor,
+                change: factor - Decimal::ONE,
+                below,
+                above,
+            },
+        }
+    }
+
+    #[test]
+    fn break_even_words_round_so_that_they_stay_true() {
+        // A fall of 18.49% that can be taken is said as 18.4% (taking 18.4% keeps the
+        // NPV positive); a rise of 10.71% that would have to be made as 10.8%.
+        let can = at("0.8151", Sign::Negative, Sign::Positive);
+        assert_eq!(
+            break_even_sentence(&can, 0.09, Style::Print),
+            "sales can fall 18.4% before the NPV at 9.00% turns negative"
+        );
+        let must = at("1.1071", Sign::Negative, Sign::Positive);
+        assert_eq!(
+            break_even_sentence(&must, 0.09, Style::Terminal),
+            "sales would have to rise 10.8% for the NPV at 9.00% to turn positive"
+        );
+        let tiny = at("0.99999", Sign::Negative, Sign::Positive);
+        assert!(break_even_sentence(&tiny, 0.09, Style::Print).contains("fall 0.001%"));
+        let far = at("25000", Sign::Positive, Sign::Negative);
+        assert!(break_even_sentence(&far, 0.09, Style::Print).contains("rise 2,499,900.0%"));
     }
 }
