@@ -14,6 +14,8 @@ use plotters::coord::Shift;
 use plotters::prelude::*;
 use std::ops::Range;
 
+pub mod sensitivity;
+
 /// Canvas size in SVG pixels; the memo sets two charts side by side, each about 8 cm
 /// wide, so about 0.15 mm a pixel on A4.
 const SIZE: (u32, u32) = (520, 350);
@@ -96,6 +98,8 @@ pub struct ScenarioCharts {
     /// The annual rates the profile spans (lowest, highest); IRRs outside it are not
     /// on the chart and the memo lists them beside it.
     pub profile_range: Option<(f64, f64)>,
+    /// The tornado and the count strips ([`sensitivity`]).
+    pub sensitivity: sensitivity::SensitivityCharts,
 }
 
 impl ScenarioCharts {
@@ -120,8 +124,30 @@ impl ScenarioCharts {
             self.get(k)
                 .map(|svg| (file_name(index, k), svg.as_bytes().to_vec()))
         })
+        .chain(
+            self.sensitivity
+                .tornado
+                .iter()
+                .map(|svg| (tornado_file(index), svg.as_bytes().to_vec())),
+        )
+        .chain(
+            self.sensitivity
+                .strips
+                .iter()
+                .map(|(k, svg)| (strip_file(index, *k), svg.as_bytes().to_vec())),
+        )
         .collect()
     }
+}
+
+/// The path of a scenario's tornado chart.
+pub fn tornado_file(index: usize) -> String {
+    format!("/charts/s{index}-tornado.svg")
+}
+
+/// The path of the count strip of a scenario's component `k` (its place in the count map).
+pub fn strip_file(index: usize, k: usize) -> String {
+    format!("/charts/s{index}-count-{k}.svg")
 }
 
 /// The path under which the typesetter finds a chart of the scenario at `index`.
@@ -171,6 +197,7 @@ pub fn render(scenario: &ScenarioAnalysis, currency: &str) -> Result<ScenarioCha
         balance_paths,
         cash_flows,
         profile_range,
+        sensitivity: sensitivity::render(scenario, currency)?,
     })
 }
 
@@ -228,9 +255,16 @@ type Area<'a> = DrawingArea<SVGBackend<'a>, Shift>;
 type DrawResult = Result<(), Box<dyn std::error::Error + 'static>>;
 
 fn draw(f: impl FnOnce(&Area<'_>) -> DrawResult) -> Result<String, Diagnostic> {
+    draw_sized(SIZE, f)
+}
+
+fn draw_sized(
+    size: (u32, u32),
+    f: impl FnOnce(&Area<'_>) -> DrawResult,
+) -> Result<String, Diagnostic> {
     let mut svg = String::new();
     {
-        let area = SVGBackend::with_string(&mut svg, SIZE).into_drawing_area();
+        let area = SVGBackend::with_string(&mut svg, size).into_drawing_area();
         let drawn = area
             .fill(&WHITE)
             .map_err(|e| e.to_string())

@@ -20,6 +20,8 @@ use std::collections::BTreeMap;
 /// Figures in the memo are written for print.
 const PRINT: Style = Style::Print;
 
+mod sensitivity;
+
 /// The name of the main template, the one rendered first.
 pub const MAIN_TEMPLATE: &str = "memo.typ.j2";
 
@@ -33,6 +35,10 @@ pub const BUILTIN_TEMPLATES: &[(&str, &str)] = &[
     ),
     ("checks.typ.j2", include_str!("../templates/checks.typ.j2")),
     ("lines.typ.j2", include_str!("../templates/lines.typ.j2")),
+    (
+        "sensitivity.typ.j2",
+        include_str!("../templates/sensitivity.typ.j2"),
+    ),
 ];
 
 /// Balance paths longer than this are shown as their first and last rows.
@@ -186,6 +192,16 @@ pub fn render_body(
         .flatten()
         {
             *path = format!("{prefix}{path}");
+        }
+        if let Some(v) = &mut s.sensitivity {
+            for path in v
+                .count_maps
+                .iter_mut()
+                .filter_map(|c| c.chart.as_mut())
+                .chain(v.tornado_chart.as_mut())
+            {
+                *path = format!("{prefix}{path}");
+            }
         }
     }
     render_view(&view, ctx)
@@ -546,6 +562,8 @@ struct ScenarioView {
     exposure: Option<String>,
     /// Committed outflows (version 2).
     committed: Option<String>,
+    /// The sensitivity (`templates/sensitivity.typ.j2`).
+    sensitivity: Option<sensitivity::SensitivityView>,
 }
 
 #[derive(Debug, Serialize)]
@@ -951,6 +969,7 @@ fn scenario_view(
             .as_ref()
             .map(|e| present::lines::exposure_words(e, currency, PRINT)),
         committed: s.committed_outflows.map(|c| present::money(c, PRINT)),
+        sensitivity: sensitivity::view(index, s, currency, charts),
     }
 }
 
@@ -971,9 +990,10 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
             let base = &analysis.scenarios[0];
             view.same_flows_as_base = i > 0
                 && s.flows.len() == base.flows.len()
-                && s.flows.iter().zip(&base.flows).all(|(a, b)| {
-                    a.amount == b.amount && a.period == b.period && a.date == b.date
-                })
+                && s.flows
+                    .iter()
+                    .zip(&base.flows)
+                    .all(|(a, b)| a.amount == b.amount && a.period == b.period && a.date == b.date)
                 && s.irr.roots.len() == base.irr.roots.len();
             if view.same_flows_as_base {
                 view.flow_rows.clear();
@@ -981,6 +1001,12 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
             view
         })
         .collect();
+    // The base case's sensitivity findings lead the decision page.
+    let sensitivity_headlines = scenarios
+        .first()
+        .and_then(|s| s.sensitivity.as_ref())
+        .map(|v| v.headlines.clone())
+        .unwrap_or_default();
     let anchor = "m".to_string();
     // Each caution code once, in the catalogue's order, with the scenarios raising it.
     let caution_summary = crate::engine::cautions::CODES
@@ -1074,7 +1100,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
             None => decision_text.to_string(),
         },
         against,
-        sensitivity_headlines: Vec::new(),
+        sensitivity_headlines,
         caution_summary,
         anchor,
         body_only: false,

@@ -377,9 +377,11 @@ fn short(v: Option<&Value>) -> String {
 fn json_diff(path: &str, a: &Value, b: &Value, out: &mut Vec<(String, String, String)>) {
     match (a, b) {
         (Value::Object(x), Value::Object(y)) => {
-            let mut keys: Vec<&String> = x.keys().collect();
-            keys.extend(y.keys().filter(|k| !x.contains_key(*k)));
-            for k in keys {
+            // Only the filed keys are compared: the JSON contract adds keys and never
+            // removes one (docs/design.md), so a key the filed analysis lacks was added
+            // after it was filed (such as `sensitivity`), and the manifest's hash
+            // already shows that no key was taken out of the file.
+            for k in x.keys() {
                 let p = if path.is_empty() {
                     k.clone()
                 } else {
@@ -416,6 +418,17 @@ mod tests {
         assert_eq!(plain_relative("../b.csv"), None);
         assert_eq!(plain_relative("/etc/b.csv"), None);
         assert_eq!(plain_relative(""), None);
+    }
+
+    #[test]
+    fn keys_added_to_the_contract_after_filing_are_not_differences() {
+        let filed: Value = serde_json::json!({"s": [{"npv": "1.00"}]});
+        let now: Value = serde_json::json!({"s": [{"npv": "1.00", "sensitivity": {"x": 1}}]});
+        let mut out = Vec::new();
+        json_diff("", &filed, &now, &mut out);
+        assert!(out.is_empty(), "{out:?}");
+        json_diff("", &now, &filed, &mut out);
+        assert_eq!(out.len(), 1, "a filed key missing now is a difference");
     }
 
     #[test]

@@ -83,6 +83,11 @@ pub struct ScenarioAnalysis {
     /// The cautions that apply, with the facts each states (the JSON contract and the
     /// reports give each its title and paragraph through `present::cautions`).
     pub cautions: Vec<Caution>,
+    /// Sensitivity of the NPV at the hurdle and of the count of IRRs (docs/design.md,
+    /// `sensitivity`); set by [`crate::engine::analyse`] for a deal's scenarios, absent
+    /// for a series analysed alone.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sensitivity: Option<super::sensitivity::Sensitivity>,
 }
 
 /// An amount too large for an exact decimal: its sign and the base-10 logarithm of its

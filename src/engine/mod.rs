@@ -8,6 +8,7 @@ pub mod dd;
 pub mod figures;
 pub mod irr;
 pub mod roots;
+pub mod sensitivity;
 
 pub use crate::model::flows::{self, FlowPoint, Flows};
 pub use analysis::*;
@@ -35,6 +36,25 @@ pub fn analyse(deal: &Deal) -> Analysis {
                 if lines {
                     with_lines(&mut a, s, deal);
                 }
+                // The parts the sensitivity moves: a version-2 deal's lines, else the
+                // inflows and outflows a version-1 scenario's factors scale.
+                let components = if lines {
+                    s.components
+                        .iter()
+                        .map(|c| sensitivity::Component {
+                            key: c.key.clone(),
+                            label: c.label.clone(),
+                            flows: c.flows.clone(),
+                        })
+                        .collect()
+                } else {
+                    sensitivity::v1_components(&s.flows)
+                };
+                a.sensitivity = Some(sensitivity::sensitivity(
+                    &components,
+                    &s.rates,
+                    &sensitivity::SensitivityOptions::default(),
+                ));
                 a
             })
             .collect(),
@@ -258,6 +278,7 @@ pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAna
         committed_outflows: None,
         irr: report,
         cautions: Vec::new(),
+        sensitivity: None,
     };
     let one_sign = flows.points.iter().all(|p| p.amount.is_sign_positive())
         || flows.points.iter().all(|p| p.amount.is_sign_negative());

@@ -14,6 +14,7 @@ pub mod certificate;
 pub mod json;
 pub mod lines;
 pub mod numbers;
+pub mod sensitivity;
 pub mod summary;
 pub mod terminal;
 pub mod words;

@@ -164,6 +164,7 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
             );
         }
     }
+    super::sensitivity::terminal_block(o, s, currency);
     if !s.cautions.is_empty() {
         let _ = writeln!(o, "  cautions");
         for c in caution_text_list(s, currency) {

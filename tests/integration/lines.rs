@@ -51,6 +51,11 @@ fn the_quarry_in_lines_gives_the_figures_of_its_version_one_original() {
     for i in 0..3 {
         let (o, n) = (&old["scenarios"][i], &new["scenarios"][i]);
         for (key, value) in o.as_object().unwrap() {
+            // The sensitivity moves the deal's parts: the lines here, the inflows and
+            // outflows in version 1, so it differs by design.
+            if key == "sensitivity" {
+                continue;
+            }
             assert_eq!(&n[key], value, "scenario {i}, key {key}");
         }
     }

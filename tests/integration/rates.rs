@@ -442,3 +442,69 @@ fn an_endless_batch_line_is_answered_and_memory_stays_bounded() {
         assert!(kb < 200_000, "{kb} kB");
     }
 }
+
+#[test]
+fn sensitivity_of_the_pump() {
+    // The pump of Lorie and Savage (1955) [flows from memory]: -1,600, +10,000, -10,000
+    // a year apart, IRRs 25% and 400%, NPV at 10% = -773.55 (docs/methods.md, Check
+    // values). Keys in the order of docs/design.md, `sensitivity`.
+    let dir = tempfile::tempdir().unwrap();
+    let v = rates_json(dir.path(), &periodic("Pump", "10%", "-1600, 10000, -10000"));
+    let s = &v["scenarios"][0]["sensitivity"];
+    let keys: Vec<&str> = s.as_object().unwrap().keys().map(|k| k.as_str()).collect();
+    assert_eq!(
+        keys,
+        [
+            "steps",
+            "npv_at_hurdle",
+            "tornado",
+            "break_even",
+            "hurdle_band",
+            "count_map",
+            "table",
+            "headlines"
+        ]
+    );
+    assert_eq!(s["npv_at_hurdle"], "-773.55");
+    // The band is the range between the two IRRs (the NPV is -1600 + 10000 v -
+    // 10000 v^2 with v = 1 / (1 + r), positive between v = 0.2 and v = 0.8).
+    let band = &s["hurdle_band"];
+    assert_eq!(band["certified"], true);
+    let range = &band["ranges"][0];
+    assert!(close(
+        range["from"]["annual_rate"].as_f64().unwrap(),
+        0.25,
+        1e-12
+    ));
+    assert!(close(
+        range["to"]["annual_rate"].as_f64().unwrap(),
+        4.0,
+        1e-9
+    ));
+    // The inflows times f: -1600 + 10000 f v - 10000 v^2 has a double root where
+    // (10000 f)^2 = 4 * 1600 * 10000, f = 0.8, at v = 0.4 (r = 150%); by hand.
+    let inflows = s["count_map"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["key"] == "inflows")
+        .unwrap();
+    let p = &inflows["change_points"][0];
+    let [lo, hi] = [0, 1].map(|i| p["interval"][i].as_f64().unwrap());
+    assert!(lo <= 0.8 && 0.8 <= hi, "{p}");
+    assert!(close(p["annual_rate"].as_f64().unwrap(), 1.5, 1e-9));
+    assert_eq!(
+        (p["count_below"].as_u64(), p["count_above"].as_u64()),
+        (Some(0), Some(2))
+    );
+    // Break-even of the inflows at 10%: -1600 + 10000 f / 1.1 - 10000 / 1.21 = 0,
+    // f = 1.1 (1600 + 10000 / 1.21) / 10000 = 1.0850909...; by hand.
+    let be = &s["break_even"][0];
+    assert_eq!(be["key"], "inflows");
+    assert_eq!(be["status"], "at");
+    let f: f64 = be["factor"].as_str().unwrap().parse().unwrap();
+    assert!(
+        close(f, 1.1 * (1600.0 + 10000.0 / 1.21) / 10000.0, 1e-12),
+        "{f}"
+    );
+}
