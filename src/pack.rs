@@ -136,7 +136,7 @@ pub fn pack_markup(
             .enumerate()
             .flat_map(|(i, d)| summary_rows(i + 1, d))
             .collect(),
-        version: env!("CARGO_PKG_VERSION").to_string(),
+        version: crate::release::version(),
     };
     let mut markup = report::render_template(PACK_TEMPLATE.0, PACK_TEMPLATE.1, &view)?;
     let mut files: Files = Vec::new();

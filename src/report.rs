@@ -772,7 +772,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         },
         has_cautions: scenarios.iter().any(|s| !s.cautions.is_empty()),
         scenarios,
-        version: env!("CARGO_PKG_VERSION").to_string(),
+        version: crate::release::version(),
         changes: ctx.changes.clone(),
         body_only: false,
     }

@@ -108,7 +108,8 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
     // `--output` asks for a copy.
     let pdf = match &args.archive {
         Some(dir) => {
-            let filed = archive::file_memo(dir, &loaded, &analysis, &inputs, &make_pdf)?;
+            let filed =
+                archive::file_memo(dir, &loaded, &analysis, &inputs, &make_pdf, args.rename)?;
             for note in &filed.notes {
                 eprintln!("note: {note}");
             }
@@ -124,7 +125,7 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
                     );
                     println!("{}", path.display());
                 }
-                Filed::Overtaken { .. } => {}
+                Filed::Overtaken { .. } | Filed::RenameRefused { .. } => {}
             }
             if args.output.is_none() {
                 return Ok(());

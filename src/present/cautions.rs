@@ -58,6 +58,12 @@ pub fn caution_text(c: &Caution, f: &CautionFigures, currency: &str) -> CautionT
         }
         Caution::ShortHorizon => short_horizon(&w, f),
     };
+    // A later release words its paragraphs differently (see `crate::release`).
+    let text = if crate::release::simulating_next_release() {
+        format!("In other words: {text}")
+    } else {
+        text
+    };
     CautionText {
         code: c.code(),
         title,
