@@ -156,6 +156,8 @@ pub fn pack_markup(
             let ctx = report::MemoContext {
                 source_name: name,
                 source_sha256: sha256_hex(&d.loaded.source),
+                // A pack attaches each deal file, not yet its CSV files.
+                companions: Vec::new(),
                 created,
                 charts: d.charts.clone(),
                 templates: BTreeMap::new(),

@@ -614,12 +614,15 @@ pub fn file_memo(
                     Diagnostic::error(
                         "archive",
                         format!(
-                            "the deal's folder holds {was} (version {version}), and this deal                              file names {now}; nothing was filed"
+                            "the deal's folder holds {was} (version {version}), and this deal \
+                             file names {now}; nothing was filed"
                         ),
                     )
                     .in_file(loaded.path.display().to_string())
                     .with_hint(
-                        "if this is the same deal renamed, file it with `--rename`, which                          records the rename; if it is another deal, give its file another                          name or a `deal.id` of its own",
+                        "if this is the same deal renamed, file it with `--rename`, which \
+                         records the rename; if it is another deal, give its file another \
+                         name or a `deal.id` of its own",
                     ),
                 ));
             }

@@ -322,7 +322,9 @@ pub fn verify_version(dir: &Path, report: &mut VerifyReport, options: &VerifyOpt
             ));
         }
     }
+    let shape_problems = problems.len();
     check_manifest_shape(&shown, &manifest, problems);
+    let paths_hold = problems.len() == shape_problems;
 
     // Everything in the folder, links not followed.
     let mut unsafe_entries = false;
@@ -407,6 +409,13 @@ pub fn verify_version(dir: &Path, report: &mut VerifyReport, options: &VerifyOpt
         decision: manifest.signoff.decision.clone(),
         signature,
     });
+    if !paths_hold {
+        problems.push(format!(
+            "{shown}: the figures and the PDF were not recomputed, since the manifest's paths \
+             do not hold"
+        ));
+        return;
+    }
     if unsafe_entries {
         problems.push(format!(
             "{shown}: the figures and the PDF were not recomputed, since the version holds \
@@ -567,6 +576,7 @@ fn recompute(
     let inputs = MemoInputs {
         source: &loaded.source,
         source_name: &source_name,
+        companions: &loaded.companions,
         templates,
         created,
     };

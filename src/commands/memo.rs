@@ -83,6 +83,7 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
     let inputs = MemoInputs {
         source: &loaded.source,
         source_name: &source_name,
+        companions: &loaded.companions,
         templates,
         created,
     };

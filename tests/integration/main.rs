@@ -22,4 +22,6 @@ mod poppler;
 mod rates;
 mod roots;
 mod schema;
+mod sshsig;
+mod trust;
 mod watch;

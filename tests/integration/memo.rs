@@ -195,6 +195,7 @@ fn memo_of(analysis: &Analysis, deal: &Deal) -> MemoOutput {
         MemoInputs {
             source: SOURCE,
             source_name: "pump.yaml",
+            companions: &[],
             templates: BTreeMap::new(),
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
         },
@@ -404,6 +405,7 @@ fn every_example_deal_builds_a_memo() {
             MemoInputs {
                 source: &loaded.source,
                 source_name: &name,
+                companions: &loaded.companions,
                 templates: BTreeMap::new(),
                 created: loaded.deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
             },
@@ -431,10 +433,20 @@ fn every_example_deal_builds_a_memo() {
                 assert!(text.contains(&n), "{name}, {}: missing {n:?}", s.name);
             }
         }
+        // The deal file and every CSV file it reads are attached, byte for byte.
         let attached = pdf.attachments();
-        assert_eq!(attached.len(), 1, "{name}");
-        assert_eq!(attached[0].0, name);
-        assert_eq!(attached[0].1, loaded.source, "{name}");
+        assert_eq!(attached.len(), 1 + loaded.companions.len(), "{name}");
+        let bytes_of = |n: &str| {
+            attached
+                .iter()
+                .find(|(a, _)| a == n)
+                .map(|(_, b)| b.clone())
+                .unwrap_or_else(|| panic!("{name}: no attachment {n}"))
+        };
+        assert_eq!(bytes_of(&name), loaded.source, "{name}");
+        for (csv, bytes) in &loaded.companions {
+            assert_eq!(&bytes_of(csv), bytes, "{name}: {csv}");
+        }
         pdf.check_structure();
     }
 }
@@ -456,6 +468,7 @@ fn changes_since_a_version_print_literally() {
         MemoInputs {
             source: SOURCE,
             source_name: "pump.yaml",
+            companions: &[],
             templates: BTreeMap::new(),
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
         },
