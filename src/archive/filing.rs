@@ -230,7 +230,7 @@ pub fn file_with(
     filing: &Filing<'_>,
     sink: &mut dyn Sink,
 ) -> Result<(Filed, Vec<String>), Diagnostic> {
-    let slug = folder_name(filing.deal_file_name, None);
+    let slug = folder_name(filing.deal_file_name, filing.deal.id.as_deref());
     let files = version_files(filing, &slug)?;
     let deal_dir = archive.join(&slug);
     refuse_unsafe_deal_dir(&deal_dir)?;
@@ -467,7 +467,10 @@ pub fn predecessor(
     archive: &Path,
     filing: &Filing<'_>,
 ) -> Result<Option<(String, PathBuf)>, Diagnostic> {
-    let deal_dir = archive.join(folder_name(filing.deal_file_name, None));
+    let deal_dir = archive.join(folder_name(
+        filing.deal_file_name,
+        filing.deal.id.as_deref(),
+    ));
     if EntryKind::at(&deal_dir).ok() != Some(EntryKind::Folder) {
         return Ok(None);
     }

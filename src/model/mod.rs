@@ -22,6 +22,8 @@ pub use validate::{
 pub struct Deal {
     /// Deal name.
     pub name: String,
+    /// The deal's stable name for its archive folder (`deal.id`), when given.
+    pub id: Option<String>,
     /// ISO 4217 code.
     pub currency: String,
     /// As-of date.

@@ -30,7 +30,7 @@ const TOP: &[&str] = &[
     "memo",
     "signoff",
 ];
-const DEAL: &[&str] = &["name", "currency", "as_of"];
+const DEAL: &[&str] = &["name", "currency", "as_of", "id"];
 const CASH_FLOWS: &[&str] = &["every", "start", "amounts", "day_count", "dated", "csv"];
 const DATED: &[&str] = &["date", "amount", "note"];
 const SCENARIO: &[&str] = &[
@@ -1306,6 +1306,7 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     ctx.required(&top, "", "candor", "1");
 
     let mut header = None;
+    let mut id = None;
     if let Some(d) = ctx.required(
         &top,
         "",
@@ -1332,6 +1333,7 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
                     .ok()
             });
             let as_of = as_of.and_then(|n| ctx.date(n, "deal.as_of"));
+            id = f.get("id").and_then(|n| deal_id(ctx, n));
             if let (Some(n), Some(c), Some(a)) = (name, currency, as_of) {
                 header = Some((n, c, a));
             }
@@ -1487,6 +1489,7 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     let clock = base?.clock();
     Some(Deal {
         name,
+        id,
         currency,
         as_of,
         rates,
@@ -1495,6 +1498,30 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
         memo: memo?,
         signoff,
     })
+}
+
+/// Longest `deal.id`, in characters.
+const MAX_ID_CHARS: usize = 64;
+
+/// `deal.id`: the deal's stable name for its archive folder: letters (of any script)
+/// and digits, with `-`, `_` or `.` between them, at most 64 characters.
+fn deal_id(ctx: &mut Validator<'_, '_>, node: &Node) -> Option<String> {
+    let text = ctx.text(node, "deal.id", Text::Line(MAX_ID_CHARS))?;
+    let id = text.trim();
+    let plain = |c: char| c.is_alphanumeric() || matches!(c, '-' | '_' | '.');
+    let ends = id.chars().next().is_some_and(char::is_alphanumeric)
+        && id.chars().last().is_some_and(char::is_alphanumeric);
+    if ends && id.chars().all(plain) {
+        return Some(id.to_string());
+    }
+    ctx.hint(
+        "bad-id",
+        format!("`deal.id` `{id}` is not a plain name"),
+        "deal.id",
+        node.position,
+        "use letters (of any script) and digits, with `-`, `_` or `.` between them, such as `north-quay-2027`",
+    );
+    None
 }
 
 fn memo(ctx: &mut Validator<'_, '_>, node: &Node) -> Option<Memo> {

@@ -141,6 +141,7 @@ fn sample(name: &str, decision: SignoffDecision) -> (Analysis, Deal) {
     let flows = Flows::periodic(["-1600", "10000", "-10000"].iter().map(|a| dec(a)), 1);
     let deal = Deal {
         name: name.to_string(),
+        id: None,
         currency: "EUR".to_string(),
         as_of: NaiveDate::from_ymd_opt(2026, 11, 30).expect("date"),
         rates: Rates {

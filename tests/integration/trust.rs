@@ -690,6 +690,22 @@ fn deals_named_in_other_scripts_get_folders_of_their_own() {
 }
 
 #[test]
+fn a_deal_id_names_the_folder_whatever_the_file_is_called() {
+    let dir = tempfile::tempdir().unwrap();
+    let archive = dir.path().join("archive");
+    let with_id = DEAL.replace("  currency: EUR", "  id: Saltmarsh-Pier\n  currency: EUR");
+    for file in ["pier-draft.yaml", "pier-final.yaml"] {
+        let deal = dir.path().join(file);
+        std::fs::write(&deal, &with_id).unwrap();
+        let out = file_deal(&deal, &archive);
+        assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    }
+    // One folder, and the second file (same inputs but its name) is a second version.
+    assert_eq!(names(&archive), ["saltmarsh-pier"]);
+    assert_eq!(names(&archive.join("saltmarsh-pier")), ["001", "002"]);
+}
+
+#[test]
 fn a_renamed_deal_needs_the_flag_and_the_rename_is_recorded() {
     let (_dir, deal, archive) = pier_archive(1);
     std::fs::write(
