@@ -125,6 +125,9 @@ pub struct VerifyArgs {
     /// Check signatures against this allowed-signers file (OpenSSH's format).
     #[arg(long, value_name = "FILE")]
     pub allowed_signers: Option<PathBuf>,
+    /// A chain head recorded earlier (a manifest's SHA-256) that must still be there.
+    #[arg(long, value_name = "SHA256")]
+    pub head: Vec<String>,
 }
 
 /// Options of `candor sign`.

@@ -18,6 +18,10 @@ pub struct VerifyOptions {
     /// The allowed signers to check signatures against; `None`: a valid signature is
     /// reported with its key's fingerprint only.
     pub allowed_signers: Option<AllowedSigners>,
+    /// Chain heads recorded earlier (SHA-256 of a manifest, lower-case hex): each must
+    /// still be the manifest of a version found, else a version was removed or
+    /// rewritten since it was recorded.
+    pub expected_heads: Vec<String>,
 }
 
 /// The sign-off of one version as verified.
@@ -44,6 +48,8 @@ pub struct VerifyReport {
     pub states: Vec<VersionState>,
     /// The head of each deal's chain.
     pub heads: Vec<ChainHead>,
+    /// The SHA-256 of each manifest read, with its version's folder.
+    pub manifests: Vec<(PathBuf, String)>,
 }
 
 /// The words of a version's sign-off and signature: `approved, signed by X`,
@@ -82,6 +88,7 @@ pub fn verify(path: &Path, options: &VerifyOptions) -> Result<VerifyReport, Diag
     if is_version_dir(path) {
         verify_version(path, &mut report, options);
         check_predecessor_link(path, &mut report);
+        check_expected_heads(&mut report, options);
         return Ok(report);
     }
     let entries = strict::entries(path).map_err(cannot)?;
@@ -109,7 +116,34 @@ pub fn verify(path: &Path, options: &VerifyOptions) -> Result<VerifyReport, Diag
             .problems
             .push(format!("{}: no filed versions found here", path.display()));
     }
+    check_expected_heads(&mut report, options);
     Ok(report)
+}
+
+/// Each head recorded earlier must be the manifest of a version still there: the head
+/// now, or a version that later ones were filed after (a note).
+fn check_expected_heads(report: &mut VerifyReport, options: &VerifyOptions) {
+    for expected in &options.expected_heads {
+        let expected = expected.trim().to_ascii_lowercase();
+        let found = report
+            .manifests
+            .iter()
+            .find(|(_, sha)| *sha == expected)
+            .map(|(dir, _)| dir.clone());
+        match found {
+            Some(dir) => {
+                if !report.heads.iter().any(|h| h.sha256 == expected) {
+                    report.notes.push(format!(
+                        "the recorded head {expected} is {}, and versions were filed after it",
+                        dir.display()
+                    ));
+                }
+            }
+            None => report.problems.push(format!(
+                "the recorded head {expected} is the manifest of no version here: the version                  it named was removed or rewritten after it was recorded"
+            )),
+        }
+    }
 }
 
 /// Verifies every version of one deal's folder, and the chain between them.
@@ -293,6 +327,10 @@ pub fn verify_version(dir: &Path, report: &mut VerifyReport, options: &VerifyOpt
         }
         Err(e) => problems.push(format!("{shown}/{MANIFEST_HASH} {}", e.words())),
     }
+    report
+        .manifests
+        .push((dir.to_path_buf(), sha256_hex(&manifest_bytes)));
+    let problems = &mut report.problems;
     let manifest: Manifest = match serde_json::from_slice(&manifest_bytes) {
         Ok(m) => m,
         Err(e) => {

@@ -8,7 +8,10 @@ use std::io::Write as _;
 
 /// Runs the command.
 pub fn run(args: &VerifyArgs) -> u8 {
-    let mut options = VerifyOptions::default();
+    let mut options = VerifyOptions {
+        expected_heads: args.head.clone(),
+        ..VerifyOptions::default()
+    };
     if let Some(path) = &args.allowed_signers {
         match archive::read_allowed_signers(path) {
             Ok(a) => {

@@ -553,10 +553,13 @@ fn house_style_files_are_named_and_read_by_the_rules() {
     assert!(!dir.path().join("m.pdf").exists());
 }
 
-/// A house style whose Typst code loops a billion times is given up after the deadline,
-/// with a diagnostic naming the house style's templates; markup that ends is typeset
-/// as by `typeset`. (The loop count is the issue's; one iteration takes well over a
-/// nanosecond, so it cannot end within the two seconds given.)
+/// A house style whose Typst code loops ten billion times is given up after the
+/// deadline, with a diagnostic naming the house style's templates; markup that ends is
+/// typeset as by `typeset`. (One iteration takes well over a nanosecond, so it cannot
+/// end within the two seconds given. The loop is two nested loops over 100,000 numbers
+/// rather than one over `range(1000000000)`, an array that the abandoned compile kept
+/// growing towards 16 GB for as long as the test process lived, until the kernel killed
+/// the whole test binary for want of memory.)
 #[test]
 fn typesetting_a_house_style_has_a_deadline() {
     let options = candor::pdf::TypesetOptions {
@@ -569,13 +572,13 @@ fn typesetting_a_house_style_has_a_deadline() {
     let deadline = std::time::Duration::from_secs(2);
     let started = std::time::Instant::now();
     let err = candor::pdf::typeset_within(
-        "#for i in range(1000000000) {}\nEnd.",
+        "#for i in range(100000) { for j in range(100000) {} }\nEnd.",
         &[],
         &options,
         deadline,
         &names,
     )
-    .expect_err("a billion iterations cannot finish in two seconds");
+    .expect_err("ten billion iterations cannot finish in two seconds");
     assert!(started.elapsed() < std::time::Duration::from_secs(10));
     assert_eq!(err.code, "typeset");
     assert!(err.message.contains("`style.typ.j2`"), "{}", err.message);

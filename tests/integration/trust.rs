@@ -575,6 +575,47 @@ fn a_consistent_rewrite_of_the_latest_version_changes_the_head() {
     let after = verify(&forged, &[]);
     assert_eq!(after.status.code(), Some(0), "{}", text(&after.stdout));
     assert_ne!(head_of(&after), recorded_head);
+    // Given the head recorded before, verify names the rewrite.
+    let hash = recorded_head.rsplit(' ').next().unwrap();
+    let checked = verify(&forged, &["--head", hash]);
+    assert_eq!(checked.status.code(), Some(1));
+    assert_problem(
+        &checked,
+        &format!("the recorded head {hash} is the manifest of no version here"),
+    );
+    // The real archive still holds it; after one more filing it is a note, not a problem.
+    assert_eq!(verify(&archive, &["--head", hash]).status.code(), Some(0));
+    std::fs::write(&deal, DEAL.replace("180000", "960000")).unwrap();
+    assert_eq!(file_deal(&deal, &archive).status.code(), Some(0));
+    let later = verify(&archive, &["--head", hash]);
+    assert_eq!(later.status.code(), Some(0), "{}", text(&later.stdout));
+    assert!(
+        text(&later.stderr).contains("and versions were filed after it"),
+        "{}",
+        text(&later.stderr)
+    );
+}
+
+#[test]
+fn a_deleted_latest_version_is_caught_by_the_recorded_head() {
+    let (_dir, _deal, archive) = pier_archive(2);
+    let before = verify(&archive, &[]);
+    let head = head_of(&before);
+    let hash = head.rsplit(' ').next().unwrap();
+    let deal_dir = archive.join(FOLDER);
+    writable(&deal_dir);
+    let status = Command::new("chmod")
+        .args(["-R", "u+w", s(&deal_dir.join("002"))])
+        .status()
+        .unwrap();
+    assert!(status.success());
+    std::fs::remove_dir_all(deal_dir.join("002")).unwrap();
+    // Without the recorded head the shorter chain is whole...
+    assert_eq!(verify(&archive, &[]).status.code(), Some(0));
+    // ...with it, the loss is named.
+    let out = verify(&archive, &["--head", hash]);
+    assert_eq!(out.status.code(), Some(1));
+    assert_problem(&out, "was removed or rewritten after it was recorded");
 }
 
 fn key(name: &str) -> PathBuf {
