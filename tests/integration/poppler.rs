@@ -117,5 +117,9 @@ fn example_memos_and_a_pack_pass_poppler_and_qpdf() {
     args.extend(["-o", s(&pack)]);
     let run = candor(&args);
     assert_eq!(run.status.code(), Some(0), "{}", text(&run.stderr));
-    cross_check(&pack, &deals);
+    let inputs: Vec<PathBuf> = deals
+        .iter()
+        .flat_map(|d| candor::files::load::load_deal(d).expect("valid").files())
+        .collect();
+    cross_check(&pack, &inputs);
 }
