@@ -511,9 +511,9 @@ pub fn version_before(dir: &Path) -> Option<(String, PathBuf)> {
 /// The "changes since version N" section of a memo: the filed deal of version
 /// `version` (in `dir`) compared with `deal` and its analysis by [`crate::diff::diff`].
 pub fn changes_since(version: &str, dir: &Path, deal: &Deal, analysis: &Analysis) -> ChangesSince {
-    let old = read_manifest(dir)
+    let old = filed_deal_file(dir)
         .ok()
-        .and_then(|m| load_deal(&dir.join(&m.deal_file)).ok());
+        .and_then(|file| load_deal(&file).ok());
     let lines = match old {
         // The earlier deal is analysed again rather than read from its analysis.json:
         // filing and verifying then take the same path, and `verify` has checked that

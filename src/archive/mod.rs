@@ -325,6 +325,28 @@ fn read_manifest_bytes(dir: &Path) -> Result<Vec<u8>, String> {
         .map_err(|e| format!("{MANIFEST} {}", e.words()))
 }
 
+/// The deal file of the filed version in `dir`, as its manifest names it: only a plain
+/// path inside the version that the manifest lists as the deal, every part of it a
+/// real folder or file (no link followed, no FIFO or device), so that nothing outside
+/// the version is ever read as its deal. The error is a sentence about the manifest.
+pub fn filed_deal_file(dir: &Path) -> Result<PathBuf, String> {
+    let manifest = read_manifest(dir)?;
+    let listed = manifest
+        .files
+        .iter()
+        .any(|f| f.path == manifest.deal_file && f.role == Role::Deal);
+    if !listed || plain_relative(&manifest.deal_file).as_deref() != Some(&manifest.deal_file) {
+        return Err(format!(
+            "{MANIFEST} names the deal file `{}`, which is not a file of the version listed as \
+             its deal",
+            manifest.deal_file
+        ));
+    }
+    strict::read_inside(dir, &manifest.deal_file, crate::limits::MAX_FILE_BYTES)
+        .map_err(|e| format!("{} {}", manifest.deal_file, e.words()))?;
+    Ok(dir.join(&manifest.deal_file))
+}
+
 /// Reads and parses a version's manifest.
 fn read_manifest(dir: &Path) -> Result<Manifest, String> {
     let bytes = read_manifest_bytes(dir)?;

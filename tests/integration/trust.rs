@@ -328,6 +328,20 @@ fn manifest_paths_outside_the_version_are_refused_not_followed() {
         );
         // Nothing was read from there: no figure of /etc/passwd, no "no longer loads".
         assert!(!has(&p, "no longer loads"), "{p:?}");
+        if field == "deal_file" {
+            // `diff` of filed versions does not follow it either.
+            let v1 = archive.join(FOLDER).join("001");
+            let diff = candor(&["diff", s(&v1), s(&v2)]);
+            assert_eq!(diff.status.code(), Some(1));
+            assert!(
+                text(&diff.stderr).contains(&format!(
+                    "names the deal file `{target}`, which is not a file of the version listed \
+                     as its deal"
+                )),
+                "{}",
+                text(&diff.stderr)
+            );
+        }
     }
     // A listed path that leaves the folder is refused as well.
     rewrite_manifest(&v2, |m| {
