@@ -78,6 +78,7 @@ pub fn pipeline(data: &[u8]) -> PipelineOutcome {
         charts,
         templates: Default::default(),
         changes: None,
+        filed_version: None,
     };
     out.memo_markup = candor::report::render(&analysis, &deal, &ctx)
         .ok()

@@ -9,17 +9,27 @@
 use crate::diag::Diagnostic;
 use crate::engine::{Analysis, FlowRow, ScenarioAnalysis};
 use crate::present::{percent, scenario_rate_decimals, Style, MINUS};
-use chrono::NaiveDate;
+use chrono::{Datelike, NaiveDate};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use std::ops::Range;
 
-/// Canvas size in SVG pixels; the memo scales charts to the text width, so about
-/// 0.25 mm a pixel on A4.
-const SIZE: (u32, u32) = (640, 330);
+/// Canvas size in SVG pixels; the memo sets two charts side by side, each about 8 cm
+/// wide, so about 0.15 mm a pixel on A4.
+const SIZE: (u32, u32) = (520, 350);
 /// The face chart text asks for; the typesetter has it bundled.
 const FONT: &str = "Libertinus Serif";
-const FONT_SIZE: i32 = 17;
+/// About 7 pt once the chart is set at half the text width.
+const FONT_SIZE: i32 = 22;
+/// The narrowest a cash-flow bar is drawn, in pixels, and the least height of a bar
+/// for a flow that is not zero: every flow stays visible.
+const MIN_BAR_PX: f64 = 2.5;
+const MIN_BAR_HEIGHT_PX: f64 = 2.0;
+/// IRRs inside this band of annual rates set the NPV profile's range; others are
+/// listed beside the chart.
+const MEANINGFUL_RATES: (f64, f64) = (-0.25, 1.0);
+/// Points of the NPV profile as drawn.
+const PROFILE_POINTS: usize = 241;
 
 /// Okabe–Ito colours (Okabe and Ito, "Color Universal Design", 2008).
 const BLACK: RGBColor = RGBColor(0, 0, 0);
@@ -130,12 +140,7 @@ pub fn render_all(analysis: &Analysis) -> Result<Vec<ScenarioCharts>, Diagnostic
 
 /// Draws the charts of one scenario.
 pub fn render(scenario: &ScenarioAnalysis, currency: &str) -> Result<ScenarioCharts, Diagnostic> {
-    let profile: Vec<(f64, f64)> = scenario
-        .npv_profile
-        .iter()
-        .filter(|p| p.rate.is_finite() && p.npv.is_finite())
-        .map(|p| (p.rate, p.npv))
-        .collect();
+    let profile = profile_points(scenario);
     let profile_range = match (profile.first(), profile.last()) {
         (Some(a), Some(b)) if b.0 > a.0 => Some((a.0, b.0)),
         _ => None,
@@ -167,6 +172,52 @@ pub fn render(scenario: &ScenarioAnalysis, currency: &str) -> Result<ScenarioCha
         cash_flows,
         profile_range,
     })
+}
+
+/// The range of annual rates the NPV profile spans: 0%, the hurdle and every IRR within
+/// [`MEANINGFUL_RATES`], at least 20 percentage points wide, widened by 15% of its span
+/// on each side and kept above -99%.
+pub fn profile_span(s: &ScenarioAnalysis) -> (f64, f64) {
+    let mut lo = 0.0f64.min(s.hurdle_rate);
+    let mut hi = 0.0f64.max(s.hurdle_rate);
+    for r in s.irr.roots.iter().filter_map(|r| r.annual_rate) {
+        if r.is_finite() && r >= MEANINGFUL_RATES.0 && r <= MEANINGFUL_RATES.1 {
+            lo = lo.min(r);
+            hi = hi.max(r);
+        }
+    }
+    if hi - lo < 0.2 {
+        hi = lo + 0.2;
+    }
+    let pad = (hi - lo) * 0.15;
+    ((lo - pad).max(-0.99), hi + pad)
+}
+
+/// The NPV at evenly spaced rates over [`profile_span`], for drawing: every flow as a
+/// binary float discounted by (1 + r)^(-t).
+fn profile_points(s: &ScenarioAnalysis) -> Vec<(f64, f64)> {
+    if s.flows.is_empty() {
+        return Vec::new();
+    }
+    let (lo, hi) = profile_span(s);
+    let flows: Vec<(f64, f64)> = s
+        .flows
+        .iter()
+        .map(|f| (f.years, to_f64(f.amount)))
+        .collect();
+    (0..PROFILE_POINTS)
+        .map(|i| {
+            let r = lo + (hi - lo) * i as f64 / (PROFILE_POINTS - 1) as f64;
+            let l = r.ln_1p();
+            let npv: f64 = flows.iter().map(|(t, a)| a * (-l * t).exp()).sum();
+            (r, npv)
+        })
+        .filter(|p| p.1.is_finite())
+        .collect()
+}
+
+fn to_f64(d: rust_decimal::Decimal) -> f64 {
+    crate::model::flows::amount_f64(d)
 }
 
 fn drawable_root(root: &crate::engine::Root) -> bool {
@@ -270,11 +321,39 @@ fn npv_profile(
             (a.min(p.1), b.max(p.1))
         });
     let x = (lo * 100.0)..(hi * 100.0);
-    let mut chart = ChartBuilder::on(area)
-        .margin(12)
-        .margin_right(34)
-        .x_label_area_size(48)
-        .y_label_area_size(72)
+    let hurdle = s.hurdle_rate * 100.0;
+    let decimals = scenario_rate_decimals(s);
+    let inside: Vec<(usize, f64)> = s
+        .irr
+        .roots
+        .iter()
+        .enumerate()
+        .filter_map(|(i, r)| r.annual_rate.map(|a| (i, a)))
+        .filter(|(_, a)| a.is_finite() && *a >= lo && *a <= hi)
+        .collect();
+    // The key sits above the plot, so no label can cover the curve, the frame or the
+    // hurdle line: the hurdle, then each IRR by its number, two entries a row.
+    let mut entries: Vec<String> = Vec::new();
+    if x.contains(&hurdle) {
+        entries.push(format!(
+            "hurdle {}",
+            percent(s.hurdle_rate, 2, Style::Print)
+        ));
+    }
+    for (i, rate) in &inside {
+        entries.push(format!(
+            "IRR {}: {}",
+            i + 1,
+            percent(*rate, decimals, Style::Print)
+        ));
+    }
+    let rows = entries.len().div_ceil(2).max(1) as u32;
+    let (key_area, plot_area) = area.split_vertically(10 + 28 * rows);
+    let mut chart = ChartBuilder::on(&plot_area)
+        .margin(10)
+        .margin_right(24)
+        .x_label_area_size(52)
+        .y_label_area_size(84)
         .build_cartesian_2d(x.clone(), padded(ymin, ymax))?;
     chart
         .configure_mesh()
@@ -284,6 +363,8 @@ fn npv_profile(
         .axis_desc_style(font(FONT_SIZE))
         .x_desc("discount rate, annual")
         .y_desc(format!("NPV ({currency})"))
+        .x_labels(6)
+        .y_labels(6)
         .x_label_formatter(&|v| format!("{v:.0}%"))
         .y_label_formatter(&|v| compact_money(*v))
         .draw()?;
@@ -300,7 +381,15 @@ fn npv_profile(
         let r = padded(ymin, ymax);
         (r.start, r.end)
     };
-    let hurdle = s.hurdle_rate * 100.0;
+    let mut k: i32 = 0;
+    let mut key_entry = |text: String, sample: &dyn Fn(i32, i32) -> DrawResult| -> DrawResult {
+        let lx = 20 + 250 * (k % 2);
+        let ly = 18 + 28 * (k / 2);
+        sample(lx, ly)?;
+        key_area.draw(&Text::new(text, (lx + 42, ly - 11), font(FONT_SIZE)))?;
+        k += 1;
+        Ok(())
+    };
     if x.contains(&hurdle) {
         chart.draw_series(DashedLineSeries::new(
             [(hurdle, ylo), (hurdle, yhi)],
@@ -308,45 +397,55 @@ fn npv_profile(
             6,
             VERMILLION.stroke_width(2),
         ))?;
-        chart.draw_series(std::iter::once(Text::new(
-            format!("hurdle {}", percent(s.hurdle_rate, 2, Style::Print)),
-            (hurdle, yhi),
-            font(FONT_SIZE).pos(plotters::style::text_anchor::Pos::new(
-                plotters::style::text_anchor::HPos::Left,
-                plotters::style::text_anchor::VPos::Top,
-            )),
-        )))?;
+        key_entry(entries[0].clone(), &|lx, ly| {
+            key_area.draw(&legend_sample(
+                lx,
+                ly,
+                Some((10, 6)),
+                VERMILLION.stroke_width(2),
+            ))?;
+            Ok(())
+        })?;
     }
-    let decimals = scenario_rate_decimals(s);
-    let inside: Vec<(usize, f64)> = s
-        .irr
-        .roots
-        .iter()
-        .enumerate()
-        .filter_map(|(i, r)| r.annual_rate.map(|a| (i, a)))
-        .filter(|(_, a)| a.is_finite() && *a >= lo && *a <= hi)
-        .collect();
     for (n, (i, rate)) in inside.iter().enumerate() {
         let p = (rate * 100.0, 0.0);
         chart.draw_series(std::iter::once(Circle::new(p, 6, BLACK.stroke_width(2))))?;
         chart.draw_series(std::iter::once(Circle::new(p, 2, BLACK.filled())))?;
-        // Alternate labels above and below the axis so that close roots stay legible.
+        // The root's number beside its circle, alternately above and below the axis so
+        // that close roots stay apart.
         let above = n % 2 == 0;
-        let label = format!("IRR {}: {}", i + 1, percent(*rate, decimals, Style::Print));
-        let vpos = if above {
-            plotters::style::text_anchor::VPos::Bottom
+        let (vpos, dy) = if above {
+            (plotters::style::text_anchor::VPos::Bottom, -10)
         } else {
-            plotters::style::text_anchor::VPos::Top
+            (plotters::style::text_anchor::VPos::Top, 10)
         };
-        let offset = (yhi - ylo) * 0.04 * if above { 1.0 } else { -1.0 };
-        chart.draw_series(std::iter::once(Text::new(
-            label,
-            (rate * 100.0, offset),
-            font(FONT_SIZE).pos(plotters::style::text_anchor::Pos::new(
-                plotters::style::text_anchor::HPos::Center,
-                vpos,
-            )),
-        )))?;
+        // Next to the hurdle line, the number moves to the side away from it.
+        let gap = chart.backend_coord(&p).0 - chart.backend_coord(&(hurdle, 0.0)).0;
+        let (hpos, dx) = if !x.contains(&hurdle) || gap.abs() >= 14 {
+            (plotters::style::text_anchor::HPos::Center, 0)
+        } else if gap >= 0 {
+            (plotters::style::text_anchor::HPos::Left, 6)
+        } else {
+            (plotters::style::text_anchor::HPos::Right, -6)
+        };
+        chart.draw_series(std::iter::once(
+            EmptyElement::at(p)
+                + Text::new(
+                    format!("{}", i + 1),
+                    (dx, dy),
+                    font(FONT_SIZE).pos(plotters::style::text_anchor::Pos::new(hpos, vpos)),
+                ),
+        ))?;
+        let text = entries[usize::from(x.contains(&hurdle)) + n].clone();
+        key_entry(text, &|lx, ly| {
+            key_area.draw(&Circle::new((lx + 18, ly), 6, BLACK.stroke_width(2)))?;
+            key_area.draw(&Text::new(
+                format!("{}", i + 1),
+                (lx + 28, ly - 11),
+                font(FONT_SIZE - 4),
+            ))?;
+            Ok(())
+        })?;
     }
     Ok(())
 }
@@ -359,7 +458,7 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis, currency: &str) -> DrawR
         .enumerate()
         .filter(|(_, r)| drawable_root(r) && !r.balance_path.is_empty())
         .collect();
-    let to_f = |d: rust_decimal::Decimal| -> f64 { d.to_string().parse().unwrap_or(0.0) };
+    let to_f = to_f64;
     let series: Vec<Vec<(f64, f64)>> = roots
         .iter()
         .map(|(_, r)| {
@@ -380,14 +479,14 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis, currency: &str) -> DrawR
         |(a, b, c, d), p| (a.min(p.0), b.max(p.0), c.min(p.1), d.max(p.1)),
     );
     let xspan = (xmax - xmin).max(1.0);
-    // The legend sits above the plot, three entries a row, so it never hides a line.
-    let legend_rows = roots.len().div_ceil(3) as u32;
-    let (legend_area, plot_area) = area.split_vertically(8 + 26 * legend_rows);
+    // The legend sits above the plot, two entries a row, so it never hides a line.
+    let legend_rows = roots.len().div_ceil(2) as u32;
+    let (legend_area, plot_area) = area.split_vertically(10 + 28 * legend_rows);
     let mut chart = ChartBuilder::on(&plot_area)
-        .margin(12)
-        .margin_right(34)
-        .x_label_area_size(48)
-        .y_label_area_size(72)
+        .margin(10)
+        .margin_right(24)
+        .x_label_area_size(52)
+        .y_label_area_size(84)
         .build_cartesian_2d(
             (xmin - xspan * 0.03)..(xmax + xspan * 0.03),
             padded(ymin, ymax),
@@ -398,8 +497,10 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis, currency: &str) -> DrawR
         .bold_line_style(GREY.mix(0.5))
         .label_style(font(FONT_SIZE))
         .axis_desc_style(font(FONT_SIZE))
-        .x_desc("years from the first flow")
-        .y_desc(format!("balance after each flow ({currency})"))
+        .x_desc("years from the start")
+        .y_desc(format!("balance ({currency})"))
+        .x_labels(6)
+        .y_labels(6)
         .y_label_formatter(&|v| compact_money(*v))
         .draw()?;
     chart.draw_series(LineSeries::new(
@@ -425,10 +526,10 @@ fn balance_paths(area: &Area<'_>, s: &ScenarioAnalysis, currency: &str) -> DrawR
             }
         };
 
-        let lx = 90 + 180 * (k % 3) as i32;
-        let ly = 18 + 26 * (k / 3) as i32;
+        let lx = 20 + 250 * (k % 2) as i32;
+        let ly = 18 + 28 * (k / 2) as i32;
         legend_area.draw(&legend_sample(lx, ly, dash, style))?;
-        legend_area.draw(&Text::new(label, (lx + 44, ly - 9), font(FONT_SIZE)))?;
+        legend_area.draw(&Text::new(label, (lx + 44, ly - 11), font(FONT_SIZE)))?;
         draw_pixel_marker(&legend_area, marker, (lx + 18, ly), style)?;
         if show_markers {
             marker_series(&mut chart, marker, points, style)?;
@@ -473,10 +574,27 @@ fn parse_date(row: &FlowRow) -> Option<NaiveDate> {
         .and_then(|d| NaiveDate::parse_from_str(d, "%Y-%m-%d").ok())
 }
 
+/// Axis ticks for a span of years: at whole years, every 1, 2, 5, 10, ... years so
+/// that about six fit.
+fn year_ticks(first: f64, last: f64) -> Vec<f64> {
+    let span = (last - first).max(1.0);
+    let step = [1.0, 2.0, 5.0, 10.0, 20.0, 50.0, 100.0]
+        .into_iter()
+        .find(|s| span / s <= 7.0)
+        .unwrap_or(100.0);
+    let mut t = (first / step).ceil() * step;
+    let mut out = Vec::new();
+    while t <= last + 1e-9 {
+        out.push(t);
+        t += step;
+    }
+    out
+}
+
 fn cash_flows(area: &Area<'_>, flows: &[FlowRow], currency: &str) -> DrawResult {
     let dates: Option<Vec<NaiveDate>> = flows.iter().map(parse_date).collect();
-    let to_f = |d: rust_decimal::Decimal| -> f64 { d.to_string().parse().unwrap_or(0.0) };
-    // Dated flows go on a calendar axis (days since the first date); others on years.
+    // Dated flows go on a calendar axis (days since the first date), ticked at the
+    // starts of years; periodic flows on years since the start, ticked at whole years.
     let (xs, origin): (Vec<f64>, Option<NaiveDate>) = match &dates {
         Some(ds) if !ds.is_empty() => {
             let first = ds[0];
@@ -487,7 +605,7 @@ fn cash_flows(area: &Area<'_>, flows: &[FlowRow], currency: &str) -> DrawResult 
         }
         _ => (flows.iter().map(|f| f.years).collect(), None),
     };
-    let amounts: Vec<f64> = flows.iter().map(|f| to_f(f.amount)).collect();
+    let amounts: Vec<f64> = flows.iter().map(|f| to_f64(f.amount)).collect();
     let xmin = xs.iter().copied().fold(f64::INFINITY, f64::min);
     let xmax = xs.iter().copied().fold(f64::NEG_INFINITY, f64::max);
     let min_gap = xs
@@ -495,31 +613,55 @@ fn cash_flows(area: &Area<'_>, flows: &[FlowRow], currency: &str) -> DrawResult 
         .map(|w| w[1] - w[0])
         .filter(|g| *g > 0.0)
         .fold(f64::INFINITY, f64::min);
-    let unit = if origin.is_some() { 30.0 } else { 1.0 };
-    let width = if min_gap.is_finite() {
-        min_gap * 0.6
-    } else {
-        unit * 0.6
-    };
+    let unit = if origin.is_some() { 365.0 } else { 1.0 };
     let (ymin, ymax) = amounts
         .iter()
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
             (a.min(*v), b.max(*v))
         });
-    let pad = width.max((xmax - xmin) * 0.03);
-    let mut chart = ChartBuilder::on(area)
-        .margin(12)
-        .margin_right(34)
-        .x_label_area_size(48)
-        .y_label_area_size(72)
-        .build_cartesian_2d((xmin - pad)..(xmax + pad), padded(ymin, ymax))?;
-    let date_label = |v: &f64| match origin {
+    let span = (xmax - xmin).max(unit);
+    // Pixels of the plot, roughly: the canvas less the label areas and margins.
+    let plot_w = f64::from(SIZE.0) - 84.0 - 34.0;
+    let plot_h = f64::from(SIZE.1) - 52.0 - 20.0;
+    let natural = if min_gap.is_finite() {
+        min_gap * 0.6
+    } else {
+        unit * 0.6
+    };
+    let width = natural.max(MIN_BAR_PX * span * 1.2 / plot_w);
+    // Room for half a bar and a little more on each side, so no bar meets the frame.
+    let pad = span * 0.04 + width / 2.0;
+    let xrange = (xmin - pad)..(xmax + pad);
+    let yrange = padded(ymin, ymax);
+    let per_px_x = (xrange.end - xrange.start) / plot_w;
+    let per_px_y = (yrange.end - yrange.start) / plot_h;
+    let width = width.max(MIN_BAR_PX * per_px_x);
+    let min_height = MIN_BAR_HEIGHT_PX * per_px_y;
+    let ticks: Vec<f64> = match origin {
+        Some(first) => {
+            let last = first + chrono::Duration::days(xmax.round() as i64);
+            let years = year_ticks(f64::from(first.year()) + 1.0, f64::from(last.year()));
+            years
+                .into_iter()
+                .filter_map(|y| NaiveDate::from_ymd_opt(y as i32, 1, 1))
+                .map(|d| (d - first).num_days() as f64)
+                .collect()
+        }
+        None => year_ticks(xmin.ceil(), xmax.floor()),
+    };
+    let label_of = |v: &f64| match origin {
         Some(first) => {
             let d = first + chrono::Duration::days(v.round() as i64);
-            d.format("%Y-%m").to_string()
+            d.format("%Y").to_string()
         }
-        None => format!("{v:.1}"),
+        None => format!("{v:.0}"),
     };
+    let mut chart = ChartBuilder::on(area)
+        .margin(10)
+        .margin_right(24)
+        .x_label_area_size(52)
+        .y_label_area_size(84)
+        .build_cartesian_2d(xrange.clone(), yrange.clone())?;
     chart
         .configure_mesh()
         .light_line_style(WHITE)
@@ -527,39 +669,69 @@ fn cash_flows(area: &Area<'_>, flows: &[FlowRow], currency: &str) -> DrawResult 
         .label_style(font(FONT_SIZE))
         .axis_desc_style(font(FONT_SIZE))
         .x_desc(if origin.is_some() {
-            "date"
+            "year (ticks at 1 January)"
         } else {
-            "years from the first flow"
+            "years from the start"
         })
         .y_desc(format!("cash flow ({currency})"))
-        .x_labels(8)
-        .x_label_formatter(&date_label)
+        .x_labels(0)
+        .y_labels(6)
         .y_label_formatter(&|v| compact_money(*v))
         .draw()?;
+    // The x ticks by hand, at the chosen years: a short mark below the axis and its
+    // label under it, with a faint grid line.
+    let ybottom = yrange.start;
+    for &t in ticks.iter().filter(|t| xrange.contains(t)) {
+        chart.draw_series(LineSeries::new(
+            [(t, yrange.start), (t, yrange.end)],
+            GREY.mix(0.5).stroke_width(1),
+        ))?;
+        let (px, py) = chart.backend_coord(&(t, ybottom));
+        area.draw(&PathElement::new(
+            vec![(px, py), (px, py + 6)],
+            BLACK.stroke_width(1),
+        ))?;
+        area.draw(&Text::new(
+            label_of(&t),
+            (px, py + 8),
+            font(FONT_SIZE).pos(plotters::style::text_anchor::Pos::new(
+                plotters::style::text_anchor::HPos::Center,
+                plotters::style::text_anchor::VPos::Top,
+            )),
+        ))?;
+    }
+    chart.draw_series(LineSeries::new(
+        [(xrange.start, 0.0), (xrange.end, 0.0)],
+        BLACK.stroke_width(1),
+    ))?;
     // Inflows solid green, outflows vermillion with a black outline: the sign shows
-    // by position too, so the chart reads without colour.
+    // by position too, so the chart reads without colour. Every bar is at least
+    // MIN_BAR_PX wide and MIN_BAR_HEIGHT_PX tall, so no flow disappears between pixels.
+    let bar = |x: f64, a: f64| {
+        let h = if a.abs() < min_height {
+            min_height.copysign(a)
+        } else {
+            a
+        };
+        [(x - width / 2.0, 0.0), (x + width / 2.0, h)]
+    };
     chart.draw_series(xs.iter().zip(&amounts).map(|(&x, &a)| {
         let style = if a >= 0.0 {
             GREEN.filled()
         } else {
             VERMILLION.filled()
         };
-        Rectangle::new([(x - width / 2.0, 0.0), (x + width / 2.0, a)], style)
+        Rectangle::new(bar(x, a), style)
     }))?;
-    chart.draw_series(
-        xs.iter()
-            .zip(&amounts)
-            .filter(|(_, a)| **a < 0.0)
-            .map(|(&x, &a)| {
-                Rectangle::new(
-                    [(x - width / 2.0, 0.0), (x + width / 2.0, a)],
-                    BLACK.stroke_width(1),
-                )
-            }),
-    )?;
-    chart.draw_series(LineSeries::new(
-        [(xmin - pad, 0.0), (xmax + pad, 0.0)],
-        BLACK.stroke_width(1),
-    ))?;
+    // Outlines only where bars stand apart; on a dense axis an outline would cover
+    // the neighbouring bars.
+    if natural >= MIN_BAR_PX * per_px_x * 2.0 {
+        chart.draw_series(
+            xs.iter()
+                .zip(&amounts)
+                .filter(|(_, a)| **a < 0.0)
+                .map(|(&x, &a)| Rectangle::new(bar(x, a), BLACK.stroke_width(1))),
+        )?;
+    }
     Ok(())
 }

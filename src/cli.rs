@@ -52,6 +52,10 @@ pub struct CheckArgs {
     /// Print the diagnostics as JSON on stdout.
     #[arg(long)]
     pub json: bool,
+    /// Check against a house style's fonts as well as the bundled ones (the folder
+    /// `memo --templates` takes).
+    #[arg(long, value_name = "DIR")]
+    pub templates: Option<PathBuf>,
 }
 
 /// Options of `candor rates`.
@@ -81,7 +85,8 @@ pub struct MemoArgs {
     /// Where to write the PDF (default: the deal's name with `.pdf`, next to the deal file).
     #[arg(short, long, value_name = "FILE.pdf")]
     pub output: Option<PathBuf>,
-    /// A folder of templates that replace the built-in house style.
+    /// A house-style folder: templates (`*.j2`) that replace built-in ones, and font
+    /// files (`*.ttf`, `*.otf`) added to the bundled fonts.
     #[arg(long, value_name = "DIR")]
     pub templates: Option<PathBuf>,
     /// Also write an intermediate form: `--emit typst FILE` writes the generated markup.

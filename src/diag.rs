@@ -2,7 +2,7 @@
 //! message, where it is (file, field path, line and column) and an optional hint.
 //! A result may carry many diagnostics at once.
 
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::borrow::Cow;
 use std::fmt::Write as _;
 
@@ -53,7 +53,7 @@ fn shown(text: &str) -> String {
 }
 
 /// How serious a diagnostic is.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Severity {
     /// The input cannot be used.
@@ -63,7 +63,7 @@ pub enum Severity {
 }
 
 /// A position in a text file, both counted from 1.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
 pub struct Position {
     /// Line, from 1.
     pub line: usize,
@@ -72,7 +72,7 @@ pub struct Position {
 }
 
 /// One problem found by any stage.
-#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Diagnostic {
     /// Error or warning.
     pub severity: Severity,

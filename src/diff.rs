@@ -389,7 +389,7 @@ fn result_changes(a: &ScenarioAnalysis, b: &ScenarioAnalysis, currency: &str) ->
     );
     change(
         &mut figures,
-        "decision at hurdle",
+        "NPV rule at hurdle",
         Some(a.decision),
         Some(b.decision),
         |d: Decision| words::decision(d).to_string(),
@@ -453,7 +453,8 @@ fn label(scenario: &str) -> String {
     if scenario == "base" {
         "base case".to_string()
     } else {
-        format!("scenario {scenario}")
+        // The key in words, as the memo prints it (`weak_demand`: "Weak demand").
+        format!("scenario {}", words::scenario_label(scenario))
     }
 }
 
@@ -615,10 +616,10 @@ pub fn plain_lines(d: &Diff) -> Vec<String> {
         out.push(change_sentence(c, &field_words(&c.field), quote));
     }
     for s in &d.scenarios_added {
-        out.push(format!("Scenario {s} added."));
+        out.push(format!("Scenario {} added.", words::scenario_label(s)));
     }
     for s in &d.scenarios_removed {
-        out.push(format!("Scenario {s} removed."));
+        out.push(format!("Scenario {} removed.", words::scenario_label(s)));
     }
     for f in &d.flows {
         let who = opening(&label(&f.scenario));
@@ -721,7 +722,7 @@ mod tests {
             vec![
                 "Hurdle rate changed from 9% to 10%.",
                 "Narrative section \"Site\" added: \"New text\".",
-                "Scenario delay added.",
+                "Scenario Delay added.",
                 "Base case: the flow of 100.00 at period 3 removed.",
             ]
         );

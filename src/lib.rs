@@ -14,7 +14,7 @@
 //! | engine | [`screen`] | [`screen::screen_stream`] | `rates --batch`: one JSON line per series |
 //! | presentation | [`present`], [`chart`], [`diff`] | [`present::terminal::report`], [`present::json::analysis`], [`chart::render`], [`diff::diff`] | every word and number (terminal, print), the JSON contract, SVG charts, differences |
 //! | markup | [`report`] | [`report::render`] | Typst markup |
-//! | typesetting | [`pdf`] | [`pdf::typeset`] | PDF/A-3b bytes with the deal file attached |
+//! | typesetting | [`pdf`], [`worker`] | [`pdf::typeset`], [`worker::typeset_within`] | PDF/A-3b bytes with the deal file attached; a house style's typesetting in a child process within a budget of time and memory |
 //! | files | [`files`] | [`files::load::load_deal`], [`files::output::write_output`] | a deal read from disk; output written atomically |
 //! | building | [`memo`], [`pack`] | [`memo::build_memo`], [`pack::build`] | a memo, a pack of memos |
 //! | archive | [`archive`] | [`archive::file_memo`], [`archive::verify`] | filed versions, and their verification |
@@ -44,3 +44,4 @@ pub mod release;
 pub mod report;
 pub mod schema;
 pub mod screen;
+pub mod worker;

@@ -74,3 +74,7 @@ pub const MAX_LIST_ENTRIES: usize = MAX_FLOWS;
 /// 1,000,000. The tree is held in memory, about 80 bytes a value, so this bounds the
 /// memory a file of 10 MB can take.
 pub const MAX_NODES: usize = 1_200_000;
+
+/// Font files a house style may add to the bundled fonts (each at most
+/// [`MAX_FILE_BYTES`], like any file candor reads besides the deal).
+pub const MAX_HOUSE_FONTS: usize = 16;

@@ -6,7 +6,7 @@ use crate::diag::{Diagnostic, Failure};
 use crate::engine::Analysis;
 use crate::files::output;
 use crate::model::Deal;
-use crate::{chart, pdf, report};
+use crate::{chart, pdf, report, worker};
 use chrono::NaiveDateTime;
 use sha2::{Digest, Sha256};
 use std::collections::BTreeMap;
@@ -33,6 +33,8 @@ pub struct MemoInputs<'a> {
     pub companions: &'a [(String, Vec<u8>)],
     /// Templates replacing built-in ones, by name.
     pub templates: BTreeMap<String, String>,
+    /// Font files of the house style, beside the bundled fonts.
+    pub fonts: pdf::HouseFonts,
     /// Creation time written into the PDF.
     pub created: NaiveDateTime,
 }
@@ -51,19 +53,21 @@ pub fn build_memo(
     deal: &Deal,
     inputs: MemoInputs<'_>,
 ) -> Result<MemoOutput, Failure> {
-    build_memo_with_changes(analysis, deal, inputs, None)
+    build_memo_with_changes(analysis, deal, inputs, None, None)
 }
 
 /// Builds the memo of a filed version, with its section on what changed since the
-/// previous version (`None` for a first version, which has no such section).
+/// previous version (`None` for a first version, which has no such section) and the
+/// version it is filed as, which its title block shows.
 pub fn build_memo_with_changes(
     analysis: &Analysis,
     deal: &Deal,
     inputs: MemoInputs<'_>,
     changes: Option<report::ChangesSince>,
+    filed_version: Option<&str>,
 ) -> Result<MemoOutput, Failure> {
     let charts = draw_charts(analysis)?;
-    let markup = render_markup(analysis, deal, &inputs, &charts, changes)?;
+    let markup = render_markup(analysis, deal, &inputs, &charts, changes, filed_version)?;
     let pdf = typeset_markup(&markup, &charts, &inputs)?;
     Ok(MemoOutput { markup, pdf })
 }
@@ -91,6 +95,7 @@ pub fn render_markup(
     inputs: &MemoInputs<'_>,
     charts: &[chart::ScenarioCharts],
     changes: Option<report::ChangesSince>,
+    filed_version: Option<&str>,
 ) -> Result<String, Failure> {
     let house_style = !inputs.templates.is_empty();
     let ctx = report::MemoContext {
@@ -105,6 +110,7 @@ pub fn render_markup(
         charts: charts.to_vec(),
         templates: inputs.templates.clone(),
         changes,
+        filed_version: filed_version.map(str::to_string),
     };
     report::render(analysis, deal, &ctx).map_err(|d| blame(d, house_style))
 }
@@ -115,7 +121,7 @@ pub fn typeset_markup(
     charts: &[chart::ScenarioCharts],
     inputs: &MemoInputs<'_>,
 ) -> Result<Vec<u8>, Failure> {
-    let house_style = !inputs.templates.is_empty();
+    let house_style = !inputs.templates.is_empty() || !inputs.fonts.is_empty();
     let mut files: Vec<(String, Vec<u8>)> = charts
         .iter()
         .enumerate()
@@ -135,9 +141,25 @@ pub fn typeset_markup(
         ident: report::input_hash(inputs.source_name, &sha256_hex(inputs.source), &hashes),
     };
     if house_style {
+        // A house style is typeset by a child process of this program, within a budget
+        // of time and memory (see `worker`).
+        let program = std::env::current_exe().map_err(|e| {
+            Failure::internal(Diagnostic::error(
+                "typeset",
+                format!("cannot find the candor program to typeset with: {e}"),
+            ))
+        })?;
         let names: Vec<String> = inputs.templates.keys().cloned().collect();
-        pdf::typeset_within(markup, &files, &options, pdf::HOUSE_STYLE_DEADLINE, &names)
-            .map_err(|d| blame(d, true))
+        worker::typeset_within(
+            &program,
+            markup,
+            &files,
+            &inputs.fonts,
+            &options,
+            worker::Budget::HOUSE_STYLE,
+            &names,
+        )
+        .map_err(|d| blame(d, true))
     } else {
         pdf::typeset(markup, &files, &options).map_err(|d| blame(d, false))
     }
@@ -165,10 +187,20 @@ pub fn slug(name: &str) -> String {
     }
 }
 
-/// The default output path: the slug of the deal's name with `.pdf`, next to the deal.
+/// The default output path: the deal file's own name with `.pdf` for its extension,
+/// next to the deal (`brannock-mill-hydro.yaml` gives `brannock-mill-hydro.pdf`), so two
+/// deal files in one folder never write the same memo. The slug of the deal's name
+/// stands in only when the file has no name to use.
 pub fn default_output(deal_path: &Path, deal_name: &str) -> PathBuf {
     let folder = deal_path.parent().unwrap_or_else(|| Path::new(""));
-    folder.join(format!("{}.pdf", slug(deal_name)))
+    let stem = deal_path
+        .file_stem()
+        .map(|s| s.to_string_lossy().to_string())
+        .filter(|s| !s.is_empty() && !s.starts_with('.'));
+    match stem {
+        Some(stem) => folder.join(format!("{stem}.pdf")),
+        None => folder.join(format!("{}.pdf", slug(deal_name))),
+    }
 }
 
 /// Writes bytes to `path` through a temporary file in the same folder, so the file
@@ -177,11 +209,39 @@ pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
     output::write_atomically_with(path, bytes, &mut output::Disk)
 }
 
-/// Reads the templates of a house-style folder, by file name: every `*.j2` file must be
-/// named as a built-in template ([`report::BUILTIN_TEMPLATES`]) and is read by the
-/// rules of [`crate::files::load::read_companion`] (a regular file in the folder or
-/// below it, at most 10 MiB). Every problem is reported at once.
-pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
+/// A house style: templates that replace built-in ones, and font files added to the
+/// bundled fonts.
+#[derive(Debug, Clone, Default)]
+pub struct HouseStyle {
+    /// Templates by name (see [`report::BUILTIN_TEMPLATES`]).
+    pub templates: BTreeMap<String, String>,
+    /// Font files (`*.ttf`, `*.otf`, `*.ttc`, `*.otc`).
+    pub fonts: pdf::HouseFonts,
+}
+
+impl HouseStyle {
+    /// The names of every file read, relative to the folder, in order.
+    pub fn file_names(&self) -> Vec<String> {
+        let mut names: Vec<String> = self.templates.keys().cloned().collect();
+        names.extend(self.fonts.names().map(str::to_string));
+        names
+    }
+}
+
+/// True when a file name ends like a font file's.
+fn is_font_file(name: &str) -> bool {
+    let lower = name.to_ascii_lowercase();
+    [".ttf", ".otf", ".ttc", ".otc"]
+        .iter()
+        .any(|end| lower.ends_with(end))
+}
+
+/// Reads a house-style folder: every `*.j2` file must be named as a built-in template
+/// ([`report::BUILTIN_TEMPLATES`]), and every font file (`*.ttf`, `*.otf`, `*.ttc`,
+/// `*.otc`, at most [`crate::limits::MAX_HOUSE_FONTS`]) must hold a face typst can read.
+/// Each is read by the rules of [`crate::files::load::read_companion`] (a regular file in
+/// the folder or below it, at most 10 MiB). Every problem is reported at once.
+pub fn read_house_style(dir: &Path) -> Result<HouseStyle, Failure> {
     let shown = dir.display().to_string();
     let folder_error = |e: std::io::Error| {
         Failure::invalid(
@@ -195,6 +255,7 @@ pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
         .collect::<Vec<_>>()
         .join(", ");
     let mut names = Vec::new();
+    let mut font_names = Vec::new();
     for entry in std::fs::read_dir(dir).map_err(folder_error)? {
         let name = entry
             .map_err(folder_error)?
@@ -203,11 +264,14 @@ pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
             .to_string();
         if name.ends_with(".j2") {
             names.push(name);
+        } else if is_font_file(&name) {
+            font_names.push(name);
         }
     }
     // The folder's listing order is the file system's; the messages' order is not.
     names.sort();
-    let mut out = BTreeMap::new();
+    font_names.sort();
+    let mut style = HouseStyle::default();
     let mut problems = Vec::new();
     for name in names {
         let file = dir.join(&name).display().to_string();
@@ -231,7 +295,7 @@ pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
             });
         match text {
             Ok(text) => {
-                out.insert(name, text);
+                style.templates.insert(name, text);
             }
             Err(why) => problems.push(
                 Diagnostic::error("templates", format!("cannot read the template: {why}"))
@@ -239,20 +303,47 @@ pub fn read_templates(dir: &Path) -> Result<BTreeMap<String, String>, Failure> {
             ),
         }
     }
+    let limit = crate::limits::MAX_HOUSE_FONTS;
+    if font_names.len() > limit {
+        problems.push(
+            Diagnostic::error(
+                "templates",
+                format!(
+                    "the folder holds {} font files; a house style may add at most {limit}",
+                    font_names.len()
+                ),
+            )
+            .in_file(shown.clone())
+            .with_hint("keep the faces the house style names, and move the others away"),
+        );
+        font_names.clear();
+    }
+    for name in font_names {
+        let file = dir.join(&name).display().to_string();
+        let added = crate::files::load::read_companion(dir, &name)
+            .map_err(|(why, _)| why)
+            .and_then(|bytes| style.fonts.add(&name, bytes));
+        if let Err(why) = added {
+            problems.push(
+                Diagnostic::error("templates", format!("cannot use the font file: {why}"))
+                    .in_file(file),
+            );
+        }
+    }
     if !problems.is_empty() {
         return Err(Failure::many(problems, crate::diag::FailureClass::Invalid));
     }
-    if out.is_empty() {
+    if style.templates.is_empty() && style.fonts.is_empty() {
         return Err(Failure::invalid(
             Diagnostic::error(
                 "templates",
-                "the template folder holds no templates (files ending in `.j2`)",
+                "the template folder holds no templates (files ending in `.j2`) and no fonts",
             )
             .in_file(shown)
             .with_hint(format!("the built-in templates are named {accepted}")),
         ));
     }
-    Ok(out)
+    Ok(style)
 }
 
 /// Writes a memo's PDF at `path` through `sink` (the disk, or in tests one that fails

@@ -14,7 +14,7 @@ use crate::{chart, pdf, report};
 use chrono::NaiveDateTime;
 use rayon::prelude::*;
 use serde::Serialize;
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::BTreeMap;
 use std::path::PathBuf;
 
 /// The pack's cover and summary template.
@@ -48,71 +48,90 @@ struct PackView {
 struct RowView {
     number: usize,
     deal: String,
-    first: bool,
-    scenario: String,
-    irrs: String,
-    npv: String,
-    mirr: String,
-    decision: String,
-    stance: String,
-    cautions: String,
+    /// Currency and the unit of the rounded amounts, with the valuation date.
+    basis: String,
+    hurdle: String,
+    peak_exposure: String,
+    /// One line per scenario: label, NPV at the hurdle and what the NPV rule says.
+    scenarios: Vec<ScenarioLine>,
+    recommendation: String,
+    committee: String,
+    /// The titles of the cautions raised in any scenario, each once.
+    cautions: Vec<String>,
 }
 
-fn summary_rows(number: usize, d: &PackedDeal) -> Vec<RowView> {
-    d.analysis
-        .scenarios
-        .iter()
-        .enumerate()
-        .map(|(i, s)| {
-            let decimals = present::scenario_rate_decimals(s);
-            let irrs = if s.irr.roots.is_empty() {
-                "none".to_string()
-            } else {
-                s.irr
-                    .roots
-                    .iter()
-                    .map(|r| present::root_rate(r, decimals, Style::Print))
-                    .collect::<Vec<_>>()
-                    .join(", ")
-            };
-            let irrs = if s.irr.certified {
-                irrs
-            } else {
-                format!("{irrs} (count not certified)")
-            };
-            let stances: BTreeSet<&str> = s
-                .irr
-                .roots
-                .iter()
-                .map(|r| words::stance_word(r.stance))
-                .collect();
-            let stance = match (&s.irr.complex_reading, stances.is_empty()) {
-                (Some(c), true) => words::stance_word(c.stance).to_string(),
-                (None, true) => "none".to_string(),
-                _ => stances.into_iter().collect::<Vec<_>>().join("; "),
-            };
-            let codes: Vec<&str> = s.cautions.iter().map(|c| c.code()).collect();
-            RowView {
-                number,
-                deal: d.loaded.deal.name.clone(),
-                first: i == 0,
-                scenario: words::scenario_label(&s.name),
-                irrs,
-                npv: present::scenario_npv_in(s, &d.analysis.currency, Style::Print),
-                mirr: s
-                    .mirr
-                    .map(|m| present::percent(m, 2, Style::Print))
-                    .unwrap_or_else(|| words::NOT_DEFINED.to_string()),
-                decision: words::decision(s.decision).to_string(),
-                stance,
-                cautions: if codes.is_empty() {
-                    "none".to_string()
-                } else {
-                    codes.join(", ")
-                },
+#[derive(Debug, Serialize)]
+struct ScenarioLine {
+    label: String,
+    npv: String,
+    rule: String,
+}
+
+fn summary_row(number: usize, d: &PackedDeal) -> RowView {
+    let deal = &d.loaded.deal;
+    let a = &d.analysis;
+    let scale = present::summary::Scale::of(a);
+    let base = a.scenarios.first();
+    let periodic_start = match deal.clock {
+        crate::model::Clock::Periodic { start, .. } => start,
+        _ => None,
+    };
+    let mut cautions: Vec<String> = Vec::new();
+    for s in &a.scenarios {
+        for c in present::caution_text_list(s, &a.currency) {
+            if !cautions.iter().any(|t| t == c.title) {
+                cautions.push(c.title.to_string());
             }
-        })
-        .collect()
+        }
+    }
+    let signoff = deal.signoff.as_ref();
+    let decision = signoff.map(|s| s.decision);
+    RowView {
+        number,
+        deal: deal.name.clone(),
+        basis: format!(
+            "{}; NPVs as at {}",
+            scale.unit(&a.currency),
+            base.map(|b| present::summary::valuation_point(b, periodic_start))
+                .unwrap_or_default()
+        ),
+        hurdle: base
+            .map(|b| present::percent(b.hurdle_rate, 2, Style::Print))
+            .unwrap_or_default(),
+        peak_exposure: base
+            .and_then(|b| present::summary::peak_exposure(&b.flows))
+            .map(|(v, _)| present::summary::scaled(v.abs(), scale, Style::Print))
+            .unwrap_or_else(|| "none".to_string()),
+        scenarios: a
+            .scenarios
+            .iter()
+            .map(|s| {
+                let label = deal
+                    .scenarios
+                    .iter()
+                    .find(|m| m.name == s.name)
+                    .and_then(|m| m.label.as_deref());
+                ScenarioLine {
+                    label: words::scenario_title(label, &s.name),
+                    npv: match s.npv_at_hurdle {
+                        Some(v) => present::summary::scaled(v, scale, Style::Print),
+                        None => present::scenario_npv(s, Style::Print),
+                    },
+                    rule: words::decision(s.decision).to_string(),
+                }
+            })
+            .collect(),
+        recommendation: deal
+            .memo
+            .recommendation
+            .clone()
+            .unwrap_or_else(|| "none given".to_string()),
+        committee: match signoff.and_then(|s| s.date) {
+            Some(date) => format!("{}, {}", words::signoff(decision), present::date_long(date)),
+            None => words::signoff(decision).to_string(),
+        },
+        cautions,
+    }
 }
 
 /// Files the typesetter can read, as (virtual path, bytes).
@@ -134,7 +153,7 @@ pub fn pack_markup(
         rows: deals
             .iter()
             .enumerate()
-            .flat_map(|(i, d)| summary_rows(i + 1, d))
+            .map(|(i, d)| summary_row(i + 1, d))
             .collect(),
         version: crate::release::version(),
     };
@@ -161,6 +180,7 @@ pub fn pack_markup(
                 charts: d.charts.clone(),
                 templates: BTreeMap::new(),
                 changes: None,
+                filed_version: None,
             };
             report::render_body(&d.analysis, &d.loaded.deal, &ctx, &prefix(i))
         })

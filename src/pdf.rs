@@ -1,8 +1,8 @@
 //! Typst markup to an archival PDF (PDF/A-3b) with typst-as-lib.
 //!
-//! Only the fonts bundled in the binary are used, never the machine's, and the creation
-//! date is fixed by the caller, so the same markup and files give the same bytes on any
-//! machine. Typst's errors come back as candor diagnostics with the code `typeset`.
+//! Only the fonts bundled in the binary (and a house style's own font files) are used,
+//! never the machine's, and the creation date is fixed by the caller, so the same
+//! markup and files give the same bytes on any machine. Typst's errors come back as candor diagnostics with the code `typeset`.
 
 use crate::diag::Diagnostic;
 use chrono::{Datelike, NaiveDate, NaiveDateTime, Timelike};
@@ -87,14 +87,68 @@ pub fn can_show(c: char) -> bool {
     c.is_control() || coverages().iter().any(|cov| cov.contains(u32::from(c)))
 }
 
-/// The characters of `text` the memo cannot show, with their positions in `text`
-/// (counted in characters, from 1).
+/// The characters of `text` the memo cannot show with the bundled fonts, with their
+/// positions in `text` (counted in characters, from 1).
 pub fn unshowable(text: &str) -> Vec<(usize, char)> {
-    text.chars()
-        .enumerate()
-        .filter(|(_, c)| !can_show(*c))
-        .map(|(i, c)| (i + 1, c))
-        .collect()
+    HouseFonts::default().unshowable(text)
+}
+
+/// Font files a house style adds to the bundled fonts (`memo --templates DIR`): typst
+/// prefers them where a template names their family and falls back to them for
+/// characters the bundled fonts lack.
+#[derive(Debug, Clone, Default)]
+pub struct HouseFonts {
+    /// Each file's name and bytes, in the order of their names.
+    files: Vec<(String, Vec<u8>)>,
+    /// The characters each face of those files covers.
+    coverages: Vec<typst::text::Coverage>,
+}
+
+impl HouseFonts {
+    /// Adds a font file (TrueType, OpenType or a collection of them); `Err` with the
+    /// reason when it holds no face typst can read.
+    pub fn add(&mut self, name: &str, bytes: Vec<u8>) -> Result<(), String> {
+        let data = typst::foundations::Bytes::new(bytes.clone());
+        let faces: Vec<typst::text::Coverage> = typst::text::Font::iter(data)
+            .map(|font| font.info().coverage.clone())
+            .collect();
+        if faces.is_empty() {
+            return Err("it is not a font file typst can read (TrueType or OpenType)".into());
+        }
+        self.coverages.extend(faces);
+        self.files.push((name.to_string(), bytes));
+        Ok(())
+    }
+
+    /// True when no font is added.
+    pub fn is_empty(&self) -> bool {
+        self.files.is_empty()
+    }
+
+    /// The names of the font files, in order.
+    pub fn names(&self) -> impl Iterator<Item = &str> {
+        self.files.iter().map(|(n, _)| n.as_str())
+    }
+
+    /// Each font file's name and bytes, in order.
+    pub fn files(&self) -> impl Iterator<Item = (&str, &[u8])> {
+        self.files.iter().map(|(n, b)| (n.as_str(), b.as_slice()))
+    }
+
+    /// True when the memo can show `c` with the bundled fonts or these.
+    pub fn can_show(&self, c: char) -> bool {
+        can_show(c) || self.coverages.iter().any(|cov| cov.contains(u32::from(c)))
+    }
+
+    /// The characters of `text` that neither the bundled fonts nor these can show, with
+    /// their positions in `text` (counted in characters, from 1).
+    pub fn unshowable(&self, text: &str) -> Vec<(usize, char)> {
+        text.chars()
+            .enumerate()
+            .filter(|(_, c)| !self.can_show(*c))
+            .map(|(i, c)| (i + 1, c))
+            .collect()
+    }
 }
 
 /// A list of unshowable characters in words: "U+1F600 at character 5, ...", the first
@@ -129,6 +183,16 @@ pub fn typeset(
     files: &[(String, Vec<u8>)],
     options: &TypesetOptions,
 ) -> Result<Vec<u8>, Diagnostic> {
+    typeset_with_fonts(markup, files, &HouseFonts::default(), options)
+}
+
+/// [`typeset`] with a house style's fonts beside the bundled ones.
+pub fn typeset_with_fonts(
+    markup: &str,
+    files: &[(String, Vec<u8>)],
+    fonts: &HouseFonts,
+    options: &TypesetOptions,
+) -> Result<Vec<u8>, Diagnostic> {
     for (name, _) in files {
         if typst::syntax::VirtualPath::new(name).is_err() {
             return Err(Diagnostic::error(
@@ -139,6 +203,7 @@ pub fn typeset(
     }
     let engine = TypstEngine::builder()
         .main_file((MAIN_FILE, markup.to_string()))
+        .fonts(fonts.files.iter().map(|(_, bytes)| bytes.as_slice()))
         .search_fonts_with(
             TypstKitFontOptions::default()
                 .include_system_fonts(false)
@@ -170,59 +235,6 @@ pub fn typeset(
         ..PdfOptions::default()
     };
     typst_pdf::pdf(&document, &pdf_options).map_err(|diags| from_diagnostics(&diags))
-}
-
-/// Typesetting with a house style may take at most this long (a memo of the example
-/// deals takes under a second; a house style running `#for i in range(1000000000) {}`
-/// would run for minutes).
-pub const HOUSE_STYLE_DEADLINE: std::time::Duration = std::time::Duration::from_secs(30);
-
-/// [`typeset`] on a worker thread, given up after `deadline` with a diagnostic naming
-/// `templates` (the house-style files whose markup is typeset). Typst has no way to
-/// stop a compilation from outside, so the worker runs on in the background until it
-/// ends or candor exits; memory is not bounded.
-pub fn typeset_within(
-    markup: &str,
-    files: &[(String, Vec<u8>)],
-    options: &TypesetOptions,
-    deadline: std::time::Duration,
-    templates: &[String],
-) -> Result<Vec<u8>, Diagnostic> {
-    use std::sync::mpsc::{channel, RecvTimeoutError};
-    let (tx, rx) = channel();
-    let (markup, files, options) = (markup.to_string(), files.to_vec(), options.clone());
-    std::thread::Builder::new()
-        .name("typeset".to_string())
-        // Typst recurses deeply on deeply nested markup; the main thread has 8 MiB.
-        .stack_size(64 * 1024 * 1024)
-        .spawn(move || {
-            let _ = tx.send(typeset(&markup, &files, &options));
-        })
-        .map_err(|e| Diagnostic::error("typeset", format!("cannot start the typesetter: {e}")))?;
-    let names = templates
-        .iter()
-        .map(|n| format!("`{n}`"))
-        .collect::<Vec<_>>()
-        .join(", ");
-    match rx.recv_timeout(deadline) {
-        Ok(result) => result,
-        Err(RecvTimeoutError::Timeout) => Err(Diagnostic::error(
-            "typeset",
-            format!(
-                "typesetting the markup of the house style ({names}) took more than {} \
-                 seconds, and was given up",
-                deadline.as_secs()
-            ),
-        )
-        .in_file(templates.first().cloned().unwrap_or_else(|| MAIN_FILE.to_string()))
-        .with_hint(
-            "look in the house style's Typst code for a loop that never ends or does far too much work",
-        )),
-        Err(RecvTimeoutError::Disconnected) => Err(Diagnostic::error(
-            "typeset",
-            "the typesetter stopped without an answer",
-        )),
-    }
 }
 
 fn from_typst_error(err: TypstAsLibError) -> Diagnostic {

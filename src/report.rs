@@ -11,7 +11,7 @@ use crate::chart::{ChartKind, ScenarioCharts};
 use crate::diag::Diagnostic;
 use crate::engine::{Analysis, BalanceRow, FlowRow, Root, ScenarioAnalysis};
 use crate::model::{Deal, SignoffDecision};
-use crate::present::{self, words, Style};
+use crate::present::{self, summary, words, Style};
 use chrono::{Datelike, NaiveDateTime, Timelike};
 use minijinja::{Environment, Error as TemplateError, ErrorKind, UndefinedBehavior, Value};
 use serde::Serialize;
@@ -31,6 +31,7 @@ pub const BUILTIN_TEMPLATES: &[(&str, &str)] = &[
         "scenario.typ.j2",
         include_str!("../templates/scenario.typ.j2"),
     ),
+    ("checks.typ.j2", include_str!("../templates/checks.typ.j2")),
 ];
 
 /// Balance paths longer than this are shown as their first and last rows.
@@ -91,6 +92,8 @@ pub struct MemoContext {
     /// What changed since the previous filed version of this deal; `None` outside the
     /// archive and for a deal's first version (the memo then has no such section).
     pub changes: Option<ChangesSince>,
+    /// The archive version this memo is filed as (`003`); `None` outside the archive.
+    pub filed_version: Option<String>,
 }
 
 /// The memo's account of what changed since the previous filed version of the deal.
@@ -217,6 +220,13 @@ pub fn render_body(
 ) -> Result<String, Diagnostic> {
     let mut view = build_view(analysis, deal, ctx);
     view.body_only = true;
+    view.anchor = format!(
+        "m{}",
+        prefix
+            .chars()
+            .filter(char::is_ascii_alphanumeric)
+            .collect::<String>()
+    );
     view.source_file = format!("{prefix}{}", view.source_file);
     for c in &mut view.companions {
         c.file = format!("{prefix}{}", c.file);
@@ -452,6 +462,26 @@ struct View {
     scenarios: Vec<ScenarioView>,
     version: String,
     changes: Option<ChangesSince>,
+    /// The archive version this memo is filed as, when filed.
+    filed_version: Option<String>,
+    /// The deal's basis and units as the title block states them; today the currency
+    /// alone (a deal file that states units or a basis extends it).
+    units_text: String,
+    /// The unit of the rounded amounts on the decision page (`GBP million`).
+    summary_unit: String,
+    /// The committee's decision in words, with its date.
+    committee: String,
+    /// Notes that the recommendation or the committee's decision goes against the
+    /// figures (first page; they never block anything).
+    against: Vec<NoteView>,
+    /// The largest swings and nearest break-evens of a sensitivity analysis, when one
+    /// was run (empty otherwise; the decision page then leaves them out).
+    sensitivity_headlines: Vec<String>,
+    /// Each caution code raised in any scenario, once, with its plain sentence.
+    caution_summary: Vec<CautionSummaryView>,
+    /// A prefix that keeps this memo's cross-reference labels apart from another
+    /// memo's in the same document.
+    anchor: String,
     /// True when the memo is part of a larger document, which owns the document-level
     /// settings.
     body_only: bool,
@@ -480,6 +510,22 @@ impl CreatedView {
             second: t.second(),
         }
     }
+}
+
+#[derive(Debug, Serialize)]
+struct NoteView {
+    title: String,
+    text: String,
+}
+
+#[derive(Debug, Serialize)]
+struct CautionSummaryView {
+    title: String,
+    headline: String,
+    /// The scenarios that raise it, by label.
+    scenarios: String,
+    /// The label of the first full text (`{anchor}-c-{scenario}-{n}`).
+    target: String,
 }
 
 #[derive(Debug, Serialize)]
@@ -533,6 +579,37 @@ struct ScenarioView {
     charts: ChartPaths,
     profile_range: Option<String>,
     roots_outside: Vec<String>,
+    /// Decision-page figures, rounded to the deal's scale where they are amounts.
+    npv_summary: String,
+    npv_rule: String,
+    irr_set: String,
+    hurdle_band: String,
+    peak_exposure: String,
+    peak_exposure_full: String,
+    payback: String,
+    payback_discounted_words: String,
+    payback_method: String,
+    /// True when the simple payback is reached (its method is then stated).
+    payback_reached: bool,
+    valuation: String,
+    /// The flow table: every flow with its note and its balance at each IRR; long
+    /// series keep their first and last rows, every change of sign and every note.
+    flow_rows: Vec<FlowTableRow>,
+    flow_hidden: usize,
+    has_notes: bool,
+    balance_heads: Vec<String>,
+    /// The definition of each balance kind the IRRs show, once.
+    kind_definitions: Vec<String>,
+}
+
+#[derive(Debug, Serialize)]
+struct FlowTableRow {
+    when: String,
+    flow: String,
+    note: String,
+    balances: Vec<String>,
+    /// Rows left out just before this one.
+    gap_before: usize,
 }
 
 #[derive(Debug, Serialize)]
@@ -565,6 +642,9 @@ struct RootView {
     multiplicity: String,
     interval: String,
     balance_kind: String,
+    /// The balance kind in two words (`mixed balance`); its definition is printed once
+    /// under the table.
+    kind: String,
     stance: String,
     decision: String,
     extreme: bool,
@@ -643,6 +723,7 @@ fn root_view(
             ),
         },
         balance_kind: words::balance_kind_explained(root.balance_kind).to_string(),
+        kind: words::balance_kind(root.balance_kind).to_string(),
         stance: words::stance_explained(root.stance).to_string(),
         decision: words::decision(root.decision).to_string(),
         extreme: root.extreme,
@@ -653,12 +734,66 @@ fn root_view(
     }
 }
 
+/// The rows of a scenario's flow table: all of them for a short series; for a long one
+/// the first [`HEAD_ROWS`] and last [`TAIL_ROWS`], every flow whose sign differs from
+/// the flow before, and every flow with a note (at most [`LONG_PATH_ROWS`] of those).
+fn flow_table_rows(flows: &[FlowRow]) -> Vec<usize> {
+    let n = flows.len();
+    if n <= LONG_PATH_ROWS {
+        return (0..n).collect();
+    }
+    let mut keep: std::collections::BTreeSet<usize> = (0..HEAD_ROWS).collect();
+    keep.extend(n - TAIL_ROWS..n);
+    let mut extra = 0;
+    for i in 1..n {
+        let turns = flows[i].amount.is_sign_negative() != flows[i - 1].amount.is_sign_negative();
+        if (turns || flows[i].note.is_some()) && !keep.contains(&i) && extra < LONG_PATH_ROWS {
+            keep.insert(i);
+            extra += 1;
+        }
+    }
+    keep.into_iter().collect()
+}
+
+fn flow_table(s: &ScenarioAnalysis, roots: &[&Root]) -> (Vec<FlowTableRow>, usize) {
+    let rows = flow_table_rows(&s.flows);
+    let mut out = Vec::with_capacity(rows.len());
+    let mut last: Option<usize> = None;
+    for &i in &rows {
+        let f = &s.flows[i];
+        let gap_before = match last {
+            Some(l) => i - l - 1,
+            None => i,
+        };
+        last = Some(i);
+        out.push(FlowTableRow {
+            when: when(Some(f), f.years),
+            flow: present::money(f.amount, PRINT),
+            note: f.note.clone().unwrap_or_default(),
+            balances: roots
+                .iter()
+                .map(|r| {
+                    r.balance_path
+                        .get(i)
+                        .filter(|_| r.balance_path.len() == s.flows.len())
+                        .map(|b| present::money(b.balance, PRINT))
+                        .unwrap_or_default()
+                })
+                .collect(),
+            gap_before,
+        });
+    }
+    let shown = out.len();
+    (out, s.flows.len() - shown)
+}
+
 fn scenario_view(
     index: usize,
     s: &ScenarioAnalysis,
     deal: &Deal,
     currency: &str,
     charts: Option<&ScenarioCharts>,
+    scale: summary::Scale,
 ) -> ScenarioView {
     let decimals = present::scenario_rate_decimals(s);
     let period = words::per_period(s.periods_per_year);
@@ -685,12 +820,36 @@ fn scenario_view(
             .collect::<Vec<_>>()
             .join(", ")
     };
-    let description = deal
-        .scenarios
+    let model = deal.scenarios.iter().find(|d| d.name == s.name);
+    let description = model.map(|d| d.description.clone()).unwrap_or_default();
+    let label = words::scenario_title(model.and_then(|d| d.label.as_deref()), &s.name);
+    // Balance columns for the IRRs whose paths the table can show.
+    let table_roots: Vec<&Root> = s
+        .irr
+        .roots
         .iter()
-        .find(|d| d.name == s.name)
-        .map(|d| d.description.clone())
-        .unwrap_or_default();
+        .filter(|r| !r.extreme && r.balance_path.len() == s.flows.len())
+        .collect();
+    let balance_heads = table_roots
+        .iter()
+        .map(|r| format!("at {}", present::root_rate(r, decimals, PRINT)))
+        .collect();
+    let (flow_rows, flow_hidden) = flow_table(s, &table_roots);
+    let mut kinds: Vec<crate::engine::BalanceKind> = Vec::new();
+    for r in &s.irr.roots {
+        if !kinds.contains(&r.balance_kind) {
+            kinds.push(r.balance_kind);
+        }
+    }
+    let kind_definitions = kinds
+        .into_iter()
+        .map(|k| words::balance_kind_explained(k).to_string())
+        .collect();
+    let periodic_start = match deal.clock {
+        crate::model::Clock::Periodic { start, .. } => start,
+        _ => None,
+    };
+    let peak = summary::peak_exposure(&s.flows);
     let range = charts.and_then(|c| c.profile_range);
     let roots_outside = match range {
         Some((lo, hi)) => s
@@ -710,7 +869,7 @@ fn scenario_view(
     ScenarioView {
         index,
         name: s.name.clone(),
-        label: words::scenario_label(&s.name),
+        label,
         description,
         hurdle: present::percent(s.hurdle_rate, 2, PRINT),
         finance: present::percent(s.finance_rate, 2, PRINT),
@@ -780,6 +939,39 @@ fn scenario_view(
             )
         }),
         roots_outside,
+        npv_summary: match s.npv_at_hurdle {
+            Some(v) => summary::scaled(v, scale, PRINT),
+            None => present::scenario_npv(s, PRINT),
+        },
+        npv_rule: summary::npv_rule(s.decision).to_string(),
+        irr_set: summary::irr_set(s, PRINT),
+        hurdle_band: summary::hurdle_band(s, PRINT),
+        peak_exposure: match peak {
+            Some((v, i)) => format!(
+                "{} ({})",
+                summary::scaled(v.abs(), scale, PRINT),
+                summary::when(&s.flows[i])
+            ),
+            None => "none".to_string(),
+        },
+        peak_exposure_full: match peak {
+            Some((v, i)) => format!(
+                "{currency} {}, after the flow of {}",
+                present::money(v.abs(), PRINT),
+                summary::when(&s.flows[i])
+            ),
+            None => "none: the running total of the flows is never below zero".to_string(),
+        },
+        payback: summary::payback_words(s, false),
+        payback_discounted_words: summary::payback_words(s, true),
+        payback_method: summary::payback_method(s.payback.method).to_string(),
+        payback_reached: s.payback.status == crate::engine::PaybackStatus::Reached,
+        valuation: summary::valuation_point(s, periodic_start),
+        has_notes: s.flows.iter().any(|f| f.note.is_some()),
+        flow_rows,
+        flow_hidden,
+        balance_heads,
+        kind_definitions,
     }
 }
 
@@ -788,12 +980,48 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
     let draft = decision != Some(SignoffDecision::Approved);
     let status = words::signoff_status(decision);
     let decision_text = words::signoff(decision);
+    let scale = summary::Scale::of(analysis);
     let scenarios: Vec<ScenarioView> = analysis
         .scenarios
         .iter()
         .enumerate()
-        .map(|(i, s)| scenario_view(i, s, deal, &analysis.currency, ctx.charts.get(i)))
+        .map(|(i, s)| scenario_view(i, s, deal, &analysis.currency, ctx.charts.get(i), scale))
         .collect();
+    let anchor = "m".to_string();
+    // Each caution code once, in the catalogue's order, with the scenarios raising it.
+    let caution_summary = crate::engine::cautions::CODES
+        .iter()
+        .filter_map(|code| {
+            let raised: Vec<&ScenarioView> = scenarios
+                .iter()
+                .filter(|s| s.cautions.iter().any(|c| c.code == *code))
+                .collect();
+            let first = raised.first()?;
+            let n = first.cautions.iter().position(|c| c.code == *code)?;
+            Some(CautionSummaryView {
+                title: first.cautions[n].title.clone(),
+                headline: summary::caution_headline(code).to_string(),
+                scenarios: summary::join_and(
+                    &raised.iter().map(|s| s.label.clone()).collect::<Vec<_>>(),
+                ),
+                target: format!("c{}n{}", first.index, n),
+            })
+        })
+        .collect();
+    let against = summary::against_figures(
+        deal.memo.recommendation.as_deref(),
+        decision,
+        analysis,
+        PRINT,
+    )
+    .into_iter()
+    .map(|(title, text)| NoteView { title, text })
+    .collect();
+    let signoff_date = deal
+        .signoff
+        .as_ref()
+        .and_then(|s| s.date)
+        .map(present::date_long);
     let c = ctx.created;
     View {
         title: deal.name.clone(),
@@ -841,16 +1069,23 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
             prepared_by: deal.signoff.as_ref().and_then(|s| s.prepared_by.clone()),
             reviewed_by: deal.signoff.as_ref().and_then(|s| s.reviewed_by.clone()),
             decision: decision_text.to_string(),
-            date: deal
-                .signoff
-                .as_ref()
-                .and_then(|s| s.date)
-                .map(present::date_long),
+            date: signoff_date.clone(),
         },
         has_cautions: scenarios.iter().any(|s| !s.cautions.is_empty()),
         scenarios,
         version: crate::release::version(),
         changes: ctx.changes.clone(),
+        filed_version: ctx.filed_version.clone(),
+        units_text: deal.currency.clone(),
+        summary_unit: scale.unit(&deal.currency),
+        committee: match signoff_date {
+            Some(d) => format!("{decision_text}, {d}"),
+            None => decision_text.to_string(),
+        },
+        against,
+        sensitivity_headlines: Vec::new(),
+        caution_summary,
+        anchor,
         body_only: false,
     }
 }

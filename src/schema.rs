@@ -186,6 +186,7 @@ pub fn deal_schema() -> Value {
                 "type": "object",
                 "additionalProperties": false,
                 "properties": {
+                    "label": optional(json!({ "$ref": "#/$defs/text", "description": "The scenario's name in print; default: the key in words." })),
                     "description": optional(json!({ "$ref": "#/$defs/text" })),
                     "inflows_factor": optional(json!({ "$ref": "#/$defs/factor", "description": "Multiplies every positive flow; default 1." })),
                     "outflows_factor": optional(json!({ "$ref": "#/$defs/factor", "description": "Multiplies every negative flow; default 1." })),

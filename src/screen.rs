@@ -591,12 +591,21 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
             .map_err(|(code, m)| (code, format!("{name}: {m}")))
     };
     let hurdle = rate(line.hurdle_rate, "hurdle_rate")?;
-    let finance = rate(line.finance_rate, "finance_rate")?.or(hurdle);
-    let reinvest = rate(line.reinvestment_rate, "reinvestment_rate")?.or(hurdle);
+    let finance = rate(line.finance_rate, "finance_rate")?;
+    let reinvest = rate(line.reinvestment_rate, "reinvestment_rate")?;
     if flows.points.is_empty() {
         return Err(("all-zero-flows", "every flow is zero".into()));
     }
-    let report = engine::irr::irr_report(&flows, hurdle.and_then(|h| h.to_f64()), false);
+    let reading = engine::read_series(
+        &flows,
+        engine::SeriesRates {
+            hurdle,
+            finance,
+            reinvestment: reinvest,
+        },
+        false,
+    );
+    let report = reading.report;
     let roots = report
         .roots
         .iter()
@@ -611,19 +620,9 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
             stance: hurdle.map(|_| r.stance),
         })
         .collect();
-    let (npv_at_hurdle, npv_at_hurdle_approx, mirr) = match hurdle {
-        Some(h) => {
-            let (npv, approx) = engine::npv_at_hurdle(&flows, h);
-            let mirr = match (
-                finance.and_then(|x| x.to_f64()),
-                reinvest.and_then(|x| x.to_f64()),
-            ) {
-                (Some(f), Some(g)) => engine::figures::mirr(&flows, f, g),
-                _ => None,
-            };
-            (Some(npv.map(|v| v.to_string())), approx, Some(mirr))
-        }
-        None => (None, None, None),
+    let (npv_at_hurdle, npv_at_hurdle_approx) = match reading.npv_at_hurdle {
+        Some((npv, approx)) => (Some(npv.map(|v| v.to_string())), approx),
+        None => (None, None),
     };
     Ok(Screened {
         id: None,
@@ -635,7 +634,7 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
         exact_check: report.exact_check,
         npv_at_hurdle,
         npv_at_hurdle_approx,
-        mirr,
+        mirr: reading.mirr,
     })
 }
 
@@ -1117,5 +1116,86 @@ mod tests {
         // The key inside a string is not the list; a duplicate list is still refused.
         assert_eq!(screen_line(lines[2], 0)["count"], 1);
         assert_eq!(screen_line(lines[3], 0)["error"]["code"], "bad-line");
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(200))]
+
+        /// Differential: a batch line gives the figures a deal's analysis gives for the
+        /// same flows and rates (count, certificate, every root and its reading, the
+        /// NPV to the cent and the MIRR).
+        #[test]
+        fn a_batch_line_reads_as_a_deal_does(
+            cents in proptest::collection::vec(-5_000_000i64..5_000_000, 2..40),
+            frequency in proptest::sample::select(Frequency::ALL.to_vec()),
+            hurdle_bp in -500i64..3_000,
+            finance_bp in 0i64..2_000,
+        ) {
+            let amounts: Vec<Decimal> = cents.iter().map(|c| Decimal::new(*c, 2)).collect();
+            let hurdle = Decimal::new(hurdle_bp, 4);
+            let finance = Decimal::new(finance_bp, 4);
+            let flows = Flows::periodic(amounts.iter().copied(), frequency.per_year());
+            proptest::prop_assume!(!flows.normalised().points.is_empty());
+            let rates = crate::model::Rates { hurdle, finance, reinvestment: hurdle };
+            let deal = engine::analyse_scenario("base", &flows, &rates);
+            let list: Vec<String> = amounts.iter().map(Decimal::to_string).collect();
+            let text = format!(
+                r#"{{"every": "{}", "amounts": [{}], "hurdle_rate": "{}", "finance_rate": "{}"}}"#,
+                frequency.as_str(),
+                list.join(", "),
+                hurdle,
+                finance,
+            );
+            // Compared as values, not through JSON text (which reads some large floats
+            // back a unit in the last place off).
+            let line: Line<'_> = serde_json::from_str(&text).unwrap();
+            let batch = screen(&line, None).unwrap();
+            proptest::prop_assert_eq!(batch.count, deal.irr.count);
+            proptest::prop_assert_eq!(batch.certified, deal.irr.certified);
+            proptest::prop_assert_eq!(batch.upper_bound, deal.irr.upper_bound);
+            proptest::prop_assert_eq!(batch.roots.len(), deal.irr.roots.len());
+            for (b, d) in batch.roots.iter().zip(&deal.irr.roots) {
+                proptest::prop_assert_eq!(b.annual_rate, d.annual_rate);
+                proptest::prop_assert_eq!(b.interval, d.interval);
+                proptest::prop_assert_eq!(b.multiplicity, d.multiplicity);
+                proptest::prop_assert_eq!(b.balance_kind, d.balance_kind);
+                proptest::prop_assert_eq!(b.stance, Some(d.stance));
+            }
+            proptest::prop_assert_eq!(
+                batch.npv_at_hurdle,
+                Some(deal.npv_at_hurdle.map(|v| v.to_string()))
+            );
+            proptest::prop_assert_eq!(batch.mirr, Some(deal.mirr));
+        }
+
+        /// Differential: the read-ahead list reader gives exactly what the general
+        /// reader (serde_json, then the deal file's amount reader) gives, on every list
+        /// it accepts; a list it declines goes to the general reader.
+        #[test]
+        fn the_list_reader_agrees_with_the_general_reader(
+            items in proptest::collection::vec(
+                (proptest::option::of(0u8..2), 0u64..10_000_000_000_000_000, 0u32..8, 0u8..4),
+                0..12,
+            ),
+        ) {
+            let body: Vec<String> = items
+                .iter()
+                .map(|(sign, digits, scale, space)| {
+                    let d = Decimal::from_i128_with_scale(*digits as i128, *scale);
+                    let minus = if sign == &Some(1) { "-" } else { "" };
+                    let pad = " ".repeat(*space as usize);
+                    format!("{pad}{minus}{d}{pad}")
+                })
+                .collect();
+            let text = format!("[{}]", body.join(","));
+            if let Some((fast, close)) = plain_numbers(text.as_bytes(), 0) {
+                proptest::prop_assert_eq!(close, text.len() - 1);
+                let raw: Vec<&RawValue> = serde_json::from_str(&text).unwrap();
+                let slow: Vec<Decimal> =
+                    raw.iter().map(|r| exact_decimal(r).unwrap()).collect();
+                // Equal as numbers (the scale a reader keeps is not part of any output).
+                proptest::prop_assert_eq!(&fast, &slow);
+            }
+        }
     }
 }

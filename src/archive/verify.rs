@@ -616,13 +616,22 @@ fn recompute(
         source_name: &source_name,
         companions: &loaded.companions,
         templates,
+        fonts: crate::pdf::HouseFonts::default(),
         created,
     };
     // The section on changes is rebuilt from the version before this one by number,
     // exactly as it was made when this version was filed.
     let changes = version_before(dir)
         .map(|(version, before)| changes_since(&version, &before, &loaded.deal, &analysis));
-    let rebuilt = match build_memo_with_changes(&analysis, &loaded.deal, inputs, changes) {
+    // The title block names the version the memo was filed as: this folder's.
+    let filed_as = dir.file_name().map(|n| n.to_string_lossy().to_string());
+    let rebuilt = match build_memo_with_changes(
+        &analysis,
+        &loaded.deal,
+        inputs,
+        changes,
+        filed_as.as_deref(),
+    ) {
         Ok(m) => m.pdf,
         Err(f) => {
             problems.push(format!(

@@ -6,7 +6,7 @@
 use super::{EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
 use crate::cli::CheckArgs;
 use crate::diag::Diagnostic;
-use crate::files::load::load_deal;
+use crate::files::load::load_deal_with_fonts;
 use serde::Serialize;
 use std::io::Write;
 
@@ -26,12 +26,19 @@ struct FileReport {
 
 /// Runs the command and returns its exit code.
 pub fn run(args: &CheckArgs) -> u8 {
+    let style = match &args.templates {
+        Some(dir) => match crate::memo::read_house_style(dir) {
+            Ok(style) => style,
+            Err(failure) => return super::fail(&failure),
+        },
+        None => crate::memo::HouseStyle::default(),
+    };
     let mut reports = Vec::with_capacity(args.files.len());
     let mut human_out = String::new();
     let mut human_err = String::new();
     for path in &args.files {
         let shown = path.display().to_string();
-        match load_deal(path) {
+        match load_deal_with_fonts(path, &style.fonts) {
             Ok(loaded) => {
                 let deal = &loaded.deal;
                 let flows = deal.scenarios.first().map_or(0, |s| s.flows.points.len());

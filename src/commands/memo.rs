@@ -5,11 +5,10 @@ use super::{fail, EXIT_OK};
 use crate::archive::{self, Filed};
 use crate::cli::MemoArgs;
 use crate::diag::{Diagnostic, Failure};
-use crate::files::load::load_deal;
+use crate::files::load::load_deal_with_fonts;
 use crate::files::output;
 use crate::memo::{self, MemoInputs};
 use crate::{engine, pdf, report};
-use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
 /// Runs the command.
@@ -37,15 +36,27 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
             ));
         }
     };
-    let templates = match &args.templates {
-        Some(dir) => memo::read_templates(dir)?,
-        None => BTreeMap::new(),
+    let style = match &args.templates {
+        Some(dir) => memo::read_house_style(dir)?,
+        None => memo::HouseStyle::default(),
     };
-    let loaded = load_deal(&args.file)?;
+    if args.archive.is_some() && !style.fonts.is_empty() {
+        // `verify` rebuilds a filed memo from the version's own files, and a version
+        // keeps the house style's templates but not its fonts.
+        return Err(Failure::invalid(
+            Diagnostic::error(
+                "templates",
+                "a memo whose house style adds font files cannot be filed: the archive keeps \
+                 a house style's templates, not its fonts, so the filed memo could not be rebuilt",
+            )
+            .with_hint("file it with a house style of templates only, or without `--archive`"),
+        ));
+    }
+    let loaded = load_deal_with_fonts(&args.file, &style.fonts)?;
     // Every file this run reads; none of them may be a destination.
     let mut inputs = loaded.files();
     if let Some(dir) = &args.templates {
-        inputs.extend(templates.keys().map(|name| dir.join(name)));
+        inputs.extend(style.file_names().iter().map(|name| dir.join(name)));
     }
     // Every destination is checked before the memo is made, which takes a while.
     let out = match (&args.output, &args.archive) {
@@ -84,14 +95,28 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
         source: &loaded.source,
         source_name: &source_name,
         companions: &loaded.companions,
-        templates,
+        templates: style.templates,
+        fonts: style.fonts,
         created,
     };
     let charts = memo::draw_charts(&analysis)?;
     // The memo is made once, or under `--archive` once per filing attempt, since its
     // section on changes depends on the version it will follow.
     let make_pdf = |changes: Option<report::ChangesSince>| -> Result<Vec<u8>, Failure> {
-        let markup = memo::render_markup(&analysis, &loaded.deal, &inputs, &charts, changes)?;
+        // A filed memo's title block names the version it becomes: the one after the
+        // version its section on changes compares with, or the first.
+        let filed_as = args
+            .archive
+            .as_ref()
+            .map(|_| version_after(changes.as_ref().map(|c| c.version.as_str())));
+        let markup = memo::render_markup(
+            &analysis,
+            &loaded.deal,
+            &inputs,
+            &charts,
+            changes,
+            filed_as.as_deref(),
+        )?;
         // The markup is written before typesetting so that a failing house style can be
         // inspected.
         if let Some(path) = &emit_typst {
@@ -141,4 +166,26 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
     memo::write_memo(&out, &pdf, &mut output::Disk)?;
     eprintln!("wrote {}", out.display());
     Ok(())
+}
+
+/// The archive version that follows `previous` (`002` after `001`), or `001`. Versions
+/// are numbered without gaps, and a filing compares with the version just before the
+/// one it becomes.
+fn version_after(previous: Option<&str>) -> String {
+    let next = previous
+        .and_then(|v| v.parse::<u32>().ok())
+        .map_or(1, |n| n.saturating_add(1));
+    format!("{next:03}")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::version_after;
+
+    #[test]
+    fn versions_follow_in_order() {
+        assert_eq!(version_after(None), "001");
+        assert_eq!(version_after(Some("001")), "002");
+        assert_eq!(version_after(Some("099")), "100");
+    }
 }

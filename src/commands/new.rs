@@ -44,6 +44,7 @@ const PERIODIC_BODY: &str = r#"  every: year                    # year, half-yea
 
 scenarios:                       # optional: named changes to the base case
   weak_demand:
+    label: Weak demand (income 20% lower)   # optional: the name the memo prints
     inflows_factor: 0.8          # every inflow 20% lower
   cost_overrun:
     outflows_factor: 1.15        # every outflow 15% higher
@@ -84,6 +85,7 @@ const DATED_BODY: &str = r#"  day_count: act/365f            # act/365f, act/360
 
 scenarios:                       # optional: named changes to the base case
   lower_rents:
+    label: Rents 15% lower       # optional: the name the memo prints (else the key in words)
     inflows_factor: 0.85         # every inflow 15% lower
   late_sale:
     shift_inflows: 90            # every inflow 90 days later

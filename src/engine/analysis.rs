@@ -161,7 +161,7 @@ pub struct IrrReport {
 }
 
 /// Sign-change bounds on the number of IRRs.
-#[derive(Debug, Clone, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub struct SignBounds {
     /// Sign changes of the flows: bounds all IRRs in (-100%, +inf).
     pub descartes: u32,
@@ -170,6 +170,26 @@ pub struct SignBounds {
     pub above_zero: Option<u32>,
     /// Sign changes of the backward cumulative sums: bounds IRRs in (-100%, 0%).
     pub below_zero: Option<u32>,
+}
+
+impl SignBounds {
+    /// Bounds when the flows do not sum to zero, so both cumulative-sum counts apply.
+    pub fn new(descartes: u32, above_zero: u32, below_zero: u32) -> Self {
+        Self {
+            descartes,
+            above_zero: Some(above_zero),
+            below_zero: Some(below_zero),
+        }
+    }
+
+    /// Bounds when the flows sum to zero: only the Descartes/Laguerre count applies.
+    pub fn without_sums(descartes: u32) -> Self {
+        Self {
+            descartes,
+            above_zero: None,
+            below_zero: None,
+        }
+    }
 }
 
 /// One real IRR.
@@ -261,15 +281,51 @@ pub struct ComplexReading {
     pub decision: Decision,
 }
 
-/// Payback figures, in years since the series' start.
+/// Payback figures, in years since the series' start (docs/methods.md, "Other figures").
 #[derive(Debug, Clone, Serialize)]
 pub struct Payback {
-    /// First time the cumulative undiscounted flows reach zero or more, interpolated.
+    /// The first time after which the cumulative undiscounted flows stay at zero or
+    /// more, interpolated within the period for periodic flows, the flow's own time for
+    /// dated flows; `None` when not reached or not applicable (see `status`).
     pub simple_years: Option<f64>,
     /// The same with flows discounted at the hurdle.
     pub discounted_years: Option<f64>,
-    /// True when the cumulative position turns negative again after the simple payback.
+    /// True when an earlier recovery of the undiscounted total did not last: it turned
+    /// non-negative after being negative, then negative again.
     pub turns_negative_again: bool,
+    /// Whether the simple payback is reached within the forecast.
+    pub status: PaybackStatus,
+    /// Whether the discounted payback is reached within the forecast.
+    pub discounted_status: PaybackStatus,
+    /// How the time is placed: within the paying flow's period, or at its date.
+    pub method: PaybackMethod,
+    /// For dated flows, the date of the flow that pays back (`YYYY-MM-DD`).
+    pub simple_date: Option<String>,
+    /// For dated flows, the date of the flow that pays back the discounted total.
+    pub discounted_date: Option<String>,
+}
+
+/// Whether a payback is reached.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum PaybackStatus {
+    /// The running total, once negative, turns non-negative and stays so.
+    Reached,
+    /// The running total is still negative at the last flow.
+    NotReached,
+    /// The investor is paid first (or never out of pocket): nothing to pay back.
+    NotApplicable,
+}
+
+/// How the payback time is placed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum PaybackMethod {
+    /// Periodic flows: linear within the period of the flow that pays back, as if that
+    /// flow arrived evenly over its period.
+    WithinPeriod,
+    /// Dated flows: the date of the flow that pays back; no interpolation between dates.
+    FlowDate,
 }
 
 /// One point of the NPV profile.

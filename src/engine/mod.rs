@@ -40,20 +40,83 @@ pub fn npv_at_hurdle(flows: &Flows, hurdle: Decimal) -> (Option<Decimal>, Option
     }
 }
 
+/// The rates a series is read at. A deal always has all three (its finance and
+/// reinvestment rates default to the hurdle when the file leaves them out); a batch
+/// line may give none, and then gets neither an NPV nor an MIRR.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct SeriesRates {
+    /// Hurdle rate per year.
+    pub hurdle: Option<Decimal>,
+    /// Finance rate for the MIRR (the hurdle when absent).
+    pub finance: Option<Decimal>,
+    /// Reinvestment rate for the MIRR (the hurdle when absent).
+    pub reinvestment: Option<Decimal>,
+}
+
+impl SeriesRates {
+    /// A deal's rates.
+    pub fn of(rates: &Rates) -> Self {
+        Self {
+            hurdle: Some(rates.hurdle),
+            finance: Some(rates.finance),
+            reinvestment: Some(rates.reinvestment),
+        }
+    }
+}
+
+/// What every series gets, whether it is a deal's scenario or a batch line: the one
+/// entry into the engine for a series (see [`read_series`]).
+#[derive(Debug, Clone)]
+pub struct SeriesReading {
+    /// The IRRs, their certificate and readings.
+    pub report: IrrReport,
+    /// With a hurdle: the NPV at it (see [`npv_at_hurdle`]).
+    pub npv_at_hurdle: Option<(Option<Decimal>, Option<ApproxAmount>)>,
+    /// With a hurdle: the MIRR, `None` inside when it does not exist.
+    pub mirr: Option<Option<f64>>,
+}
+
+/// Reads one normalised series of flows (see [`Flows::normalised`]): its every real
+/// IRR with the certified count, and with a hurdle the NPV at it and the MIRR.
+/// `with_paths` adds the balance path at each root. Deals ([`analyse_scenario`]) and
+/// batch lines (`rates --batch`) both come here, so they cannot answer differently.
+pub fn read_series(flows: &Flows, rates: SeriesRates, with_paths: bool) -> SeriesReading {
+    let hurdle = rates.hurdle.and_then(|h| h.to_f64());
+    let report = irr::irr_report(flows, hurdle, with_paths);
+    let Some(h) = rates.hurdle else {
+        return SeriesReading {
+            report,
+            npv_at_hurdle: None,
+            mirr: None,
+        };
+    };
+    let finance = rates.finance.unwrap_or(h).to_f64();
+    let reinvestment = rates.reinvestment.unwrap_or(h).to_f64();
+    let mirr = match (finance, reinvestment) {
+        (Some(f), Some(g)) => figures::mirr(flows, f, g),
+        _ => None,
+    };
+    SeriesReading {
+        report,
+        npv_at_hurdle: Some(npv_at_hurdle(flows, h)),
+        mirr: Some(mirr),
+    }
+}
+
 /// Every figure for one series of flows at the deal's rates.
 pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAnalysis {
     let flows = flows.normalised();
     let hurdle = rates.hurdle.to_f64().unwrap_or(0.0);
     let finance = rates.finance.to_f64().unwrap_or(hurdle);
     let reinvestment = rates.reinvestment.to_f64().unwrap_or(hurdle);
-    let set = irr::roots_of(&flows);
-    let mut report = irr::report_from_set(&flows, &set, Some(hurdle), true);
+    let reading = read_series(&flows, SeriesRates::of(rates), true);
+    let mut report = reading.report;
     if report.count == 0 && report.certified && report.upper_bound > 0 {
         report.complex_reading = complex::complex_reading(&flows, hurdle);
     }
     // Beyond Decimal's range the NPV keeps its sign and size, so the decision still
     // follows its true sign; only a value that cannot be computed at all stays undecided.
-    let (npv_at_hurdle, npv_at_hurdle_approx) = npv_at_hurdle(&flows, rates.hurdle);
+    let (npv_at_hurdle, npv_at_hurdle_approx) = reading.npv_at_hurdle.unwrap_or((None, None));
     let sign = match (npv_at_hurdle, npv_at_hurdle_approx) {
         (Some(c), _) if c > Decimal::ZERO => 1,
         (Some(c), _) if c < Decimal::ZERO => -1,
@@ -101,7 +164,7 @@ pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAna
             flows.years(flows.points.len() - 1)
         },
     };
-    let mirr = figures::mirr(&flows, finance, reinvestment);
+    let mirr = reading.mirr.flatten();
     let mut analysis = ScenarioAnalysis {
         name: name.to_string(),
         hurdle_rate: hurdle,

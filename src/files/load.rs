@@ -112,13 +112,18 @@ pub fn read_companion(folder: &Path, name: &str) -> Result<Vec<u8>, (String, &'s
 /// file's name, which the memo does not print) holding characters the memo's fonts
 /// cannot show (see [`crate::pdf::can_show`]), naming the field and the characters'
 /// places in it: `check` refuses what `memo` could not typeset.
-fn unshowable_text(node: &crate::input::Node, path: &str, out: &mut Vec<Diagnostic>) {
+fn unshowable_text(
+    node: &crate::input::Node,
+    path: &str,
+    fonts: &crate::pdf::HouseFonts,
+    out: &mut Vec<Diagnostic>,
+) {
     use crate::input::Value;
     match &node.value {
-        Value::Scalar { text, .. } => report_unshowable(text, node, path, "this value", out),
+        Value::Scalar { text, .. } => report_unshowable(text, node, path, "this value", fonts, out),
         Value::Sequence(items) => {
             for (i, item) in items.iter().enumerate() {
-                unshowable_text(item, &format!("{path}[{i}]"), out);
+                unshowable_text(item, &format!("{path}[{i}]"), fonts, out);
             }
         }
         Value::Mapping(entries) => {
@@ -129,9 +134,9 @@ fn unshowable_text(node: &crate::input::Node, path: &str, out: &mut Vec<Diagnost
                 } else {
                     format!("{path}.{name}")
                 };
-                report_unshowable(name, key, &field, "this key", out);
+                report_unshowable(name, key, &field, "this key", fonts, out);
                 if name != "csv" {
-                    unshowable_text(value, &field, out);
+                    unshowable_text(value, &field, fonts, out);
                 }
             }
         }
@@ -143,9 +148,10 @@ fn report_unshowable(
     at: &crate::input::Node,
     field: &str,
     what: &str,
+    fonts: &crate::pdf::HouseFonts,
     out: &mut Vec<Diagnostic>,
 ) {
-    let found = crate::pdf::unshowable(text);
+    let found = fonts.unshowable(text);
     if let Some((first, _)) = found.first() {
         // A plain scalar is written as read, so the caret can point at the character;
         // a quoted one may hold escapes, so it points at the value's start.
@@ -173,7 +179,8 @@ fn report_unshowable(
 const FONT_HINT: &str =
     "the memo's fonts (Libertinus Serif, New Computer Modern, DejaVu Sans Mono) \
      cover Latin, Greek and Cyrillic; emoji, CJK, Thai, Korean and private or unassigned \
-     characters have no glyph";
+     characters have no glyph; a house style (`--templates DIR`) can add font files that \
+     have them";
 
 /// A file's bytes as lines to show under a diagnostic: invalid UTF-8 as replacement
 /// characters, a leading byte-order mark dropped (positions count from after it), and
@@ -206,6 +213,15 @@ fn io_words(e: &std::io::Error) -> String {
 /// A failure carries the text of the deal file and of every CSV file it read, so that
 /// each diagnostic shows a line of the file it is about.
 pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
+    load_deal_with_fonts(path, &crate::pdf::HouseFonts::default())
+}
+
+/// [`load_deal`] for a memo in a house style that adds fonts: a text is refused only
+/// when neither the bundled fonts nor `fonts` can show it.
+pub fn load_deal_with_fonts(
+    path: &Path,
+    fonts: &crate::pdf::HouseFonts,
+) -> Result<LoadedDeal, Failure> {
     let shown = path.display().to_string();
     let fail = |d: Diagnostic, source: Option<String>| {
         let failure = Failure::invalid(d.in_file(shown.clone()));
@@ -275,14 +291,14 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
     };
     let mut unshowable = Vec::new();
     if let Some(root) = &raw.root {
-        unshowable_text(root, "", &mut unshowable);
+        unshowable_text(root, "", fonts, &mut unshowable);
     }
     // The memo prints the deal file's name too.
     let file_name = path
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_default();
-    let found = crate::pdf::unshowable(&file_name);
+    let found = fonts.unshowable(&file_name);
     if !found.is_empty() {
         unshowable.push(
             Diagnostic::error(

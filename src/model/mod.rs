@@ -128,6 +128,9 @@ impl Frequency {
 pub struct Scenario {
     /// `base`, or the scenario's key in the deal file.
     pub name: String,
+    /// The scenario's label for print (`label` in the deal file); `None` for the base
+    /// case and when not given (the memo then turns the key into words).
+    pub label: Option<String>,
     /// What was changed, in words (empty for the base case).
     pub description: String,
     /// The flows, netted by date, on the deal's clock.

@@ -34,6 +34,7 @@ const DEAL: &[&str] = &["name", "currency", "as_of", "id"];
 const CASH_FLOWS: &[&str] = &["every", "start", "amounts", "day_count", "dated", "csv"];
 const DATED: &[&str] = &["date", "amount", "note"];
 const SCENARIO: &[&str] = &[
+    "label",
     "description",
     "inflows_factor",
     "outflows_factor",
@@ -969,9 +970,12 @@ impl Validator<'_, '_> {
         name: &str,
         node: &Node,
         base: Option<&ReadFlows>,
-    ) -> Option<(ReadFlows, String)> {
+    ) -> Option<(ReadFlows, String, Option<String>)> {
         let path = format!("scenarios.{name}");
         let f = self.fields(node, &path, SCENARIO)?;
+        let label = f
+            .get("label")
+            .and_then(|n| self.text(n, &join(&path, "label"), Text::Line(MAX_NAME_CHARS)));
         let description = f
             .get("description")
             .and_then(|n| self.text(n, &join(&path, "description"), Text::Line(MAX_NOTE_CHARS)));
@@ -1091,7 +1095,7 @@ impl Validator<'_, '_> {
                 words.join("; ")
             }
         });
-        Some((series, description))
+        Some((series, description, label))
     }
 
     fn factor(&mut self, node: &Node, path: &str) -> Option<Decimal> {
@@ -1362,6 +1366,7 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
         if let Some(flows) = ctx.resolve(base, "cash_flows", at) {
             scenarios.push(Scenario {
                 name: "base".to_string(),
+                label: None,
                 description: String::new(),
                 flows,
             });
@@ -1432,7 +1437,8 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
                         );
                         continue;
                     }
-                    if let Some((series, description)) = ctx.scenario(name, v, base.as_ref()) {
+                    if let Some((series, description, label)) = ctx.scenario(name, v, base.as_ref())
+                    {
                         if let Some(flows) = ctx.resolve(&series, &path, v.position) {
                             total = total.saturating_add(flows.points.len());
                             if total > MAX_TOTAL_FLOWS {
@@ -1459,6 +1465,7 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
                             }
                             scenarios.push(Scenario {
                                 name: name.to_string(),
+                                label,
                                 description,
                                 flows,
                             });

@@ -270,14 +270,36 @@ fn net_borrowing(w: &Wording, roots: &[usize], above: &[usize]) -> (&'static str
             w.roots(several)
         ),
     };
+    // The balance table's sign convention: a negative balance is money the project
+    // still owes the investor, a positive one money the investor in effect owes the
+    // project (docs/methods.md, "Balance paths").
+    let first_flow = roots
+        .first()
+        .and_then(|&i| w.all[i].balance_path.first())
+        .map(|row| row.flow);
+    let who_first = match first_flow {
+        Some(f) if f > Decimal::ZERO => {
+            "The investor takes in money first and pays it back later.".to_string()
+        }
+        _ => "This holds even though the investor pays the first flow: money received \
+              before the later outlays is, in effect, held on credit until they are paid."
+            .to_string(),
+    };
     (
         "The deal is a net borrowing",
         format!(
-            "At the {} of {}, the deal works as a net borrowing at the hurdle rate: \
-             overall the investor takes in money first and pays it back later. For a \
-             borrower a higher rate is worse, not better. {tail}",
+            "At the {} of {}, the deal works as a net borrowing at the hurdle rate: in the \
+             balance table at {}, the positive balances (money the investor in effect \
+             owes the project) outweigh the negative ones (money the project owes the \
+             investor) once discounted at the hurdle. {who_first} For a borrower a higher \
+             rate is worse, not better. {tail}",
             if roots.len() == 1 { "IRR" } else { "IRRs" },
-            w.roots(roots)
+            w.roots(roots),
+            if roots.len() == 1 {
+                "that rate"
+            } else {
+                "each of those rates"
+            }
         ),
     )
 }
@@ -641,6 +663,113 @@ mod tests {
     fn plain_deal_has_no_cautions() {
         let c = plain().run();
         assert!(c.is_empty(), "{}", render(&c));
+    }
+
+    /// Each definition the memo prints beside a balance table agrees with the table's
+    /// sign convention (a negative balance is money the project still owes the
+    /// investor), checked on paths whose signs can be read from the numbers.
+    #[test]
+    fn balance_definitions_agree_with_the_tables() {
+        use crate::engine::BalanceKind;
+        // -1000, then 300 a year for five years, at its IRR: every balance before the
+        // last is negative (the project owes the investor).
+        let case = plain();
+        let r = &case.roots[0];
+        assert_eq!(r.balance_kind, BalanceKind::PureInvestment);
+        let before_last = &r.balance_path[..r.balance_path.len() - 1];
+        assert!(before_last.iter().all(|b| b.balance < Decimal::ZERO));
+        let text = words::balance_kind_explained(r.balance_kind);
+        assert!(text.contains("zero or negative"), "{text}");
+        assert!(text.contains("the project owes the investor"), "{text}");
+        assert!(!text.contains("never owes the investor"), "{text}");
+        // 1000 received, 1100 paid a year later, at its IRR of 10%: the balance of 1000
+        // before the last flow is positive (the investor owes the project).
+        let f = periodic(&["1000", "-1100"], 1);
+        let b = root(&f, 0.1, 1, 0.05);
+        assert_eq!(b.balance_kind, BalanceKind::PureBorrowing);
+        assert!(b.balance_path[0].balance > Decimal::ZERO);
+        let text = words::balance_kind_explained(b.balance_kind);
+        assert!(text.contains("zero or positive"), "{text}");
+        assert!(text.contains("the investor owes the project"), "{text}");
+        // The pump at 25%: -1600, then +8000, then 0: both signs.
+        let p = root(&lorie_savage(), 0.25, 1, 0.1);
+        assert_eq!(p.balance_kind, BalanceKind::Mixed);
+        let text = words::balance_kind_explained(p.balance_kind);
+        assert!(text.contains("changes sign"), "{text}");
+    }
+
+    /// The mixed-balance caution's claim (the balance is at times owed by the project,
+    /// at others by the investor) holds in the balance path it names, and the
+    /// IRR-NPV conflict names the side of the hurdle the IRRs are on.
+    #[test]
+    fn mixed_balance_and_conflict_claims_hold_in_the_numbers() {
+        // The mine (docs/methods.md, Check values): IRRs 3.50% and 19.54%, NPV at 10%
+        // = 2.53 > 0.
+        let case = Case::new(mine(), &[(0.03503024, 1), (0.19542150, 1)], 0.1);
+        let c = case.run();
+        let mixed = c
+            .iter()
+            .find(|x| x.code == "mixed-balance")
+            .expect("raised");
+        let named: Vec<&Root> = case
+            .roots
+            .iter()
+            .filter(|r| {
+                mixed
+                    .text
+                    .contains(&percent(r.annual_rate.unwrap(), 2, Style::Prose))
+            })
+            .collect();
+        assert!(!named.is_empty(), "{}", mixed.text);
+        for r in named {
+            let path = &r.balance_path[..r.balance_path.len() - 1];
+            assert!(
+                path.iter().any(|b| b.balance < Decimal::ZERO),
+                "{}",
+                mixed.text
+            );
+            assert!(
+                path.iter().any(|b| b.balance > Decimal::ZERO),
+                "{}",
+                mixed.text
+            );
+        }
+        let conflict = c
+            .iter()
+            .find(|x| x.code == "irr-npv-conflict")
+            .expect("raised");
+        // 3.50% is below the 10% hurdle while the NPV is positive.
+        assert!(
+            conflict.text.contains("The IRR of 3.50% is below"),
+            "{}",
+            conflict.text
+        );
+        assert!(conflict.text.contains("EUR 2.53"), "{}", conflict.text);
+        assert!(conflict.text.contains("adds value"), "{}", conflict.text);
+    }
+
+    /// The net-borrowing caution says who pays first as the deal's own flows do.
+    #[test]
+    fn net_borrowing_says_who_pays_first_as_the_flows_do() {
+        // The pump (Lorie and Savage 1955, flows from memory) opens with an outlay of
+        // 1,600 by the investor.
+        let c = Case::new(lorie_savage(), &[(0.25, 1), (4.0, 1)], 0.1).run();
+        let nb = c
+            .iter()
+            .find(|x| x.code == "net-borrowing")
+            .expect("raised");
+        assert!(!nb.text.contains("takes in money first"), "{}", nb.text);
+        assert!(nb.text.contains("pays the first flow"), "{}", nb.text);
+        assert!(nb.text.contains("positive balances"), "{}", nb.text);
+        // 1000 received, then 1100 paid: the investor takes in money first; at a 5%
+        // hurdle the IRR of 10% is a borrowing rate above the hurdle.
+        let c = Case::new(periodic(&["1000", "-1100"], 1), &[(0.1, 1)], 0.05).run();
+        let nb = c
+            .iter()
+            .find(|x| x.code == "net-borrowing")
+            .expect("raised");
+        assert!(nb.text.contains("takes in money first"), "{}", nb.text);
+        assert!(!nb.text.contains("pays the first flow"), "{}", nb.text);
     }
 
     #[test]

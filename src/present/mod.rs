@@ -13,6 +13,7 @@ pub mod cautions;
 pub mod certificate;
 pub mod json;
 pub mod numbers;
+pub mod summary;
 pub mod terminal;
 pub mod words;
 

@@ -87,7 +87,7 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     }
     let _ = writeln!(
         o,
-        "  NPV         {} at the hurdle -> {}",
+        "  NPV         {} at the hurdle -> NPV rule: {}",
         scenario_npv_in(s, currency, T),
         words::decision(s.decision)
     );
@@ -110,14 +110,13 @@ fn scenario_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
         s.profitability_index
             .map_or(words::NOT_DEFINED.to_string(), |p| ratio(p, 3, T))
     );
-    let years = |y: Option<f64>| y.map_or("never".to_string(), |v| format!("{v:.2} years"));
     let _ = writeln!(
         o,
         "  payback     {} (discounted: {}){}",
-        years(s.payback.simple_years),
-        years(s.payback.discounted_years),
+        super::summary::payback_words(s, false),
+        super::summary::payback_words(s, true),
         if s.payback.turns_negative_again {
-            "; the cumulative position turns negative again later"
+            "; an earlier recovery did not last"
         } else {
             ""
         }

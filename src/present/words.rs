@@ -8,16 +8,39 @@ use crate::model::SignoffDecision;
 /// both signs, a multiple without outflows).
 pub const NOT_DEFINED: &str = "not defined";
 
-/// A scenario's name as a heading: the scenario called `base` is the `Base case`.
+/// A scenario's name as a heading: the scenario called `base` is the `Base case`; a
+/// scenario key is turned into words (`restoration_overrun` reads `Restoration
+/// overrun`). A label given in the deal file is used as written instead
+/// ([`scenario_title`]).
 pub fn scenario_label(name: &str) -> String {
     if name == "base" {
-        "Base case".to_string()
-    } else {
-        name.to_string()
+        return "Base case".to_string();
+    }
+    let spaced: String = name
+        .chars()
+        .map(|c| if c == '_' || c == '-' { ' ' } else { c })
+        .collect();
+    let words: Vec<&str> = spaced.split_whitespace().collect();
+    let joined = words.join(" ");
+    let mut chars = joined.chars();
+    match chars.next() {
+        Some(first) => first.to_uppercase().chain(chars).collect(),
+        None => name.to_string(),
     }
 }
 
-/// The decision at the hurdle: `accept`, `reject`, `indifferent`.
+/// A scenario's heading: its label from the deal file when it has one, else
+/// [`scenario_label`] of its key.
+pub fn scenario_title(label: Option<&str>, name: &str) -> String {
+    match label {
+        Some(l) if !l.trim().is_empty() => l.to_string(),
+        _ => scenario_label(name),
+    }
+}
+
+/// What the NPV rule says at the hurdle: `accept`, `reject`, `indifferent` (the JSON's
+/// `decision`; the memo labels it "NPV rule", never "decision", which is the
+/// committee's).
 pub fn decision(d: Decision) -> &'static str {
     match d {
         Decision::Accept => "accept",
@@ -78,12 +101,23 @@ pub fn balance_kind(k: BalanceKind) -> &'static str {
     }
 }
 
-/// A balance kind with what it means (the memo).
+/// A balance kind with what it means (the memo), in the balance table's sign
+/// convention: a negative balance is money the project still owes the investor, a
+/// positive one money the investor in effect owes the project.
 pub fn balance_kind_explained(k: BalanceKind) -> &'static str {
     match k {
-        BalanceKind::PureInvestment => "pure investment: the project never owes the investor",
-        BalanceKind::Mixed => "mixed: the balance changes sign along the way",
-        BalanceKind::PureBorrowing => "pure borrowing: the investor is the borrower throughout",
+        BalanceKind::PureInvestment => {
+            "pure investment: every balance before the last flow is zero or negative, so the \
+             project owes the investor until the last flow clears the balance"
+        }
+        BalanceKind::Mixed => {
+            "mixed: the balance changes sign, so at times the project owes the investor \
+             (negative) and at others the investor owes the project (positive)"
+        }
+        BalanceKind::PureBorrowing => {
+            "pure borrowing: every balance before the last flow is zero or positive, so the \
+             investor owes the project until the last flow clears the balance"
+        }
     }
 }
 
@@ -130,5 +164,26 @@ pub fn signoff_status(d: Option<SignoffDecision>) -> &'static str {
         Some(SignoffDecision::Declined) => "DRAFT (declined by the committee)",
         Some(SignoffDecision::Deferred) => "DRAFT (decision deferred)",
         Some(SignoffDecision::Pending) | None => "DRAFT (decision pending)",
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn scenario_keys_become_words() {
+        assert_eq!(scenario_label("base"), "Base case");
+        assert_eq!(scenario_label("restoration_overrun"), "Restoration overrun");
+        assert_eq!(
+            scenario_label("downside-and_delayed"),
+            "Downside and delayed"
+        );
+        assert_eq!(scenario_label("Ωmega"), "Ωmega");
+        assert_eq!(
+            scenario_title(Some("Dry years (15% less rain)"), "dry_years"),
+            "Dry years (15% less rain)"
+        );
+        assert_eq!(scenario_title(None, "dry_years"), "Dry years");
     }
 }

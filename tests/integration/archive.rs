@@ -473,7 +473,7 @@ fn diff_names_the_flow_the_hurdle_and_the_lost_roots() {
         "  base case: IRR 5.60% disappeared",
         "  base case: IRR 15.65% disappeared",
         "  base case: IRR count: 2 → 0",
-        "  base case: decision at hurdle: accept → reject",
+        "  base case: NPV rule at hurdle: accept → reject",
         "  base case: caution multiple-irr no longer raised",
     ] {
         assert!(report.lines().any(|l| l == line), "`{line}` in\n{report}");
@@ -581,17 +581,22 @@ fn a_new_version_memo_names_the_changes_since_the_previous() {
          \u{2212}9,000,000.00.",
         "Base case: the IRR of 5.60% disappeared.",
         "Base case: the IRR of 15.65% disappeared.",
-        "Base case: decision at hurdle changed from accept to reject.",
+        "Base case: NPV rule at hurdle changed from accept to reject.",
+        // The title block names the version the memo is filed as.
+        "version 002 in the archive",
     ] {
         assert!(v2.contains(phrase), "`{phrase}` in\n{v2}");
     }
-    // The section follows the headline figures and comes before the scenarios' pages.
-    let figures = v2.find("The figures at a glance").expect("figures heading");
+    assert!(v1.contains("version 001 in the archive"), "{v1}");
+    // The section follows the decision page's figures and risks and comes before the
+    // scenarios' detail.
+    let figures = v2.find("The figures").expect("figures heading");
+    let risks = v2.find("Risks").expect("risks heading");
     let changes = v2
         .find("Changes since version 001")
         .expect("changes heading");
-    let risks = v2.find("Risks and narrative").expect("risks heading");
-    assert!(figures < changes && changes < risks);
+    let detail = v2.find("Cautions for Base case").expect("detail");
+    assert!(figures < risks && risks < changes && changes < detail);
 
     let ok = candor(&["verify", s(&archive)]);
     assert_eq!(

@@ -9,7 +9,8 @@ use crate::support::pdf::Pdf;
 use crate::support::{example_deals, words as normalise};
 use candor::engine::{
     Analysis, BalanceKind, BalanceRow, Caution, Certificate, Decision, FlowRow, Flows, IrrReport,
-    Payback, ProfilePoint, Root, ScenarioAnalysis, SignBounds, Stance, Totals,
+    Payback, PaybackMethod, PaybackStatus, ProfilePoint, Root, ScenarioAnalysis, SignBounds,
+    Stance, Totals,
 };
 use candor::memo::{build_memo, build_memo_with_changes, sha256_hex, MemoInputs, MemoOutput};
 use candor::model::{
@@ -112,10 +113,17 @@ fn pump_scenario(name: &str, cautions: Vec<Caution>) -> ScenarioAnalysis {
         return_on_invested_capital: None,
         money_multiple: Some(dec("0.86")),
         profitability_index: Some(0.9216),
+        // -1,600, +10,000, -10,000: the running total ends at -1,600, so the money is
+        // not paid back within the forecast, although it is recovered for a year.
         payback: Payback {
-            simple_years: Some(0.16),
-            discounted_years: Some(0.176),
+            simple_years: None,
+            discounted_years: None,
             turns_negative_again: true,
+            status: PaybackStatus::NotReached,
+            discounted_status: PaybackStatus::NotReached,
+            method: PaybackMethod::WithinPeriod,
+            simple_date: None,
+            discounted_date: None,
         },
         npv_profile: (0..=50)
             .map(|i| {
@@ -156,11 +164,13 @@ fn sample(name: &str, decision: SignoffDecision) -> (Analysis, Deal) {
         scenarios: vec![
             Scenario {
                 name: "base".to_string(),
+                label: None,
                 description: String::new(),
                 flows: flows.clone(),
             },
             Scenario {
                 name: HOSTILE.to_string(),
+                label: None,
                 description: "inflows \u{00d7} 1 (unchanged, for the test)".to_string(),
                 flows,
             },
@@ -198,6 +208,7 @@ fn memo_of(analysis: &Analysis, deal: &Deal) -> MemoOutput {
             source_name: "pump.yaml",
             companions: &[],
             templates: BTreeMap::new(),
+            fonts: Default::default(),
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
         },
     )
@@ -367,9 +378,15 @@ fn charts_are_svg_that_typst_can_read() {
     assert!(String::from_utf8_lossy(&files[0].1)
         .to_uppercase()
         .contains("#0072B2"));
-    assert!(String::from_utf8_lossy(&files[0].1).contains("IRR 2: 400.00%"));
-    assert!(String::from_utf8_lossy(&files[0].1).contains("hurdle 10.00%"));
-    assert_eq!(charts.profile_range, Some((-0.2, -0.2 + 0.1 * 50.0)));
+    // The profile spans 0%, the hurdle and the IRRs of economic meaning (25%); the IRR
+    // of 400% is left off the chart and listed beside it by the memo.
+    let profile = String::from_utf8_lossy(&files[0].1).to_string();
+    assert!(profile.contains("IRR 1: 25.00%"), "{profile}");
+    assert!(!profile.contains("IRR 2"), "{profile}");
+    assert!(profile.contains("hurdle 10.00%"));
+    let (lo, hi) = charts.profile_range.expect("range");
+    assert!(lo < 0.0 && hi > 0.25 && hi < 4.0, "{lo} {hi}");
+    assert_eq!(candor::chart::profile_span(&scenario), (lo, hi));
     // Typst (usvg) parses each SVG: a page per chart typesets without error.
     let markup: String = files
         .iter()
@@ -386,34 +403,183 @@ fn charts_are_svg_that_typst_can_read() {
     assert!(pdf.starts_with(b"%PDF-"));
 }
 
+/// The rectangles of an SVG as (fill in capitals, width, height).
+fn svg_rects(svg: &str) -> Vec<(String, f64, f64)> {
+    let attr = |tag: &str, name: &str| -> Option<String> {
+        let start = tag.find(&format!(" {name}=\""))? + name.len() + 3;
+        let len = tag[start..].find('"')?;
+        Some(tag[start..start + len].to_string())
+    };
+    svg.split("<rect")
+        .skip(1)
+        .filter_map(|rest| {
+            let tag = &rest[..rest.find('>')?];
+            let number = |n: &str| attr(tag, n).and_then(|v| v.parse::<f64>().ok());
+            Some((
+                attr(tag, "fill")?.to_uppercase(),
+                number("width")?,
+                number("height")?,
+            ))
+        })
+        .collect()
+}
+
+/// Every flow of every example deal is drawn in its scenario's cash-flow chart: one
+/// bar a flow, green for an inflow and vermillion for an outflow, at least a pixel wide
+/// and tall (a bar narrower than a pixel used to round to nothing, and an outflow of
+/// 433,750.80 among 361 monthly flows vanished).
+#[test]
+fn every_flow_is_drawn_in_the_cash_flow_chart() {
+    // Okabe–Ito green and vermillion (Okabe and Ito 2008 palette).
+    const GREEN: &str = "#009E73";
+    const VERMILLION: &str = "#D55E00";
+    for path in example_deals() {
+        let loaded = candor::files::load::load_deal(&path).expect("loads");
+        let analysis = candor::engine::analyse(&loaded.deal);
+        for s in &analysis.scenarios {
+            let charts = candor::chart::render(s, &analysis.currency).expect("charts");
+            let svg = charts.cash_flows.expect("a cash-flow chart");
+            let bars: Vec<(String, f64, f64)> = svg_rects(&svg)
+                .into_iter()
+                .filter(|(fill, _, _)| fill == GREEN || fill == VERMILLION)
+                .collect();
+            let inflows = s.flows.iter().filter(|f| f.amount > Decimal::ZERO).count();
+            let outflows = s.flows.iter().filter(|f| f.amount < Decimal::ZERO).count();
+            let name = format!("{}, {}", path.display(), s.name);
+            assert_eq!(
+                bars.iter().filter(|b| b.0 == GREEN).count(),
+                inflows,
+                "{name}: inflow bars"
+            );
+            assert_eq!(
+                bars.iter().filter(|b| b.0 == VERMILLION).count(),
+                outflows,
+                "{name}: outflow bars"
+            );
+            for (fill, w, h) in &bars {
+                assert!(*w >= 1.0 && *h >= 1.0, "{name}: a {fill} bar of {w} by {h}");
+            }
+        }
+    }
+}
+
+/// The most pages a memo of `scenarios` scenarios may take: four for a base case
+/// alone, at most one and a half more for each further scenario (issue 15's limits,
+/// docs/design.md "Memo and archive").
+fn page_limit(scenarios: usize) -> usize {
+    4 + (3 * scenarios.saturating_sub(1)) / 2
+}
+
+fn example_memo(path: &Path, base_only: bool) -> (Analysis, MemoOutput) {
+    let mut loaded = candor::files::load::load_deal(path)
+        .unwrap_or_else(|f| panic!("{}: {:?}", path.display(), f.diagnostics));
+    if base_only {
+        loaded.deal.scenarios.truncate(1);
+    }
+    let analysis = candor::engine::analyse(&loaded.deal);
+    let name = path
+        .file_name()
+        .expect("name")
+        .to_string_lossy()
+        .to_string();
+    let memo = build_memo(
+        &analysis,
+        &loaded.deal,
+        MemoInputs {
+            source: &loaded.source,
+            source_name: &name,
+            companions: &loaded.companions,
+            templates: BTreeMap::new(),
+            fonts: Default::default(),
+            created: loaded.deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
+        },
+    )
+    .unwrap_or_else(|f| panic!("{name}: {}", f.render()));
+    (analysis, memo)
+}
+
+/// Each example deal with its base case alone fits in four pages.
+#[test]
+fn a_base_case_alone_fits_in_four_pages() {
+    for path in example_deals() {
+        let (_, memo) = example_memo(&path, true);
+        let pages = Pdf::parse(&memo.pdf).pages();
+        assert!(pages <= 4, "{}: {pages} pages", path.display());
+    }
+}
+
+/// A memo that is not approved carries the DRAFT mark drawn, not set as text: the
+/// extracted text holds the word only where the header, the footer and the status
+/// line print it, and no stray letters of the mark.
+#[test]
+fn the_draft_mark_leaves_no_text() {
+    let (analysis, deal) = sample("Pump replacement", SignoffDecision::Pending);
+    let memo = memo_of(&analysis, &deal);
+    let pdf = Pdf::parse(&memo.pdf);
+    let pages = pdf.pages();
+    for p in 1..=pages {
+        let text = pdf.page_text(p);
+        // The footer on every page, and the status line on page 1 or the header on
+        // every later page.
+        assert_eq!(text.matches("DRAFT").count(), 2, "page {p}: {text}");
+        let rest = text.replace("DRAFT", " ");
+        for token in rest.split_whitespace() {
+            assert!(
+                !matches!(token, "D" | "R" | "F" | "T" | "DR" | "AFT"),
+                "page {p}: stray {token:?} in {text}"
+            );
+        }
+    }
+}
+
+/// A committee decision or a recommendation against the figures gets a note on the
+/// first page, which says that it does not block it.
+#[test]
+fn a_decision_against_the_figures_is_noted_on_the_first_page() {
+    // The pump's NPV at 10% is -773.55 in both scenarios (see `pump_scenario`).
+    let (analysis, mut deal) = sample("Pump replacement", SignoffDecision::Approved);
+    deal.memo.recommendation = Some("Approve.".to_string());
+    let memo = memo_of(&analysis, &deal);
+    let first = Pdf::parse(&memo.pdf).page_text(1);
+    let first = normalise(&first);
+    for needle in [
+        "The recommendation goes against the figures.",
+        "The committee's decision goes against the figures.",
+        "does not block it",
+        "NPV rule says",
+        "Committee decision",
+    ] {
+        assert!(
+            first.contains(needle),
+            "missing {needle:?} on page 1:\n{first}"
+        );
+    }
+    assert!(!first.contains("The analysis raised no caution"), "{first}");
+    // Declining the same deal agrees with the figures: no note.
+    let (analysis, deal) = sample("Pump replacement", SignoffDecision::Declined);
+    let memo = memo_of(&analysis, &deal);
+    let first = normalise(&Pdf::parse(&memo.pdf).page_text(1));
+    assert!(!first.contains("goes against the figures"), "{first}");
+}
+
 /// Every shipped example deal becomes a memo whose text states each IRR, the NPV at
-/// the hurdle, the MIRR and every caution, as the engine computed them.
+/// the hurdle, the MIRR and every caution, as the engine computed them, within its
+/// page limit; its first page is the decision page.
 #[test]
 fn every_example_deal_builds_a_memo() {
     use candor::present::{percent, root_rate, scenario_npv, scenario_rate_decimals, Style};
     for path in example_deals() {
-        let loaded = candor::files::load::load_deal(&path)
-            .unwrap_or_else(|f| panic!("{}: {:?}", path.display(), f.diagnostics));
-        let analysis = candor::engine::analyse(&loaded.deal);
+        let loaded = candor::files::load::load_deal(&path).expect("loads");
         let name = path
             .file_name()
             .expect("name")
             .to_string_lossy()
             .to_string();
-        let memo = build_memo(
-            &analysis,
-            &loaded.deal,
-            MemoInputs {
-                source: &loaded.source,
-                source_name: &name,
-                companions: &loaded.companions,
-                templates: BTreeMap::new(),
-                created: loaded.deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
-            },
-        )
-        .unwrap_or_else(|f| panic!("{name}: {}", f.render()));
+        let (analysis, memo) = example_memo(&path, false);
         let pdf = Pdf::parse(&memo.pdf);
         let text = pdf.text();
+        let first = normalise(&pdf.page_text(1));
+        assert!(first.contains("NPV rule says"), "{name}: {first}");
         for s in &analysis.scenarios {
             let decimals = scenario_rate_decimals(s);
             let mut needles: Vec<String> = s
@@ -429,11 +595,30 @@ fn every_example_deal_builds_a_memo() {
             for c in candor::present::caution_text_list(s, &analysis.currency) {
                 needles.push(normalise(c.title));
                 needles.push(normalise(&c.text));
+                // The caution's plain sentence, on the decision page.
+                assert!(
+                    first.contains(&normalise(candor::present::summary::caution_headline(
+                        c.code
+                    ))),
+                    "{name}: page 1 lacks the sentence of {}",
+                    c.code
+                );
             }
             for n in needles {
                 assert!(text.contains(&n), "{name}, {}: missing {n:?}", s.name);
             }
+            // No raw scenario key as a heading: the label is printed, in words.
+            if s.name.contains('_') {
+                assert!(
+                    !text.contains(&s.name),
+                    "{name}: the key {} is printed",
+                    s.name
+                );
+            }
         }
+        let pages = pdf.pages();
+        let limit = page_limit(analysis.scenarios.len());
+        assert!(pages <= limit, "{name}: {pages} pages, at most {limit}");
         // The deal file and every CSV file it reads are attached, byte for byte.
         let attached = pdf.attachments();
         assert_eq!(attached.len(), 1 + loaded.companions.len(), "{name}");
@@ -471,19 +656,23 @@ fn changes_since_a_version_print_literally() {
             source_name: "pump.yaml",
             companions: &[],
             templates: BTreeMap::new(),
+            fonts: Default::default(),
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
         },
         Some(changes),
+        Some("008"),
     )
     .unwrap_or_else(|f| panic!("memo failed: {}", f.render()));
     assert!(!memo.markup.contains(HOSTILE), "unescaped in the markup");
     let text = Pdf::parse(&memo.pdf).text();
     assert!(text.contains(&line), "{line} not literal in:\n{text}");
-    let figures = text.find("The figures at a glance").expect("figures");
+    let figures = text.find("The figures").expect("figures");
     let changes = text
         .find("Changes since version 007")
         .expect("section title");
     assert!(figures < changes);
+    // The title block names the version the memo is filed as.
+    assert!(text.contains("version 008 in the archive"), "{text}");
     // Without the section, the memo has no such heading.
     let plain = memo_of(&analysis, &deal);
     assert!(!plain.markup.contains("Changes since version"));
@@ -509,6 +698,68 @@ fn memo_with_templates(dir: &Path, templates: &Path) -> (Option<i32>, String) {
         out.status.code(),
         String::from_utf8_lossy(&out.stderr).into_owned(),
     )
+}
+
+/// A house style can add font files: a deal whose name holds a Thai letter and a CJK
+/// ideograph, which no bundled font shows, fails `check` and `memo` alone, passes
+/// `check --templates` with a folder holding a font that has them, and makes a memo
+/// whose text holds them. A file that only looks like a font is refused by name.
+#[test]
+fn a_house_style_adds_fonts_for_characters_the_bundled_fonts_lack() {
+    let dir = tempfile::tempdir().unwrap();
+    let style = dir.path().join("style");
+    std::fs::create_dir(&style).unwrap();
+    // A font of our own, built by tests/fixtures/house-fonts/make_font.py.
+    std::fs::copy(
+        crate::support::root().join("tests/fixtures/house-fonts/candor-test-glyphs.ttf"),
+        style.join("glyphs.ttf"),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.path().join("deal.yaml"),
+        "candor: 1\ndeal: { name: Mill \u{0E01}\u{4E00}, currency: EUR, as_of: 2027-01-01 }\n\
+         hurdle_rate: 8%\ncash_flows:\n  every: year\n  amounts: [-100, 60, 60]\n",
+    )
+    .unwrap();
+    let run = |args: &[&str]| {
+        let out = crate::support::candor_in(dir.path(), args);
+        (out.status.code(), crate::support::text(&out.stderr))
+    };
+    let (code, err) = run(&["check", "deal.yaml"]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("unshowable-character") && err.contains("U+0E01"),
+        "{err}"
+    );
+    let (code, err) = run(&["check", "deal.yaml", "--templates", "style"]);
+    assert_eq!(code, Some(0), "{err}");
+    let (code, err) = run(&["memo", "deal.yaml", "-o", "m.pdf"]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(!dir.path().join("m.pdf").exists());
+    let (code, err) = run(&["memo", "deal.yaml", "-o", "m.pdf", "--templates", "style"]);
+    assert_eq!(code, Some(0), "{err}");
+    let pdf = crate::support::pdf::Pdf::open(&dir.path().join("m.pdf"));
+    assert!(
+        pdf.text().contains("Mill \u{0E01}\u{4E00}"),
+        "{}",
+        pdf.text()
+    );
+    assert!(
+        pdf.fonts()
+            .iter()
+            .any(|f| f.name.contains("Candor") && f.embedded),
+        "{:?}",
+        pdf.fonts()
+    );
+
+    std::fs::write(style.join("broken.otf"), "not a font").unwrap();
+    let (code, err) = run(&["memo", "deal.yaml", "-o", "m2.pdf", "--templates", "style"]);
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("broken.otf") && err.contains("not a font file"),
+        "{err}"
+    );
+    assert!(!dir.path().join("m2.pdf").exists());
 }
 
 /// A misspelt template name is an error listing the names a house style can use, and
@@ -553,32 +804,34 @@ fn house_style_files_are_named_and_read_by_the_rules() {
     assert!(!dir.path().join("m.pdf").exists());
 }
 
-/// A house style whose Typst code loops ten billion times is given up after the
-/// deadline, with a diagnostic naming the house style's templates; markup that ends is
-/// typeset as by `typeset`. (One iteration takes well over a nanosecond, so it cannot
-/// end within the two seconds given. The loop is two nested loops over 100,000 numbers
-/// rather than one over `range(1000000000)`, an array that the abandoned compile kept
-/// growing towards 16 GB for as long as the test process lived, until the kernel killed
-/// the whole test binary for want of memory.)
+/// A house style whose Typst code loops ten billion times is stopped at the deadline,
+/// and one that builds an array of a hundred million numbers at the memory budget,
+/// each with a diagnostic naming the house style's templates; markup that ends is
+/// typeset as by `typeset`. The child process is the built candor program. (One
+/// iteration takes well over a nanosecond, so ten billion cannot end within the two
+/// seconds given, and the inner arrays are small; the array of pairs needs several GiB,
+/// far past 512 MiB.)
 #[test]
-fn typesetting_a_house_style_has_a_deadline() {
+fn typesetting_a_house_style_has_a_budget_of_time_and_memory() {
+    use candor::worker::{typeset_within, Budget};
+    let program = Path::new(env!("CARGO_BIN_EXE_candor"));
     let options = candor::pdf::TypesetOptions {
         created: NaiveDate::from_ymd_opt(2026, 1, 2)
             .and_then(|d| d.and_hms_opt(0, 0, 0))
             .expect("time"),
-        ident: "deadline-test".to_string(),
+        ident: "budget-test".to_string(),
     };
     let names = vec!["style.typ.j2".to_string()];
-    let deadline = std::time::Duration::from_secs(2);
+    let budget = Budget {
+        deadline: std::time::Duration::from_secs(2),
+        memory: 512 << 20,
+    };
+    let fonts = Default::default();
+    let typeset =
+        |markup: &str| typeset_within(program, markup, &[], &fonts, &options, budget, &names);
     let started = std::time::Instant::now();
-    let err = candor::pdf::typeset_within(
-        "#for i in range(100000) { for j in range(100000) {} }\nEnd.",
-        &[],
-        &options,
-        deadline,
-        &names,
-    )
-    .expect_err("ten billion iterations cannot finish in two seconds");
+    let err = typeset("#for i in range(100000) { for j in range(100000) {} }\nEnd.")
+        .expect_err("ten billion iterations cannot finish in two seconds");
     assert!(started.elapsed() < std::time::Duration::from_secs(10));
     assert_eq!(err.code, "typeset");
     assert!(err.message.contains("`style.typ.j2`"), "{}", err.message);
@@ -587,12 +840,36 @@ fn typesetting_a_house_style_has_a_deadline() {
         "{}",
         err.message
     );
-    let quick = candor::pdf::typeset_within("Hello.", &[], &options, deadline, &names)
-        .expect("a short document is typeset");
+
+    let big = Budget {
+        deadline: std::time::Duration::from_secs(60),
+        ..budget
+    };
+    let err = typeset_within(
+        program,
+        "#let a = range(100000000).map(i => (i, i))\n#a.len()",
+        &[],
+        &fonts,
+        &options,
+        big,
+        &names,
+    )
+    .expect_err("an array of several GiB cannot be built in 512 MiB");
+    assert_eq!(err.code, "typeset");
+    assert!(err.message.contains("more than 512 MiB"), "{}", err.message);
+    assert_eq!(err.file.as_deref(), Some("style.typ.j2"));
+
+    // A Typst error comes back as the diagnostic typesetting in-process gives.
+    let broken = typeset("#nope").expect_err("an unknown variable");
+    assert_eq!(
+        broken,
+        candor::pdf::typeset("#nope", &[], &options).unwrap_err()
+    );
+    let quick = typeset("Hello.").expect("a short document is typeset");
     assert_eq!(
         quick,
         candor::pdf::typeset("Hello.", &[], &options).unwrap(),
-        "the same bytes as without a deadline"
+        "the same bytes as in-process"
     );
 }
 
@@ -628,4 +905,27 @@ fn house_style_templates_are_bounded_and_their_errors_located() {
     assert!(err.contains("`style.typ.j2` failed at line 3"), "{err}");
     assert!(err.contains("undefined value"), "{err}");
     assert!(err.contains("included from `memo.typ.j2`"), "{err}");
+}
+
+/// Without `-o`, the memo is named after the deal file (`kestrel.yaml` gives
+/// `kestrel.pdf`), so two deal files of one deal name in one folder write two memos.
+#[test]
+fn the_default_memo_is_named_after_the_deal_file() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let source =
+        std::fs::read(crate::support::example("kestrel-bay-cold-store.yaml")).expect("example");
+    for name in ["kestrel-high.yaml", "kestrel-low.yaml"] {
+        std::fs::write(dir.path().join(name), &source).expect("copy");
+        let out = crate::support::candor_in(dir.path(), &["memo", name]);
+        assert_eq!(
+            out.status.code(),
+            Some(0),
+            "{}",
+            crate::support::text(&out.stderr)
+        );
+    }
+    for pdf in ["kestrel-high.pdf", "kestrel-low.pdf"] {
+        assert!(dir.path().join(pdf).is_file(), "{pdf} missing");
+    }
+    assert!(!dir.path().join("kestrel-bay-cold-store.pdf").exists());
 }

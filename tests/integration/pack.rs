@@ -62,6 +62,26 @@ fn three_deals_make_one_pack() {
             .unwrap_or_else(|| panic!("{name} missing or out of order"));
         at += found + name.len();
     }
+    // The cover: one row per deal with caution titles, never codes, the NPV rule apart
+    // from the committee's status, and the basis of the NPVs stated.
+    let cover = &t[..memos];
+    for needle in [
+        "Several IRRs",
+        "The balance changes sign",
+        "NPV rule",
+        "Committee",
+        "deferred",
+        "own currency, rounded",
+        "NPVs as at",
+    ] {
+        assert!(
+            cover.contains(needle),
+            "{needle:?} not on the cover: {cover}"
+        );
+    }
+    for code in ["multiple-irr", "mixed-balance", "mirr-assumptions"] {
+        assert!(!cover.contains(code), "the code {code} is on the cover");
+    }
     let pack_pages = pages(&out);
     for (f, _) in DEALS {
         let memo = dir.path().join(format!("{f}.pdf"));

@@ -129,7 +129,7 @@ fn validated(g: &Generated) -> Deal {
 enum Figure {
     /// The `n`-th root's annual rate.
     Root(usize, String),
-    /// The sentence giving the count: "no real IRR", "exactly one real IRR", "3 real IRRs".
+    /// The sentence giving the count: "no real IRR", "one real IRR", "3 real IRRs".
     Count(String),
     /// The NPV at the hurdle, money as the memo prints it.
     Npv(String),
@@ -169,9 +169,11 @@ fn expected_figures(s: &ScenarioAnalysis) -> Vec<Figure> {
             )
         })
         .collect();
-    out.push(Figure::Count(match s.irr.count {
+    // The memo counts distinct IRRs in its sentence (a double root is one IRR, "a
+    // double root"); the appendix gives the count with multiplicity.
+    out.push(Figure::Count(match s.irr.roots.len() {
         0 => "no real IRR".to_string(),
-        1 => "exactly one real IRR".to_string(),
+        1 => "one real IRR".to_string(),
         n => format!("{n} real IRRs"),
     }));
     out.push(Figure::Npv(candor::present::scenario_npv(
@@ -193,6 +195,7 @@ fn markup_of(analysis: &Analysis, deal: &Deal, source: &[u8]) -> String {
         charts,
         templates: BTreeMap::new(),
         changes: None,
+        filed_version: None,
     };
     report::render(analysis, deal, &ctx).expect("markup")
 }
@@ -245,6 +248,7 @@ proptest! {
             source_name: "generated.yaml",
             companions: &[],
             templates: BTreeMap::new(),
+            fonts: Default::default(),
             created: chrono::NaiveDate::from_ymd_opt(2027, 1, 1)
                 .and_then(|d| d.and_hms_opt(0, 0, 0))
                 .expect("time"),

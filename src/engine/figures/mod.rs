@@ -17,7 +17,8 @@ pub use npv::*;
 pub use payback::*;
 
 use super::analysis::{
-    ApproxAmount, BalanceKind, BalanceRow, Decision, Payback, ProfilePoint, Stance,
+    ApproxAmount, BalanceKind, BalanceRow, Decision, Payback, PaybackMethod, PaybackStatus,
+    ProfilePoint, Stance,
 };
 use super::dd::Dd;
 use super::flows::Flows;
@@ -138,6 +139,40 @@ pub(crate) mod tests {
             npv_exact(&periodic(&["0", "110.055"], 1), dec("0.1")),
             Some(dec("100.05"))
         );
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(300))]
+        /// Differential: the fast NPV (double-double with an error bound, settled
+        /// exactly only when the cent is in doubt) against the exact rational NPV
+        /// rounded to the cent, on periodic flows, where the value is rational.
+        #[test]
+        fn fast_npv_to_the_cent_matches_the_exact_fraction(
+            cents_list in proptest::collection::vec(-10_000_000_000i64..10_000_000_000, 2..60),
+            bp in -9_900i64..50_000,
+            m in proptest::sample::select(vec![1u32, 2, 4, 12]),
+        ) {
+            let amounts: Vec<String> = cents_list
+                .iter()
+                .map(|c| Decimal::new(*c, 2).to_string())
+                .collect();
+            let refs: Vec<&str> = amounts.iter().map(String::as_str).collect();
+            let flows = periodic(&refs, m);
+            proptest::prop_assume!(!flows.points.is_empty());
+            let rate = Decimal::new(bp, 4);
+            let Some((num, den)) = npv_rational(&flows, rate) else {
+                return Ok(());
+            };
+            let want = exact_figure(&num, &den);
+            let got = npv_at(&flows, rate);
+            match (want, got) {
+                (NpvAt::Cents(a), Some(NpvAt::Cents(b))) => proptest::prop_assert_eq!(a, b),
+                (NpvAt::Beyond(a), Some(NpvAt::Beyond(b))) => {
+                    proptest::prop_assert_eq!(a.negative, b.negative)
+                }
+                (w, g) => proptest::prop_assert!(false, "exact {w:?}, fast {g:?}"),
+            }
+        }
     }
 
     #[test]
@@ -304,24 +339,98 @@ pub(crate) mod tests {
         // PI at 10% for -100, 60, 60: (60/1.1 + 60/1.21) / 100
         let pi = profitability_index(&periodic(&["-100", "60", "60"], 1), 0.1).unwrap();
         assert!(close(pi, (60.0 / 1.1 + 60.0 / 1.21) / 100.0, 1e-14));
-        // Payback of the mine: -30 recovered by 10 a year after 3 years, then the
-        // closure cost of 65 at year 10 makes the position negative again.
-        let p = payback(&mine(), 0.1);
-        assert_eq!(p.simple_years, Some(3.0));
-        assert!(p.turns_negative_again);
-        // discounted at 10%: after 3 years 30 - 24.8685 = 5.1315 left, year 4 brings 6.8301
-        let d = p.discounted_years.unwrap();
-        let left = 30.0 - 10.0 * (1.0 / 1.1 + 1.0 / 1.21 + 1.0 / 1.331);
-        assert!(close(d, 3.0 + left / (10.0 / 1.4641), 1e-12), "{d}");
         // -100 then 40 a half-year: half-way through the third half-year.
         let h = payback(&periodic(&["-100", "40", "40", "40"], 2), 0.0);
         assert_eq!(h.simple_years, Some(1.25));
+        assert_eq!(h.status, PaybackStatus::Reached);
+        assert_eq!(h.method, PaybackMethod::WithinPeriod);
         assert!(!h.turns_negative_again);
         assert_eq!(h.discounted_years, Some(1.25));
-        assert_eq!(
-            payback(&periodic(&["-100", "40"], 1), 0.1).simple_years,
-            None
+        let short = payback(&periodic(&["-100", "40"], 1), 0.1);
+        assert_eq!(short.simple_years, None);
+        assert_eq!(short.status, PaybackStatus::NotReached);
+    }
+
+    /// Payback is the first time the running total turns non-negative and stays so
+    /// (common practice: the undiscounted payback period, interpolated within the
+    /// period in which it falls).
+    #[test]
+    fn payback_counts_periods_without_flows() {
+        // -1,000,000, nine empty years, then 5,000,000: the money comes back in year 10,
+        // a fifth of the way into that year's period: 9.2 years, not 2.
+        let mut a = vec!["-1000000"];
+        a.extend(["0"; 9]);
+        a.push("5000000");
+        let p = payback(&periodic(&a, 1), 0.0);
+        assert_eq!(p.status, PaybackStatus::Reached);
+        assert!(close(p.simple_years.unwrap(), 9.2, 1e-12), "{p:?}");
+    }
+
+    #[test]
+    fn payback_of_a_deal_that_ends_below_zero_is_not_reached() {
+        // The mine: -30, then 10 a year for nine years (back to +60), then -65: the
+        // running total ends at -5, so the money is not paid back within the forecast,
+        // although it was recovered for a while (after year 3).
+        let p = payback(&mine(), 0.1);
+        assert_eq!(p.status, PaybackStatus::NotReached);
+        assert_eq!(p.simple_years, None);
+        assert!(p.turns_negative_again);
+        // Discounted at 10% the closure cost weighs less: the NPV at 10% is 2.53
+        // (docs/methods.md, Check values), so the discounted total recovers in year 4
+        // (after 3 years 30 - 24.8685 = 5.1315 is left; year 4 brings 6.8301) and stays
+        // above zero.
+        assert_eq!(p.discounted_status, PaybackStatus::Reached);
+        let d = p.discounted_years.unwrap();
+        let left = 30.0 - 10.0 * (1.0 / 1.1 + 1.0 / 1.21 + 1.0 / 1.331);
+        assert!(close(d, 3.0 + left / (10.0 / 1.4641), 1e-12), "{d}");
+        // A later recovery that lasts is the payback: -100, 60, 60, -50, 100 has the
+        // running totals -100, -40, 20, -30, 70: paid back with the last flow, 0.3 of the
+        // way through its period (30 / 100).
+        let q = payback(&periodic(&["-100", "60", "60", "-50", "100"], 1), 0.0);
+        assert_eq!(q.status, PaybackStatus::Reached);
+        assert!(close(q.simple_years.unwrap(), 3.3, 1e-12), "{q:?}");
+        assert!(q.turns_negative_again);
+    }
+
+    #[test]
+    fn payback_does_not_apply_when_the_investor_is_paid_first() {
+        // 1000, -3000, 2500: the investor receives money first.
+        let p = payback(&no_real_irr(), 0.1);
+        assert_eq!(p.status, PaybackStatus::NotApplicable);
+        assert_eq!(p.discounted_status, PaybackStatus::NotApplicable);
+        assert_eq!(p.simple_years, None);
+        assert_eq!(p.discounted_years, None);
+        // Only inflows: never out of pocket.
+        let q = payback(&periodic(&["100", "50"], 1), 0.1);
+        assert_eq!(q.status, PaybackStatus::NotApplicable);
+    }
+
+    #[test]
+    fn payback_of_dated_flows_is_the_date_of_the_flow() {
+        // A five-year bullet loan: 1,000 lent on 2024-01-01, 50 of interest each year,
+        // 1,050 at maturity on 2029-01-01. The running total is negative until
+        // maturity, so the payback is the maturity date, not a time between two dates.
+        let p = payback(
+            &dated(&[
+                ("2024-01-01", "-1000"),
+                ("2025-01-01", "50"),
+                ("2026-01-01", "50"),
+                ("2027-01-01", "50"),
+                ("2028-01-01", "50"),
+                ("2029-01-01", "1050"),
+            ]),
+            0.05,
         );
+        assert_eq!(p.status, PaybackStatus::Reached);
+        assert_eq!(p.method, PaybackMethod::FlowDate);
+        assert_eq!(p.simple_date.as_deref(), Some("2029-01-01"));
+        assert_eq!(p.simple_years, Some(1827.0 / 365.0));
+        // Discounted at its own coupon rate (5%) the loan's NPV is about zero, a hair
+        // either side by day counting; the discounted payback, when reached, is at
+        // maturity too.
+        if p.discounted_status == PaybackStatus::Reached {
+            assert_eq!(p.discounted_date.as_deref(), Some("2029-01-01"));
+        }
     }
 
     #[test]
