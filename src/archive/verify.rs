@@ -140,7 +140,8 @@ fn check_expected_heads(report: &mut VerifyReport, options: &VerifyOptions) {
                 }
             }
             None => report.problems.push(format!(
-                "the recorded head {expected} is the manifest of no version here: the version                  it named was removed or rewritten after it was recorded"
+                "the recorded head {expected} is the manifest of no version here: the version \
+                 it named was removed or rewritten after it was recorded"
             )),
         }
     }

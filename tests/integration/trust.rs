@@ -629,7 +629,13 @@ fn a_deleted_latest_version_is_caught_by_the_recorded_head() {
     // ...with it, the loss is named.
     let out = verify(&archive, &["--head", hash]);
     assert_eq!(out.status.code(), Some(1));
-    assert_problem(&out, "was removed or rewritten after it was recorded");
+    assert_problem(
+        &out,
+        &format!(
+            "the recorded head {hash} is the manifest of no version here: the version it named \
+             was removed or rewritten after it was recorded"
+        ),
+    );
 }
 
 fn key(name: &str) -> PathBuf {
