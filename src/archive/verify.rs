@@ -622,8 +622,18 @@ fn recompute(
     };
     // The section on changes is rebuilt from the version before this one by number,
     // exactly as it was made when this version was filed.
-    let changes = version_before(dir)
-        .map(|(version, before)| changes_since(&version, &before, &loaded.deal, &analysis));
+    let before = version_before(dir);
+    // When the chain says this version followed another manifest than the one now
+    // before it, its section on changes cannot be rebuilt as it was filed.
+    let followed_other = manifest.format >= 2
+        && match &before {
+            Some((_, folder)) => read_manifest_bytes(folder)
+                .map(|b| Some(sha256_hex(&b)) != manifest.previous_manifest)
+                .unwrap_or(true),
+            None => manifest.previous_manifest.is_some(),
+        };
+    let changes =
+        before.map(|(version, before)| changes_since(&version, &before, &loaded.deal, &analysis));
     // The title block names the version the memo was filed as: this folder's.
     let filed_as = dir.file_name().map(|n| n.to_string_lossy().to_string());
     let rebuilt = match build_memo_with_changes(
@@ -667,9 +677,15 @@ fn recompute(
         .zip(&rebuilt)
         .position(|(a, b)| a != b)
         .unwrap_or(pdf.len().min(rebuilt.len()));
+    let why = if followed_other {
+        "; its section on changes since the previous version was rebuilt from the version \
+         now before it, which is not the one it was filed after (see the chain)"
+    } else {
+        ""
+    };
     problems.push(format!(
         "{pdf_path} differs from the PDF rebuilt from the filed inputs (first difference at byte \
-         {at}; {} bytes filed, {} rebuilt)",
+         {at}; {} bytes filed, {} rebuilt){why}",
         pdf.len(),
         rebuilt.len()
     ));

@@ -502,6 +502,14 @@ fn deleted_swapped_and_inserted_versions_break_the_chain() {
     let p = problems(&out);
     let d = deal_dir.display();
     assert!(has(&p, &format!("{d}: version 002 is missing")), "{p:?}");
+    // 003's memo names the changes since 002, which is gone: said, not left a riddle.
+    assert!(
+        has(
+            &p,
+            "which is not the one it was filed after (see the chain)"
+        ),
+        "{p:?}"
+    );
     assert!(
         has(
             &p,
