@@ -68,6 +68,11 @@ pub fn pipeline(data: &[u8]) -> PipelineOutcome {
     let ctx = candor::report::MemoContext {
         source_name: "deal.yaml".to_string(),
         source_sha256: candor::memo::sha256_hex(text.as_bytes()),
+        // The companion text stands for any CSV file the deal reads.
+        companions: vec![(
+            "flows.csv".to_string(),
+            candor::memo::sha256_hex(companion.as_bytes()),
+        )],
         // As `candor memo` without SOURCE_DATE_EPOCH: midnight of the deal's as-of date.
         created: candor::pdf::creation_time(deal.as_of, None).unwrap_or_default(),
         charts,

@@ -25,8 +25,12 @@ pub enum Command {
     Memo(MemoArgs),
     /// Gather the memos of several deals into one PDF for a committee meeting.
     Pack(PackArgs),
-    /// Check filed memos: hashes, recomputed figures and rebuilt PDFs.
+    /// Check filed memos: hashes, chain, recomputed figures, rebuilt PDFs, signatures.
     Verify(VerifyArgs),
+    /// Sign a filed version's manifest with the reviewer's SSH key.
+    Sign(SignArgs),
+    /// List the archive's deals, versions, decisions and signatures.
+    Ledger(LedgerArgs),
     /// Show what changed between two deals or two filed versions.
     Diff(DiffArgs),
     /// Write a commented starter deal file that passes `candor check`.
@@ -94,6 +98,10 @@ pub struct MemoArgs {
     /// Keep running: rebuild the memo whenever the deal file or its CSV files change.
     #[arg(long, conflicts_with = "archive")]
     pub watch: bool,
+    /// With `--archive`: the deal's name or currency changed since its latest filed
+    /// version; file it in the same folder and record the rename.
+    #[arg(long, requires = "archive")]
+    pub rename: bool,
 }
 
 /// Options of `candor pack`.
@@ -119,6 +127,37 @@ pub struct VerifyArgs {
     /// A filed version folder, a deal's folder of versions, or a whole archive.
     #[arg(value_name = "PATH")]
     pub path: PathBuf,
+    /// Check signatures against this allowed-signers file (OpenSSH's format).
+    #[arg(long, value_name = "FILE")]
+    pub allowed_signers: Option<PathBuf>,
+    /// A chain head recorded earlier (a manifest's SHA-256) that must still be there.
+    #[arg(long, value_name = "SHA256")]
+    pub head: Vec<String>,
+}
+
+/// Options of `candor sign`.
+#[derive(Debug, Args)]
+pub struct SignArgs {
+    /// The filed version folder whose manifest is signed.
+    #[arg(value_name = "VERSION")]
+    pub folder: PathBuf,
+    /// The reviewer's SSH private key (Ed25519, OpenSSH format, without a passphrase).
+    #[arg(long, value_name = "FILE")]
+    pub key: PathBuf,
+}
+
+/// Options of `candor ledger`.
+#[derive(Debug, Args)]
+pub struct LedgerArgs {
+    /// The archive folder.
+    #[arg(value_name = "DIR")]
+    pub archive: PathBuf,
+    /// Print the listing as one JSON object on stdout.
+    #[arg(long)]
+    pub json: bool,
+    /// Name the signers from this allowed-signers file (OpenSSH's format).
+    #[arg(long, value_name = "FILE")]
+    pub allowed_signers: Option<PathBuf>,
 }
 
 /// Options of `candor diff`.
@@ -167,6 +206,8 @@ pub fn run() -> ExitCode {
         Command::Memo(args) => crate::commands::memo::run(&args),
         Command::Pack(args) => crate::commands::pack::run(&args),
         Command::Verify(args) => crate::commands::verify::run(&args),
+        Command::Sign(args) => crate::commands::sign::run(&args),
+        Command::Ledger(args) => crate::commands::ledger::run(&args),
         Command::Diff(args) => crate::commands::diff::run(&args),
         Command::New(args) => crate::commands::new::run(&args),
         Command::Completions(args) => crate::commands::completions::run(&args),

@@ -7,7 +7,7 @@
 //!
 //! | layer | module | entry point | output |
 //! | --- | --- | --- | --- |
-//! | diagnostics | [`diag`], [`limits`] | [`diag::Diagnostic`], [`diag::Failure`] | problems, with their files' text and exit class; the one set of limits on inputs |
+//! | diagnostics | [`diag`], [`limits`], [`release`] | [`diag::Diagnostic`], [`diag::Failure`], [`release::version`] | problems, with their files' text and exit class; the one set of limits on inputs; which candor this is |
 //! | input | [`input`] | [`input::parse`] | [`input::RawDeal`]: the YAML as written, with positions |
 //! | model | [`model`] | [`model::validate`] | [`model::Deal`]: exact money, resolved flows per scenario |
 //! | engine | [`engine`] | [`engine::analyse`] | [`engine::Analysis`]: roots, figures, cautions as facts (no words) |
@@ -40,6 +40,7 @@ pub mod model;
 pub mod pack;
 pub mod pdf;
 pub mod present;
+pub mod release;
 pub mod report;
 pub mod schema;
 pub mod screen;

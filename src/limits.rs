@@ -46,6 +46,15 @@ pub const MAX_MEMO_CHARS: usize = 200_000;
 /// Largest deal file (and CSV file) read, in bytes: checked before reading, so a
 /// stray multi-gigabyte file is refused at once.
 pub const MAX_FILE_BYTES: u64 = 10 * 1024 * 1024;
+/// Largest file of a filed version that `verify` reads (a memo PDF, the analysis),
+/// in bytes: a listed file is read to at most the size its manifest records (and never
+/// past this), so a file swapped for a huge one or for `/dev/zero` cannot take the
+/// memory.
+pub const MAX_FILED_BYTES: u64 = 256 * 1024 * 1024;
+/// Largest manifest read, in bytes: a manifest lists a handful of files.
+pub const MAX_MANIFEST_BYTES: u64 = 1024 * 1024;
+/// Largest signature file read, in bytes (an Ed25519 signature is under 1 KB).
+pub const MAX_SIGNATURE_BYTES: u64 = 64 * 1024;
 /// Longest batch line read, in bytes (16 MiB, room for the most flows a series may
 /// hold written out at length): a longer line is answered with an error line and
 /// skipped to its end without being held in memory.

@@ -28,6 +28,9 @@ pub struct MemoInputs<'a> {
     pub source: &'a [u8],
     /// The deal file's name (without folders).
     pub source_name: &'a str,
+    /// The other files the deal file reads (CSV flows), as (path relative to the deal
+    /// file, bytes): attached to the PDF and covered by the input hash.
+    pub companions: &'a [(String, Vec<u8>)],
     /// Templates replacing built-in ones, by name.
     pub templates: BTreeMap<String, String>,
     /// Font files of the house style, beside the bundled fonts.
@@ -98,6 +101,11 @@ pub fn render_markup(
     let ctx = report::MemoContext {
         source_name: inputs.source_name.to_string(),
         source_sha256: sha256_hex(inputs.source),
+        companions: inputs
+            .companions
+            .iter()
+            .map(|(name, bytes)| (name.clone(), sha256_hex(bytes)))
+            .collect(),
         created: inputs.created,
         charts: charts.to_vec(),
         templates: inputs.templates.clone(),
@@ -120,9 +128,17 @@ pub fn typeset_markup(
         .flat_map(|(i, c)| c.files(i))
         .collect();
     files.push((report::SOURCE_FILE.to_string(), inputs.source.to_vec()));
+    for (i, (_, bytes)) in inputs.companions.iter().enumerate() {
+        files.push((report::companion_file(i), bytes.clone()));
+    }
+    let hashes: Vec<(String, String)> = inputs
+        .companions
+        .iter()
+        .map(|(name, bytes)| (name.clone(), sha256_hex(bytes)))
+        .collect();
     let options = pdf::TypesetOptions {
         created: inputs.created,
-        ident: sha256_hex(inputs.source),
+        ident: report::input_hash(inputs.source_name, &sha256_hex(inputs.source), &hashes),
     };
     if house_style {
         // A house style is typeset by a child process of this program, within a budget

@@ -155,7 +155,7 @@ pub fn pack_markup(
             .enumerate()
             .map(|(i, d)| summary_row(i + 1, d))
             .collect(),
-        version: env!("CARGO_PKG_VERSION").to_string(),
+        version: crate::release::version(),
     };
     let mut markup = report::render_template(PACK_TEMPLATE.0, PACK_TEMPLATE.1, &view)?;
     let mut files: Files = Vec::new();
@@ -175,6 +175,7 @@ pub fn pack_markup(
             let ctx = report::MemoContext {
                 source_name: name,
                 source_sha256: sha256_hex(&d.loaded.source),
+                companions: pack_companions(deals, i),
                 created,
                 charts: d.charts.clone(),
                 templates: BTreeMap::new(),
@@ -198,10 +199,41 @@ pub fn pack_markup(
             format!("{p}{}", report::SOURCE_FILE),
             d.loaded.source.clone(),
         ));
+        for (k, (_, bytes)) in d.loaded.companions.iter().enumerate() {
+            files.push((format!("{p}{}", report::companion_file(k)), bytes.clone()));
+        }
         // Each memo's settings (page style, helpers) stay inside its own content block.
         markup.push_str(&format!("\n#pagebreak(weak: true)\n#[\n{body}\n]\n"));
     }
     Ok((markup, files))
+}
+
+/// The CSV files of the `i`-th deal as its memo names and attaches them: a name an
+/// earlier deal of the pack already attached gets the deal's number in front.
+fn pack_companions(deals: &[PackedDeal], i: usize) -> Vec<(String, String)> {
+    let taken = |name: &str| {
+        let attached = report::attachment_name(name);
+        deals[..i].iter().any(|e| {
+            report::attachment_name(&e.source_name) == attached
+                || e.loaded
+                    .companions
+                    .iter()
+                    .any(|(m, _)| report::attachment_name(m) == attached)
+        })
+    };
+    deals[i]
+        .loaded
+        .companions
+        .iter()
+        .map(|(name, bytes)| {
+            let shown = if taken(name) {
+                format!("{}-{name}", i + 1)
+            } else {
+                name.clone()
+            };
+            (shown, sha256_hex(bytes))
+        })
+        .collect()
 }
 
 fn prefix(i: usize) -> String {

@@ -229,7 +229,7 @@ pub fn typeset_with_fonts(
     })?;
     let pdf_options = PdfOptions {
         ident: Smart::Custom(options.ident.clone()),
-        creator: Smart::Custom(Some(format!("candor {}", env!("CARGO_PKG_VERSION")))),
+        creator: Smart::Custom(Some(format!("candor {}", crate::release::version()))),
         timestamp: Some(Timestamp::new_utc(timestamp)),
         standards,
         ..PdfOptions::default()

@@ -53,6 +53,34 @@ const MAX_TURN_ROWS: usize = 16;
 /// Where the attached deal file's bytes are found by the typesetter.
 pub const SOURCE_FILE: &str = "/candor/source";
 
+/// Where the typesetter finds the bytes of the deal's `i`-th companion (CSV) file.
+pub fn companion_file(i: usize) -> String {
+    format!("/candor/companion-{i}")
+}
+
+/// The SHA-256 of a memo's inputs together: the deal file's own SHA-256 when it reads
+/// no other file; else the SHA-256 of the lines `sha256sum` prints for the deal file
+/// and then each companion file (`<hex>  <name>`, each ending in a line feed), so that
+/// `sha256sum deal.yaml flows.csv | sha256sum` gives the same value.
+pub fn input_hash(
+    source_name: &str,
+    source_sha256: &str,
+    companions: &[(String, String)],
+) -> String {
+    if companions.is_empty() {
+        return source_sha256.to_string();
+    }
+    let mut lines = format!("{source_sha256}  {source_name}\n");
+    for (name, sha) in companions {
+        lines.push_str(&format!("{sha}  {name}\n"));
+    }
+    use sha2::Digest as _;
+    sha2::Sha256::digest(lines.as_bytes())
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
+}
+
 /// Everything the memo needs besides the analysis and the deal.
 #[derive(Debug, Clone)]
 pub struct MemoContext {
@@ -60,6 +88,10 @@ pub struct MemoContext {
     pub source_name: String,
     /// SHA-256 of the exact deal file bytes, lower-case hex.
     pub source_sha256: String,
+    /// The other files the deal file reads (CSV flows), attached to the PDF and covered
+    /// by the input hash, as (path relative to the deal file, SHA-256), in the order
+    /// read; the bytes are found at [`companion_file`].
+    pub companions: Vec<(String, String)>,
     /// The document's creation time (UTC), fixed so that output is reproducible.
     pub created: NaiveDateTime,
     /// The charts drawn for each scenario, in the analysis' order.
@@ -81,6 +113,29 @@ pub struct ChangesSince {
     /// One plain sentence per change, inputs first, then results; empty when the two
     /// versions differ only in bytes that change no field (comments, layout).
     pub lines: Vec<String>,
+}
+
+/// The companion files as attachments: plain attachment names, made distinct from the
+/// deal file's and from each other by a number in front where they would meet.
+fn companion_views(ctx: &MemoContext) -> Vec<CompanionView> {
+    let mut taken = vec![attachment_name(&ctx.source_name)];
+    ctx.companions
+        .iter()
+        .enumerate()
+        .map(|(i, (name, hash))| {
+            let mut attached = attachment_name(name);
+            if taken.contains(&attached) {
+                attached = format!("{}-{attached}", i + 1);
+            }
+            taken.push(attached.clone());
+            CompanionView {
+                name: name.clone(),
+                attachment_name: attached,
+                file: companion_file(i),
+                hash: hash.clone(),
+            }
+        })
+        .collect()
 }
 
 /// The first 12 hex digits of a SHA-256: short enough for a footer, long enough to
@@ -182,6 +237,9 @@ pub fn render_body(
             .collect::<String>()
     );
     view.source_file = format!("{prefix}{}", view.source_file);
+    for c in &mut view.companions {
+        c.file = format!("{prefix}{}", c.file);
+    }
     for s in &mut view.scenarios {
         for path in [
             &mut s.charts.npv_profile,
@@ -388,6 +446,15 @@ pub fn attachment_name(name: &str) -> String {
     }
 }
 
+/// A companion file as the memo attaches and names it.
+#[derive(Debug, Serialize)]
+struct CompanionView {
+    name: String,
+    attachment_name: String,
+    file: String,
+    hash: String,
+}
+
 #[derive(Debug, Serialize)]
 struct View {
     title: String,
@@ -404,6 +471,9 @@ struct View {
     source_name: String,
     attachment_name: String,
     source_file: String,
+    companions: Vec<CompanionView>,
+    input_hash: String,
+    input_hash_short: String,
     created: CreatedView,
     author: Option<String>,
     recommendation: Vec<String>,
@@ -1058,6 +1128,13 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         source_name: ctx.source_name.clone(),
         attachment_name: attachment_name(&ctx.source_name),
         source_file: SOURCE_FILE.to_string(),
+        companions: companion_views(ctx),
+        input_hash: input_hash(&ctx.source_name, &ctx.source_sha256, &ctx.companions),
+        input_hash_short: short_hash(&input_hash(
+            &ctx.source_name,
+            &ctx.source_sha256,
+            &ctx.companions,
+        )),
         created: CreatedView::of(c),
         author: deal.signoff.as_ref().and_then(|s| s.prepared_by.clone()),
         recommendation: deal
@@ -1090,7 +1167,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         },
         has_cautions: scenarios.iter().any(|s| !s.cautions.is_empty()),
         scenarios,
-        version: env!("CARGO_PKG_VERSION").to_string(),
+        version: crate::release::version(),
         changes: ctx.changes.clone(),
         filed_version: ctx.filed_version.clone(),
         units_text: deal.currency.clone(),

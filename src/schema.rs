@@ -118,7 +118,13 @@ fn version_one() -> Value {
                         "description": "Current ISO 4217 code, in capitals.",
                         "enum": CURRENCIES
                     },
-                    "as_of": { "$ref": "#/$defs/date", "description": "The date of the forecast." }
+                    "as_of": { "$ref": "#/$defs/date", "description": "The date of the forecast." },
+                    "id": {
+                        "description": "Optional stable name of the deal's archive folder (default: the deal file's name): letters and digits, with - _ . between them.",
+                        "type": "string",
+                        "minLength": 1,
+                        "maxLength": 64
+                    }
                 }
             },
             "hurdle_rate": { "$ref": "#/$defs/rate", "description": "Annual rate the committee requires." },

@@ -6,7 +6,8 @@ use super::*;
 use crate::diag::{Failure, FailureClass};
 use crate::files::load::{load_deal, LoadedDeal};
 use crate::files::output::{Disk, Sink, Unfinished, UnfinishedKind};
-use crate::memo::{sha256_hex, slug, MemoInputs};
+use crate::files::strict::{self, EntryKind};
+use crate::memo::{sha256_hex, MemoInputs};
 
 /// The files of a version besides the manifest, as (path inside the version, role, bytes).
 /// Manifest entries (path, role, size, SHA-256) for files about to be filed.
@@ -73,8 +74,9 @@ fn version_files(
             text.as_bytes().to_vec(),
         ));
     }
-    // The JSON contract, as `rates --json` prints it.
-    let analysis = crate::present::json::analysis_text(filing.analysis).map_err(|e| {
+    // The JSON contract, as `rates --json` prints it, after its format and candor's
+    // version.
+    let analysis = analysis_file(filing.analysis).map_err(|e| {
         Diagnostic::error("archive", format!("cannot write the analysis as JSON: {e}"))
     })?;
     files.push((ANALYSIS.to_string(), Role::Analysis, analysis.into_bytes()));
@@ -91,7 +93,22 @@ fn version_files(
     Ok(files)
 }
 
-fn signoff_record(deal: &Deal) -> SignoffRecord {
+/// The filed analysis: `analysis_format` and `candor_version`, then the JSON contract
+/// of `rates --json`.
+fn analysis_file(analysis: &Analysis) -> Result<String, serde_json::Error> {
+    let mut out = serde_json::Map::new();
+    out.insert("analysis_format".to_string(), Value::from(ANALYSIS_FORMAT));
+    out.insert(
+        "candor_version".to_string(),
+        Value::String(crate::release::version()),
+    );
+    if let Value::Object(body) = crate::present::json::analysis(analysis)? {
+        out.extend(body);
+    }
+    Ok(serde_json::to_string_pretty(&Value::Object(out))? + "\n")
+}
+
+pub(super) fn signoff_record(deal: &Deal) -> SignoffRecord {
     let s = deal.signoff.as_ref();
     let decision = s.map(|s| s.decision).unwrap_or(SignoffDecision::Pending);
     SignoffRecord {
@@ -111,18 +128,47 @@ fn signoff_record(deal: &Deal) -> SignoffRecord {
 
 /// Folder names of the versions in a deal's folder, as numbers, ascending.
 fn versions_in(deal_dir: &Path) -> std::io::Result<Vec<(u32, String)>> {
-    let mut out = Vec::new();
-    for entry in std::fs::read_dir(deal_dir)? {
-        let entry = entry?;
-        let name = entry.file_name().to_string_lossy().to_string();
-        if !name.is_empty() && name.bytes().all(|b| b.is_ascii_digit()) {
-            if let Ok(n) = name.parse::<u32>() {
-                out.push((n, name));
-            }
+    super::chain::numbered_versions(deal_dir)
+}
+
+/// Refuses to file into a deal folder that holds a link or a special file (where a
+/// version, the lock or a filing folder should be), or that is not a real folder.
+fn refuse_unsafe_deal_dir(deal_dir: &Path) -> Result<(), Diagnostic> {
+    let refuse = |what: String| {
+        Err(archive_error(
+            format!("{what}; an archive holds no links or special files, so nothing was filed"),
+            deal_dir,
+        )
+        .with_hint("run `candor verify` on the archive, and put the real folders back"))
+    };
+    match EntryKind::at(deal_dir) {
+        Ok(EntryKind::Folder) => {}
+        Ok(kind) => return refuse(format!("the deal's folder is {}", kind.words())),
+        Err(_) => return Ok(()),
+    }
+    let entries = strict::entries(deal_dir).map_err(|e| {
+        archive_error(
+            format!("cannot list the deal's folder: {}", io_words(&e)),
+            deal_dir,
+        )
+    })?;
+    for (name, kind) in entries {
+        if !matches!(kind, EntryKind::Folder | EntryKind::File) {
+            return refuse(format!("`{name}` in the deal's folder is {}", kind.words()));
         }
     }
-    out.sort();
-    Ok(out)
+    Ok(())
+}
+
+/// The currency the version in `dir` was filed with: its manifest's, or for a manifest
+/// of format 1 its analysis file's.
+fn filed_currency(dir: &Path, manifest: &Manifest) -> Option<String> {
+    if let Some(c) = &manifest.currency {
+        return Some(c.clone());
+    }
+    let bytes = strict::read_inside(dir, ANALYSIS, crate::limits::MAX_FILED_BYTES).ok()?;
+    let (_, _, body) = super::verify::split_analysis(&bytes).ok()?;
+    body.get("currency")?.as_str().map(str::to_string)
 }
 
 fn write_file(path: &Path, bytes: &[u8], sink: &mut dyn Sink) -> std::io::Result<()> {
@@ -184,10 +230,11 @@ pub fn file_with(
     filing: &Filing<'_>,
     sink: &mut dyn Sink,
 ) -> Result<(Filed, Vec<String>), Diagnostic> {
-    let slug = slug(&filing.deal.name);
+    let slug = folder_name(filing.deal_file_name, filing.deal.id.as_deref());
     let files = version_files(filing, &slug)?;
     let deal_dir = archive.join(&slug);
-    let first = !deal_dir.exists();
+    refuse_unsafe_deal_dir(&deal_dir)?;
+    let first = EntryKind::at(&deal_dir).is_err();
     std::fs::create_dir_all(&deal_dir).map_err(|e| {
         archive_error(
             format!("cannot create the archive folder: {}", io_words(&e)),
@@ -218,6 +265,7 @@ fn file_under_lock(
     // Held until dropped: one filer at a time chooses a number and renames.
     let lock = ArchiveLock::acquire(&lock_path, &mut notes)?;
     sweep_unfinished(deal_dir, &mut notes);
+    refuse_unsafe_deal_dir(deal_dir)?;
 
     let versions = versions_in(deal_dir).map_err(|e| {
         archive_error(
@@ -227,18 +275,27 @@ fn file_under_lock(
     })?;
     let mut entries: Vec<FileEntry> = file_entries(&files);
     entries.sort_by(|a, b| a.path.cmp(&b.path));
+    let mut previous_manifest = None;
+    let mut renamed_from = None;
     let next = match versions.last() {
         Some((n, name)) => {
             let latest_dir = deal_dir.join(name);
-            let latest = read_manifest(&latest_dir).map_err(|why| {
-                archive_error(
-                    format!(
-                        "the latest version cannot be read ({why}); nothing was filed. \
+            let latest_bytes = read_manifest_bytes(&latest_dir);
+            let latest = latest_bytes
+                .clone()
+                .and_then(|b| {
+                    serde_json::from_slice::<Manifest>(&b)
+                        .map_err(|e| format!("{MANIFEST} is not a valid manifest: {e}"))
+                })
+                .map_err(|why| {
+                    archive_error(
+                        format!(
+                            "the latest version cannot be read ({why}); nothing was filed. \
                          Run `candor verify` on the archive"
-                    ),
-                    &latest_dir,
-                )
-            })?;
+                        ),
+                        &latest_dir,
+                    )
+                })?;
             if latest.input_key() == input_key(&entries) {
                 return Ok((
                     Filed::Unchanged {
@@ -248,6 +305,28 @@ fn file_under_lock(
                     notes,
                 ));
             }
+            let currency = filed_currency(&latest_dir, &latest);
+            if latest.deal != filing.deal.name
+                || currency
+                    .as_deref()
+                    .is_some_and(|c| c != filing.deal.currency)
+            {
+                if !filing.rename {
+                    return Ok((
+                        Filed::RenameRefused {
+                            latest: name.clone(),
+                            deal: latest.deal,
+                            currency,
+                        },
+                        notes,
+                    ));
+                }
+                renamed_from = Some(Renamed {
+                    deal: latest.deal.clone(),
+                    currency,
+                });
+            }
+            previous_manifest = latest_bytes.ok().map(|b| sha256_hex(&b));
             if filing.previous != Some(name.as_str()) {
                 return Ok((
                     Filed::Overtaken {
@@ -279,14 +358,17 @@ fn file_under_lock(
     let manifest = Manifest {
         format: MANIFEST_FORMAT,
         deal: filing.deal.name.clone(),
+        currency: Some(filing.deal.currency.clone()),
         slug: slug.to_string(),
         version: version.clone(),
-        candor_version: env!("CARGO_PKG_VERSION").to_string(),
+        previous_manifest,
+        candor_version: crate::release::version(),
         filed_at: filing.filed_at.format("%Y-%m-%dT%H:%M:%SZ").to_string(),
         memo_created: filing.memo_created.format("%Y-%m-%dT%H:%M:%S").to_string(),
         deal_file,
         memo: format!("{slug}.pdf"),
         signoff: signoff_record(filing.deal),
+        renamed_from,
         files: entries,
     };
     let mut manifest_bytes = serde_json::to_vec_pretty(&manifest)
@@ -385,8 +467,11 @@ pub fn predecessor(
     archive: &Path,
     filing: &Filing<'_>,
 ) -> Result<Option<(String, PathBuf)>, Diagnostic> {
-    let deal_dir = archive.join(slug(&filing.deal.name));
-    if !deal_dir.is_dir() {
+    let deal_dir = archive.join(folder_name(
+        filing.deal_file_name,
+        filing.deal.id.as_deref(),
+    ));
+    if EntryKind::at(&deal_dir).ok() != Some(EntryKind::Folder) {
         return Ok(None);
     }
     let versions = versions_in(&deal_dir).map_err(|e| {
@@ -426,9 +511,9 @@ pub fn version_before(dir: &Path) -> Option<(String, PathBuf)> {
 /// The "changes since version N" section of a memo: the filed deal of version
 /// `version` (in `dir`) compared with `deal` and its analysis by [`crate::diff::diff`].
 pub fn changes_since(version: &str, dir: &Path, deal: &Deal, analysis: &Analysis) -> ChangesSince {
-    let old = read_manifest(dir)
+    let old = filed_deal_file(dir)
         .ok()
-        .and_then(|m| load_deal(&dir.join(&m.deal_file)).ok());
+        .and_then(|file| load_deal(&file).ok());
     let lines = match old {
         // The earlier deal is analysed again rather than read from its analysis.json:
         // filing and verifying then take the same path, and `verify` has checked that
@@ -467,13 +552,16 @@ pub struct FiledMemo {
 }
 
 /// Files a memo in `dir`. `make_pdf` makes the memo given its "changes since" section;
-/// it is called again when another filing takes the next number first.
+/// it is called again when another filing takes the next number first. `rename`
+/// allows filing under a name or currency other than the deal folder's latest version's,
+/// recorded in the manifest as a rename.
 pub fn file_memo(
     dir: &Path,
     loaded: &LoadedDeal,
     analysis: &Analysis,
     inputs: &MemoInputs<'_>,
     make_pdf: &dyn Fn(Option<ChangesSince>) -> Result<Vec<u8>, Failure>,
+    rename: bool,
 ) -> Result<FiledMemo, Failure> {
     let epoch = std::env::var("SOURCE_DATE_EPOCH").ok();
     let filed_at = filing_time(epoch.as_deref()).map_err(Failure::invalid)?;
@@ -489,6 +577,7 @@ pub fn file_memo(
         memo_created: inputs.created,
         filed_at,
         previous: None,
+        rename,
     };
     let mut latest = String::new();
     let mut notes = Vec::new();
@@ -507,6 +596,39 @@ pub fn file_memo(
         notes.extend(more);
         match filed {
             Filed::Overtaken { latest: now } => latest = now,
+            Filed::RenameRefused {
+                latest: version,
+                deal,
+                currency,
+            } => {
+                let was = match &currency {
+                    Some(c) if *c != loaded.deal.currency => {
+                        format!("`{deal}` in {c}")
+                    }
+                    _ => format!("`{deal}`"),
+                };
+                let now = match &currency {
+                    Some(c) if *c != loaded.deal.currency => {
+                        format!("`{}` in {}", loaded.deal.name, loaded.deal.currency)
+                    }
+                    _ => format!("`{}`", loaded.deal.name),
+                };
+                return Err(Failure::invalid(
+                    Diagnostic::error(
+                        "archive",
+                        format!(
+                            "the deal's folder holds {was} (version {version}), and this deal \
+                             file names {now}; nothing was filed"
+                        ),
+                    )
+                    .in_file(loaded.path.display().to_string())
+                    .with_hint(
+                        "if this is the same deal renamed, file it with `--rename`, which \
+                         records the rename; if it is another deal, give its file another \
+                         name or a `deal.id` of its own",
+                    ),
+                ));
+            }
             outcome => {
                 return Ok(FiledMemo {
                     pdf,

@@ -13,6 +13,13 @@
 //! | `analysis.json` | the analysis as the JSON contract of `rates --json` states it |
 //! | `manifest.json` | every file above with its SHA-256, versions, times, sign-off |
 //! | `manifest.sha256` | the SHA-256 of `manifest.json` (`sha256sum` format) |
+//! | `manifest.json.sig` | added by `candor sign`: the reviewer's SSH signature of `manifest.json` |
+//!
+//! Each manifest records the SHA-256 of the previous version's manifest, so the
+//! versions of a deal form a chain whose head (the latest manifest's hash) a firm can
+//! record elsewhere. A deal's folder is named after the deal file (or its `deal.id`),
+//! not after the deal's name, so a renamed deal stays in its folder and two deals never
+//! share one.
 //!
 //! A version is built in a hidden temporary folder beside the versions and renamed into
 //! place while an exclusive lock on `DIR/<deal-slug>/.lock` is held, so a failed run
@@ -21,19 +28,34 @@
 //! the next filing of the deal removes them (the lock only once its process has ended)
 //! and says so.
 
+mod chain;
+mod figures;
 mod filing;
+mod listing;
 mod lock;
+mod naming;
+mod signing;
 mod verify;
 
+pub use chain::ChainHead;
+pub use figures::{compare_figures, FigureComparison};
 pub use filing::{
     changes_since, file, file_memo, file_with, predecessor, prepare_archive, version_before,
     FiledMemo,
 };
-pub use verify::{compare_analysis, verify, verify_version, VerifyReport};
+pub use listing::{list, ListedDeal, ListedVersion, Listing};
+pub use naming::{folder_name, folder_slug};
+pub use signing::{
+    read_allowed_signers, sign_version, AllowedSigner, AllowedSigners, SignatureState, NAMESPACE,
+};
+pub use verify::{
+    compare_analysis, signoff_words, verify, verify_version, VerifyOptions, VerifyReport,
+    VersionState,
+};
 
 use crate::diag::Diagnostic;
 use crate::engine::Analysis;
-use crate::files::output;
+use crate::files::{output, strict};
 use crate::model::{Deal, SignoffDecision};
 use crate::report::ChangesSince;
 use chrono::NaiveDateTime;
@@ -46,6 +68,8 @@ use std::path::{Component, Path, PathBuf};
 pub const MANIFEST: &str = "manifest.json";
 /// File name of the manifest's own hash.
 pub const MANIFEST_HASH: &str = "manifest.sha256";
+/// File name of a version's SSH signature of its manifest, added by `candor sign`.
+pub const SIGNATURE: &str = "manifest.json.sig";
 /// File name of the filed analysis.
 pub const ANALYSIS: &str = "analysis.json";
 /// Folder of the filed input files inside a version.
@@ -55,7 +79,12 @@ pub const TEMPLATES: &str = "templates";
 /// The lock file in a deal's folder.
 pub const LOCK: &str = ".lock";
 /// Version of the manifest's layout.
-pub const MANIFEST_FORMAT: u32 = 1;
+/// Format 2 added `currency`, `previous_manifest` and `renamed_from`.
+pub const MANIFEST_FORMAT: u32 = 2;
+/// Version of the filed analysis file's layout: the JSON contract of `rates --json`
+/// with `analysis_format` and `candor_version` in front. A file without the key is
+/// of the same layout, filed before the key was added.
+pub const ANALYSIS_FORMAT: u64 = 1;
 /// At most this many differing figures are listed per version; the rest are counted.
 pub const MAX_FIGURES_SHOWN: usize = 20;
 
@@ -117,10 +146,17 @@ pub struct Manifest {
     pub format: u32,
     /// The deal's name.
     pub deal: String,
+    /// The deal's currency (absent in format 1).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub currency: Option<String>,
     /// The deal's folder name in the archive.
     pub slug: String,
     /// This version's folder name (`001`, ...).
     pub version: String,
+    /// The SHA-256 of the previous version's `manifest.json`; null for a deal's first
+    /// version (absent in format 1, before versions were chained).
+    #[serde(default)]
+    pub previous_manifest: Option<String>,
     /// The candor version that filed it.
     pub candor_version: String,
     /// When it was filed, UTC, RFC 3339.
@@ -133,6 +169,10 @@ pub struct Manifest {
     pub memo: String,
     /// The sign-off state.
     pub signoff: SignoffRecord,
+    /// The deal's name and currency in the previous version, when this filing renamed
+    /// the deal (`memo --archive --rename`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub renamed_from: Option<Renamed>,
     /// Every file of the version except the manifest and its hash, sorted by path.
     pub files: Vec<FileEntry>,
 }
@@ -153,6 +193,15 @@ fn input_key(files: &[FileEntry]) -> Vec<(String, Role, String)> {
         .collect();
     key.sort();
     key
+}
+
+/// A deal's name and currency before a rename.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Renamed {
+    /// The previous name.
+    pub deal: String,
+    /// The previous currency.
+    pub currency: Option<String>,
 }
 
 /// Everything a filing writes, already made by the earlier stages.
@@ -181,6 +230,9 @@ pub struct Filing<'a> {
     /// still the latest version, since `verify` rebuilds the section from the version
     /// just before the one filed.
     pub previous: Option<&'a str>,
+    /// True when the deal may be filed under a name or currency other than its folder's
+    /// latest version's (recorded as a rename).
+    pub rename: bool,
 }
 
 /// The outcome of a filing.
@@ -206,6 +258,16 @@ pub enum Filed {
     Overtaken {
         /// The latest version's folder name now.
         latest: String,
+    },
+    /// The deal's folder holds a deal of another name or currency, and the filing did
+    /// not say it renames that deal; nothing was filed.
+    RenameRefused {
+        /// The latest version's folder name.
+        latest: String,
+        /// The deal's name there.
+        deal: String,
+        /// Its currency there, where known.
+        currency: Option<String>,
     },
 }
 
@@ -256,9 +318,37 @@ fn io_words(e: &std::io::Error) -> String {
     }
 }
 
+/// Reads a version's manifest bytes: a regular file, at most
+/// [`MAX_MANIFEST_BYTES`](crate::limits::MAX_MANIFEST_BYTES).
+fn read_manifest_bytes(dir: &Path) -> Result<Vec<u8>, String> {
+    strict::read_inside(dir, MANIFEST, crate::limits::MAX_MANIFEST_BYTES)
+        .map_err(|e| format!("{MANIFEST} {}", e.words()))
+}
+
+/// The deal file of the filed version in `dir`, as its manifest names it: only a plain
+/// path inside the version that the manifest lists as the deal, every part of it a
+/// real folder or file (no link followed, no FIFO or device), so that nothing outside
+/// the version is ever read as its deal. The error is a sentence about the manifest.
+pub fn filed_deal_file(dir: &Path) -> Result<PathBuf, String> {
+    let manifest = read_manifest(dir)?;
+    let listed = manifest
+        .files
+        .iter()
+        .any(|f| f.path == manifest.deal_file && f.role == Role::Deal);
+    if !listed || plain_relative(&manifest.deal_file).as_deref() != Some(&manifest.deal_file) {
+        return Err(format!(
+            "{MANIFEST} names the deal file `{}`, which is not a file of the version listed as \
+             its deal",
+            manifest.deal_file
+        ));
+    }
+    strict::read_inside(dir, &manifest.deal_file, crate::limits::MAX_FILE_BYTES)
+        .map_err(|e| format!("{} {}", manifest.deal_file, e.words()))?;
+    Ok(dir.join(&manifest.deal_file))
+}
+
 /// Reads and parses a version's manifest.
 fn read_manifest(dir: &Path) -> Result<Manifest, String> {
-    let bytes =
-        std::fs::read(dir.join(MANIFEST)).map_err(|e| format!("{MANIFEST}: {}", io_words(&e)))?;
+    let bytes = read_manifest_bytes(dir)?;
     serde_json::from_slice(&bytes).map_err(|e| format!("{MANIFEST} is not a valid manifest: {e}"))
 }

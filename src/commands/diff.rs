@@ -2,7 +2,7 @@
 //! and print what changed ([`crate::diff`]).
 
 use super::{fail, EXIT_INTERNAL, EXIT_INVALID, EXIT_OK};
-use crate::archive::{Manifest, MANIFEST};
+use crate::archive;
 use crate::cli::DiffArgs;
 use crate::diag::{Diagnostic, Failure};
 use crate::files::load::{load_deal, LoadedDeal};
@@ -14,18 +14,13 @@ fn deal_file(path: &Path) -> Result<PathBuf, Diagnostic> {
     if !path.is_dir() {
         return Ok(path.to_path_buf());
     }
-    let shown = path.join(MANIFEST).display().to_string();
-    let bytes = std::fs::read(path.join(MANIFEST)).map_err(|e| {
+    archive::filed_deal_file(path).map_err(|why| {
         Diagnostic::error(
             "archive",
-            format!("a folder must be a filed version, but its manifest cannot be read: {e}"),
+            format!("a folder must be a filed version, but {why}"),
         )
-        .in_file(shown.clone())
-    })?;
-    let manifest: Manifest = serde_json::from_slice(&bytes).map_err(|e| {
-        Diagnostic::error("archive", format!("not a valid manifest: {e}")).in_file(shown)
-    })?;
-    Ok(path.join(manifest.deal_file))
+        .in_file(path.join(archive::MANIFEST).display().to_string())
+    })
 }
 
 fn load(path: &Path) -> Result<LoadedDeal, ()> {

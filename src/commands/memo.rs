@@ -94,6 +94,7 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
     let inputs = MemoInputs {
         source: &loaded.source,
         source_name: &source_name,
+        companions: &loaded.companions,
         templates: style.templates,
         fonts: style.fonts,
         created,
@@ -133,7 +134,8 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
     // `--output` asks for a copy.
     let pdf = match &args.archive {
         Some(dir) => {
-            let filed = archive::file_memo(dir, &loaded, &analysis, &inputs, &make_pdf)?;
+            let filed =
+                archive::file_memo(dir, &loaded, &analysis, &inputs, &make_pdf, args.rename)?;
             for note in &filed.notes {
                 eprintln!("note: {note}");
             }
@@ -149,7 +151,7 @@ fn make(args: &MemoArgs) -> Result<(), Failure> {
                     );
                     println!("{}", path.display());
                 }
-                Filed::Overtaken { .. } => {}
+                Filed::Overtaken { .. } | Filed::RenameRefused { .. } => {}
             }
             if args.output.is_none() {
                 return Ok(());

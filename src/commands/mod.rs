@@ -6,11 +6,13 @@
 pub mod check;
 pub mod completions;
 pub mod diff;
+pub mod ledger;
 pub mod memo;
 pub mod new;
 pub mod pack;
 pub mod rates;
 pub mod schema;
+pub mod sign;
 pub mod verify;
 pub mod watch;
 

@@ -89,6 +89,7 @@ pub fn run(args: &MemoArgs) -> u8 {
         emit: args.emit.clone(),
         archive: None,
         watch: false,
+        rename: false,
     };
     let build = || {
         let code = super::memo::run(&once);

@@ -31,6 +31,8 @@ pub struct Deal {
     pub basis: Option<Basis>,
     /// Deal name.
     pub name: String,
+    /// The deal's stable name for its archive folder (`deal.id`), when given.
+    pub id: Option<String>,
     /// ISO 4217 code.
     pub currency: String,
     /// As-of date.

@@ -32,7 +32,7 @@ const TOP: &[&str] = &[
     "memo",
     "signoff",
 ];
-const DEAL: &[&str] = &["name", "currency", "as_of"];
+const DEAL: &[&str] = &["name", "currency", "as_of", "id"];
 const CASH_FLOWS: &[&str] = &["every", "start", "amounts", "day_count", "dated", "csv"];
 const DATED: &[&str] = &["date", "amount", "note"];
 const SCENARIO: &[&str] = &[
@@ -1365,7 +1365,10 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     let top = ctx.fields(root, "", TOP)?;
     ctx.required(&top, "", "candor", "1");
 
-    let header = deal_header(ctx, &top, DEAL).and_then(|(h, _)| h);
+    let (header, id) = match deal_header(ctx, &top, DEAL) {
+        Some((h, f)) => (h, f.get("id").and_then(|n| deal_id(ctx, n))),
+        None => (None, None),
+    };
     let rates = stated_rates(ctx, &top, "");
 
     let flows_node = ctx.required(
@@ -1425,6 +1428,7 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
         units: super::Units::Ones,
         basis: None,
         name,
+        id,
         currency,
         as_of,
         rates,
@@ -1657,6 +1661,30 @@ impl Validator<'_, '_> {
         );
         false
     }
+}
+
+/// Longest `deal.id`, in characters.
+const MAX_ID_CHARS: usize = 64;
+
+/// `deal.id`: the deal's stable name for its archive folder: letters (of any script)
+/// and digits, with `-`, `_` or `.` between them, at most 64 characters.
+fn deal_id(ctx: &mut Validator<'_, '_>, node: &Node) -> Option<String> {
+    let text = ctx.text(node, "deal.id", Text::Line(MAX_ID_CHARS))?;
+    let id = text.trim();
+    let plain = |c: char| c.is_alphanumeric() || matches!(c, '-' | '_' | '.');
+    let ends = id.chars().next().is_some_and(char::is_alphanumeric)
+        && id.chars().last().is_some_and(char::is_alphanumeric);
+    if ends && id.chars().all(plain) {
+        return Some(id.to_string());
+    }
+    ctx.hint(
+        "bad-id",
+        format!("`deal.id` `{id}` is not a plain name"),
+        "deal.id",
+        node.position,
+        "use letters (of any script) and digits, with `-`, `_` or `.` between them, such as `north-quay-2027`",
+    );
+    None
 }
 
 fn memo(ctx: &mut Validator<'_, '_>, node: &Node) -> Option<Memo> {

@@ -65,6 +65,12 @@ pub fn caution_text(c: &Caution, f: &CautionFigures, currency: &str) -> CautionT
         } => terminal_spread(&w, label, (*discount, *growth), *value),
         Caution::RealAmountsNominalRates => real_amounts_nominal_rates(&w),
     };
+    // A later release words its paragraphs differently (see `crate::release`).
+    let text = if crate::release::simulating_next_release() {
+        format!("In other words: {text}")
+    } else {
+        text
+    };
     CautionText {
         code: c.code(),
         title,

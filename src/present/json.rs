@@ -21,6 +21,13 @@ pub fn analysis(a: &Analysis) -> Result<Value, serde_json::Error> {
             irr["method"] = Value::String(certificate::sentence(&s.irr.certificate));
         }
         json["cautions"] = serde_json::to_value(caution_text_list(s, &a.currency))?;
+        // A later release prints the multiple with other decimals (see `crate::release`).
+        if crate::release::simulating_next_release() {
+            if let Some(mut m) = s.money_multiple {
+                m.rescale(m.scale() + 2);
+                json["money_multiple"] = Value::String(m.to_string());
+            }
+        }
     }
     Ok(value)
 }

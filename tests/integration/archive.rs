@@ -7,14 +7,16 @@
 
 use crate::support::pdf::Pdf;
 use crate::support::{
-    candor, command, command_as_nobody, examples, is_root, names, root, s, setpriv_available, text,
+    candor, command, command_as_nobody, examples, is_root, last_line, names, root, s,
+    setpriv_available, text,
 };
 use candor::memo::sha256_hex;
 use serde_json::Value;
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-const DEPOT_SLUG: &str = "tollgate-road-bus-depot";
+/// The depot deal's folder in an archive: named after its deal file.
+const DEPOT_SLUG: &str = "tollgate-depot";
 
 /// A folder with the CSV depot deal (deal file and its CSV), as a user would have it.
 fn depot_folder() -> (tempfile::TempDir, PathBuf) {
@@ -104,7 +106,7 @@ fn filing_creates_version_001_with_exact_inputs_and_hashes() {
             "analysis.json",
             "inputs/tollgate-depot-flows.csv",
             "inputs/tollgate-depot.yaml",
-            "tollgate-road-bus-depot.pdf",
+            "tollgate-depot.pdf",
         ]
     );
     for f in files {
@@ -122,11 +124,20 @@ fn filing_creates_version_001_with_exact_inputs_and_hashes() {
         .status()
         .expect("sha256sum runs");
     assert!(check.success());
-    // The filed analysis is the JSON contract `candor rates --json` prints.
+    // The filed analysis is its format and candor's version, then the JSON contract
+    // `candor rates --json` prints.
     let rates = candor(&["rates", "--json", s(&deal)]);
     let rates: Value = serde_json::from_slice(&rates.stdout).expect("rates JSON");
-    let filed: Value =
+    let mut filed: Value =
         serde_json::from_slice(&std::fs::read(v1.join("analysis.json")).unwrap()).unwrap();
+    let header = filed.as_object_mut().expect("an object");
+    let keys: Vec<&String> = header.keys().take(2).collect();
+    assert_eq!(keys, ["analysis_format", "candor_version"]);
+    assert_eq!(header.shift_remove("analysis_format"), Some(Value::from(1)));
+    assert_eq!(
+        header.shift_remove("candor_version"),
+        Some(Value::from(env!("CARGO_PKG_VERSION")))
+    );
     assert_eq!(filed, rates);
     // Nothing but the versions is left: no temporary folder, no lock.
     assert_eq!(versions(&archive.join(DEPOT_SLUG)), vec!["001"]);
@@ -155,12 +166,12 @@ fn refiling_unchanged_inputs_files_nothing_and_a_change_files_002() {
 
     let ok = candor(&["verify", s(&archive)]);
     assert_eq!(ok.status.code(), Some(0), "{}", text(&ok.stdout));
-    assert_eq!(text(&ok.stdout), "ok: 2 versions verified\n");
+    assert_eq!(last_line(&ok.stdout), "ok: 2 versions verified");
     // A deal's folder and a single version verify too.
     let ok = candor(&["verify", s(&archive.join(DEPOT_SLUG))]);
-    assert_eq!(text(&ok.stdout), "ok: 2 versions verified\n");
+    assert_eq!(last_line(&ok.stdout), "ok: 2 versions verified");
     let ok = candor(&["verify", s(&v2)]);
-    assert_eq!(text(&ok.stdout), "ok: 1 version verified\n");
+    assert_eq!(last_line(&ok.stdout), "ok: 1 version verified");
 }
 
 #[test]
@@ -176,7 +187,7 @@ fn approved_signoff_is_recorded_in_the_manifest() {
     let archive = dir.path().join("archive");
     let out = file_memo(&deal, &archive);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
-    let m = manifest(&archive.join("corrie-vale-quarry").join("001"));
+    let m = manifest(&archive.join("quarry").join("001"));
     assert_eq!(
         m["signoff"],
         serde_json::json!({
@@ -197,7 +208,17 @@ fn verify_after(damage: impl Fn(&Path)) -> (Option<i32>, String, PathBuf, tempfi
     let v1 = archive.join(DEPOT_SLUG).join("001");
     damage(&v1);
     let out = candor(&["verify", s(&archive)]);
-    (out.status.code(), text(&out.stdout), v1, dir)
+    (out.status.code(), problems(&out.stdout), v1, dir)
+}
+
+/// The lines of `verify`'s output that report problems: without the sign-off of each
+/// version and the head of each deal's chain.
+fn problems(stdout: &[u8]) -> String {
+    text(stdout)
+        .lines()
+        .filter(|l| !l.starts_with("sign-off of ") && !l.starts_with("head of "))
+        .map(|l| format!("{l}\n"))
+        .collect()
 }
 
 fn writable(path: &Path) {
@@ -356,7 +377,7 @@ fn concurrent_filings_take_distinct_versions() {
     assert_eq!(printed, expected);
     assert_eq!(versions(&deal_dir), vec!["001", "002", "003", "004"]);
     let ok = candor(&["verify", s(&archive)]);
-    assert_eq!(text(&ok.stdout), "ok: 4 versions verified\n");
+    assert_eq!(last_line(&ok.stdout), "ok: 4 versions verified");
     // Each version holds one of the four hurdles, each once.
     let mut filed: Vec<String> = (1..=4)
         .map(|n| {
@@ -481,7 +502,7 @@ fn diff_names_the_flow_the_hurdle_and_the_lost_roots() {
     let archive = dir.path().join("archive");
     assert_eq!(file_memo(&old, &archive).status.code(), Some(0));
     assert_eq!(file_memo(&new, &archive).status.code(), Some(0));
-    let deal_dir = archive.join("corrie-vale-quarry");
+    let deal_dir = archive.join("quarry");
     let filed = candor(&["diff", s(&deal_dir.join("001")), s(&deal_dir.join("002"))]);
     assert_eq!(text(&filed.stdout), report);
 }
@@ -521,13 +542,13 @@ fn a_house_style_is_filed_and_the_pdf_rebuilt_with_it() {
         s(&archive),
     ]);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
-    let v1 = archive.join("corrie-vale-quarry").join("001");
+    let v1 = archive.join("quarry").join("001");
     assert_eq!(
         std::fs::read(v1.join("templates/style.typ.j2")).unwrap(),
         std::fs::read(house.join("style.typ.j2")).unwrap()
     );
     let ok = candor(&["verify", s(&v1)]);
-    assert_eq!(text(&ok.stdout), "ok: 1 version verified\n");
+    assert_eq!(last_line(&ok.stdout), "ok: 1 version verified");
     // The built-in style is a different input: a new version, not "unchanged".
     let plain = file_memo(&deal, &archive);
     assert!(text(&plain.stdout).trim().ends_with("002"));
@@ -552,9 +573,9 @@ fn a_new_version_memo_names_the_changes_since_the_previous() {
     assert_eq!(first.status.code(), Some(0), "{}", text(&first.stderr));
     let second = file_memo(&new, &archive);
     assert_eq!(second.status.code(), Some(0), "{}", text(&second.stderr));
-    let deal_dir = archive.join("corrie-vale-quarry");
-    let v1 = pdf_words(&deal_dir.join("001").join("corrie-vale-quarry.pdf"));
-    let v2 = pdf_words(&deal_dir.join("002").join("corrie-vale-quarry.pdf"));
+    let deal_dir = archive.join("quarry");
+    let v1 = pdf_words(&deal_dir.join("001").join("quarry.pdf"));
+    let v2 = pdf_words(&deal_dir.join("002").join("quarry.pdf"));
 
     assert!(!v1.contains("Changes since version"), "{v1}");
     for phrase in [
@@ -583,14 +604,14 @@ fn a_new_version_memo_names_the_changes_since_the_previous() {
 
     let ok = candor(&["verify", s(&archive)]);
     assert_eq!(
-        text(&ok.stdout),
-        "ok: 2 versions verified\n",
+        last_line(&ok.stdout),
+        "ok: 2 versions verified",
         "{}",
         text(&ok.stderr)
     );
     // Verifying the second version alone still finds the first to compare with.
     let ok = candor(&["verify", s(&deal_dir.join("002"))]);
-    assert_eq!(text(&ok.stdout), "ok: 1 version verified\n");
+    assert_eq!(last_line(&ok.stdout), "ok: 1 version verified");
 
     // Refiling the new inputs files nothing, and a copy asked for with `--output`
     // equals the filed memo, section included.
@@ -607,6 +628,6 @@ fn a_new_version_memo_names_the_changes_since_the_previous() {
     assert!(text(&again.stderr).contains("unchanged: version 002"));
     assert_eq!(
         std::fs::read(&copy).unwrap(),
-        std::fs::read(deal_dir.join("002").join("corrie-vale-quarry.pdf")).unwrap()
+        std::fs::read(deal_dir.join("002").join("quarry.pdf")).unwrap()
     );
 }

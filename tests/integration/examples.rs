@@ -72,7 +72,7 @@ fn the_quarry_example_has_two_sign_changes() {
 /// the modules of its own layer and of the layers below, never one above. The command
 /// layer (`cli`, `commands`, `main`) may use everything; nothing else may name it.
 const LAYERS: &[&[&str]] = &[
-    &["diag", "limits"],
+    &["diag", "limits", "release"],
     &["input"],
     &["model"],
     &["engine", "screen"],

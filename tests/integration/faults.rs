@@ -12,7 +12,7 @@
 //! cannot be caught), not from candor's own output.
 
 use crate::support::{
-    candor, command, command_as_nobody, is_root, names, s, setpriv_available, text,
+    candor, command, command_as_nobody, is_root, last_line, names, s, setpriv_available, text,
 };
 use candor::archive::{self, Filing};
 use candor::files::load::load_deal;
@@ -24,7 +24,8 @@ use std::path::{Path, PathBuf};
 use std::process::{Child, Command, Stdio};
 use std::time::{Duration, Instant};
 
-const SLUG: &str = "ferrow-quay-warehouse";
+/// The deal's folder in an archive: named after its deal file, `ferrow.yaml`.
+const SLUG: &str = "ferrow";
 
 /// A deal of our own invention, small so that each memo is quick to make.
 const DEAL: &str = "\
@@ -145,8 +146,8 @@ fn verify_ok(archive: &Path, versions: usize) {
     let v = candor(&["verify", s(archive)]);
     let plural = if versions == 1 { "" } else { "s" };
     assert_eq!(
-        text(&v.stdout),
-        format!("ok: {versions} version{plural} verified\n"),
+        last_line(&v.stdout),
+        format!("ok: {versions} version{plural} verified"),
         "{}",
         text(&v.stderr)
     );
@@ -433,6 +434,7 @@ impl FilingInputs {
             memo_created: self.created,
             filed_at: self.created,
             previous,
+            rename: false,
         }
     }
 }

@@ -247,7 +247,7 @@ fn watch_and_archive_take_the_csv_files_of_lines() {
         archive.to_str().unwrap(),
     ]);
     assert_eq!(out.status.code(), Some(0), "{}", text_of(&out.stderr));
-    let version = archive.join("marlow-fen-solar-farm").join("001");
+    let version = archive.join("marlow-fen-solar").join("001");
     let manifest: Value =
         serde_json::from_slice(&std::fs::read(version.join("manifest.json")).unwrap()).unwrap();
     let paths: Vec<&str> = manifest["files"]
@@ -260,9 +260,6 @@ fn watch_and_archive_take_the_csv_files_of_lines() {
         paths.contains(&"inputs/marlow-fen-solar-costs.csv"),
         "{paths:?}"
     );
-    let out = candor(&[
-        "verify",
-        archive.join("marlow-fen-solar-farm").to_str().unwrap(),
-    ]);
+    let out = candor(&["verify", archive.join("marlow-fen-solar").to_str().unwrap()]);
     assert_eq!(out.status.code(), Some(0), "{}", text_of(&out.stderr));
 }

@@ -23,4 +23,6 @@ mod poppler;
 mod rates;
 mod roots;
 mod schema;
+mod sshsig;
+mod trust;
 mod watch;

@@ -165,6 +165,7 @@ fn sample(name: &str, decision: SignoffDecision) -> (Analysis, Deal) {
         units: Units::Ones,
         basis: None,
         name: name.to_string(),
+        id: None,
         currency: "EUR".to_string(),
         as_of: NaiveDate::from_ymd_opt(2026, 11, 30).expect("date"),
         rates: Rates {
@@ -227,6 +228,7 @@ fn memo_of(analysis: &Analysis, deal: &Deal) -> MemoOutput {
         MemoInputs {
             source: SOURCE,
             source_name: "pump.yaml",
+            companions: &[],
             templates: BTreeMap::new(),
             fonts: Default::default(),
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
@@ -523,6 +525,7 @@ fn example_memo(path: &Path, base_only: bool) -> (Analysis, MemoOutput) {
         MemoInputs {
             source: &loaded.source,
             source_name: &name,
+            companions: &loaded.companions,
             templates: BTreeMap::new(),
             fonts: Default::default(),
             created: loaded.deal.as_of.and_hms_opt(0, 0, 0).expect("time"),
@@ -657,10 +660,20 @@ fn every_example_deal_builds_a_memo() {
             .find(|(n, _)| *n == name)
             .map_or(page_limit(analysis.scenarios.len()), |(_, p)| *p);
         assert!(pages <= limit, "{name}: {pages} pages, at most {limit}");
+        // The deal file and every CSV file it reads are attached, byte for byte.
         let attached = pdf.attachments();
-        assert_eq!(attached.len(), 1, "{name}");
-        assert_eq!(attached[0].0, name);
-        assert_eq!(attached[0].1, loaded.source, "{name}");
+        assert_eq!(attached.len(), 1 + loaded.companions.len(), "{name}");
+        let bytes_of = |n: &str| {
+            attached
+                .iter()
+                .find(|(a, _)| a == n)
+                .map(|(_, b)| b.clone())
+                .unwrap_or_else(|| panic!("{name}: no attachment {n}"))
+        };
+        assert_eq!(bytes_of(&name), loaded.source, "{name}");
+        for (csv, bytes) in &loaded.companions {
+            assert_eq!(&bytes_of(csv), bytes, "{name}: {csv}");
+        }
         pdf.check_structure();
     }
 }
@@ -682,6 +695,7 @@ fn changes_since_a_version_print_literally() {
         MemoInputs {
             source: SOURCE,
             source_name: "pump.yaml",
+            companions: &[],
             templates: BTreeMap::new(),
             fonts: Default::default(),
             created: deal.as_of.and_hms_opt(0, 0, 0).expect("time"),

@@ -90,9 +90,13 @@ fn three_deals_make_one_pack() {
         assert!(run.status.success());
         assert!(pack_pages > pages(&memo), "{f}");
     }
-    // Every deal file is attached, byte for byte.
+    // Every deal file and every CSV file a deal reads is attached, byte for byte.
     let attached = Pdf::open(&out).attachments();
-    for (f, _) in DEALS {
+    for f in DEALS
+        .iter()
+        .map(|(f, _)| *f)
+        .chain(["tollgate-depot-flows.csv"])
+    {
         let bytes = std::fs::read(example(f)).expect("example");
         assert!(
             attached.iter().any(|(name, b)| name == f && *b == bytes),
@@ -100,6 +104,7 @@ fn three_deals_make_one_pack() {
             attached.iter().map(|a| &a.0).collect::<Vec<_>>()
         );
     }
+    assert_eq!(attached.len(), DEALS.len() + 1);
 }
 
 fn broken_copy(dir: &Path) -> PathBuf {

@@ -188,6 +188,7 @@ fn markup_of(analysis: &Analysis, deal: &Deal, source: &[u8]) -> String {
     let ctx = MemoContext {
         source_name: "generated.yaml".to_string(),
         source_sha256: sha256_hex(source),
+        companions: Vec::new(),
         created: chrono::NaiveDate::from_ymd_opt(2027, 1, 1)
             .and_then(|d| d.and_hms_opt(0, 0, 0))
             .expect("time"),
@@ -245,6 +246,7 @@ proptest! {
         let inputs = MemoInputs {
             source: g.yaml.as_bytes(),
             source_name: "generated.yaml",
+            companions: &[],
             templates: BTreeMap::new(),
             fonts: Default::default(),
             created: chrono::NaiveDate::from_ymd_opt(2027, 1, 1)

@@ -107,7 +107,9 @@ fn example_memos_and_a_pack_pass_poppler_and_qpdf() {
         let out = dir.path().join("memo.pdf");
         let run = candor(&["memo", s(deal), "-o", s(&out)]);
         assert_eq!(run.status.code(), Some(0), "{}", text(&run.stderr));
-        cross_check(&out, std::slice::from_ref(deal));
+        // The deal file and every CSV file it reads are attached.
+        let loaded = candor::files::load::load_deal(deal).expect("a valid example");
+        cross_check(&out, &loaded.files());
     }
     let pack = dir.path().join("pack.pdf");
     let mut args = vec!["pack"];
@@ -115,5 +117,9 @@ fn example_memos_and_a_pack_pass_poppler_and_qpdf() {
     args.extend(["-o", s(&pack)]);
     let run = candor(&args);
     assert_eq!(run.status.code(), Some(0), "{}", text(&run.stderr));
-    cross_check(&pack, &deals);
+    let inputs: Vec<PathBuf> = deals
+        .iter()
+        .flat_map(|d| candor::files::load::load_deal(d).expect("valid").files())
+        .collect();
+    cross_check(&pack, &inputs);
 }

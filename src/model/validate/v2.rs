@@ -25,7 +25,7 @@ const TOP: &[&str] = &[
     // Not a field of version 2: read only to say so plainly (see `build`).
     "cash_flows",
 ];
-const DEAL: &[&str] = &["name", "currency", "as_of", "units", "basis"];
+const DEAL: &[&str] = &["name", "currency", "as_of", "id", "units", "basis"];
 const BASIS: &[&str] = &["prices", "tax", "rates"];
 const TIMING: &[&str] = &["every", "start", "day_count"];
 /// The fields of a line; the forms of its amounts are [`FORMS`].
@@ -137,6 +137,10 @@ pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
         Some((h, f)) => (h, Some(f)),
         None => (None, None),
     };
+    let id = deal_fields
+        .as_ref()
+        .and_then(|f| f.get("id"))
+        .and_then(|n| super::deal_id(ctx, n));
     let units = match deal_fields.as_ref().and_then(|f| f.get("units")) {
         Some(n) => ctx
             .choice(n, "deal.units", &Units::WORDS)
@@ -231,6 +235,7 @@ pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
         units: setting.units,
         basis: basis?,
         name,
+        id,
         currency,
         as_of,
         rates: rates?.resolved(),

@@ -86,6 +86,12 @@ pub fn text(bytes: &[u8]) -> String {
     String::from_utf8_lossy(bytes).into_owned()
 }
 
+/// The last line of a command's output, without its line break (`verify` ends with
+/// its verdict, after a line per version and per deal).
+pub fn last_line(bytes: &[u8]) -> String {
+    text(bytes).lines().last().unwrap_or("").to_string()
+}
+
 /// A path as the `&str` argument of a command (temporary folders are UTF-8).
 pub fn s(p: &Path) -> &str {
     p.to_str().expect("UTF-8 temp path")
