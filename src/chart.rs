@@ -141,12 +141,12 @@ impl ScenarioCharts {
 }
 
 /// The path of a scenario's tornado chart.
-pub fn tornado_file(index: usize) -> String {
+pub(crate) fn tornado_file(index: usize) -> String {
     format!("/charts/s{index}-tornado.svg")
 }
 
 /// The path of the count strip of a scenario's component `k` (its place in the count map).
-pub fn strip_file(index: usize, k: usize) -> String {
+pub(crate) fn strip_file(index: usize, k: usize) -> String {
     format!("/charts/s{index}-count-{k}.svg")
 }
 

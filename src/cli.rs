@@ -8,7 +8,7 @@ use std::process::ExitCode;
 /// Every real rate of return of a deal, certified, typeset into a committee memo.
 #[derive(Debug, Parser)]
 #[command(name = "candor", version, about, long_about = None, propagate_version = true)]
-pub struct Cli {
+pub(crate) struct Cli {
     /// What to do.
     #[command(subcommand)]
     pub command: Command,

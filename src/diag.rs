@@ -10,7 +10,7 @@ use std::fmt::Write as _;
 /// category Cc: line breaks, tabs, ESC, BEL, the C1 range) written as an escape
 /// such as `\n` or `\u{1b}`, so that a value can neither forge an output line nor
 /// send the terminal a command. Text without control characters is returned as it is.
-pub fn terminal_safe(text: &str) -> Cow<'_, str> {
+pub(crate) fn terminal_safe(text: &str) -> Cow<'_, str> {
     if !text.chars().any(char::is_control) {
         return Cow::Borrowed(text);
     }
@@ -112,22 +112,14 @@ impl Diagnostic {
         }
     }
 
-    /// A new warning with a code and a message.
-    pub fn warning(code: &str, message: impl Into<String>) -> Self {
-        Self {
-            severity: Severity::Warning,
-            ..Self::error(code, message)
-        }
-    }
-
     /// Names the file.
-    pub fn in_file(mut self, file: impl Into<String>) -> Self {
+    pub(crate) fn in_file(mut self, file: impl Into<String>) -> Self {
         self.file = Some(file.into());
         self
     }
 
     /// Names the field path.
-    pub fn at_field(mut self, field: impl Into<String>) -> Self {
+    pub(crate) fn at_field(mut self, field: impl Into<String>) -> Self {
         self.field = Some(field.into());
         self
     }
@@ -139,7 +131,7 @@ impl Diagnostic {
     }
 
     /// Adds a hint.
-    pub fn with_hint(mut self, hint: impl Into<String>) -> Self {
+    pub(crate) fn with_hint(mut self, hint: impl Into<String>) -> Self {
         self.hint = Some(hint.into());
         self
     }
@@ -248,13 +240,8 @@ impl std::fmt::Display for Diagnostic {
 /// Several diagnostics, in the order they were found.
 pub type Diagnostics = Vec<Diagnostic>;
 
-/// True when any diagnostic in the list is an error.
-pub fn has_errors(diags: &[Diagnostic]) -> bool {
-    diags.iter().any(|d| d.severity == Severity::Error)
-}
-
 /// A count with thousands separators, for messages: `200,000`.
-pub fn grouped(n: u64) -> String {
+pub(crate) fn grouped(n: u64) -> String {
     let digits = n.to_string();
     let mut out = String::with_capacity(digits.len() + digits.len() / 3);
     for (i, ch) in digits.chars().enumerate() {
@@ -306,7 +293,7 @@ impl Failure {
     }
 
     /// A failure of candor or the system, with one diagnostic.
-    pub fn internal(diagnostic: Diagnostic) -> Self {
+    pub(crate) fn internal(diagnostic: Diagnostic) -> Self {
         Self::many(vec![diagnostic], FailureClass::Internal)
     }
 
@@ -321,7 +308,7 @@ impl Failure {
 
     /// Keeps the text of `file` for showing source lines (the name as in
     /// [`Diagnostic::file`]).
-    pub fn with_source(mut self, file: impl Into<String>, text: impl Into<String>) -> Self {
+    pub(crate) fn with_source(mut self, file: impl Into<String>, text: impl Into<String>) -> Self {
         let file = file.into();
         if !self.sources.iter().any(|(f, _)| *f == file) {
             self.sources.push((file, text.into()));
@@ -330,7 +317,7 @@ impl Failure {
     }
 
     /// The text kept for `file`, if any.
-    pub fn source_of(&self, file: Option<&str>) -> Option<&str> {
+    pub(crate) fn source_of(&self, file: Option<&str>) -> Option<&str> {
         let file = file?;
         self.sources
             .iter()

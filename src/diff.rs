@@ -603,7 +603,7 @@ fn change_line(c: &Change, quote: bool) -> String {
 }
 
 /// The diff as a readable report, one change a line, inputs first, then results.
-pub fn render_text(d: &Diff) -> String {
+pub(crate) fn render_text(d: &Diff) -> String {
     let mut out = String::new();
     out.push_str("Inputs\n");
     let before = out.len();
@@ -733,7 +733,7 @@ fn opening(text: &str) -> String {
 /// The diff as plain sentences for a memo, one change each, inputs first, then results;
 /// empty when nothing changed. Amounts are shown without a currency code, as the memo's
 /// header names the currency.
-pub fn plain_lines(d: &Diff) -> Vec<String> {
+pub(crate) fn plain_lines(d: &Diff) -> Vec<String> {
     let mut out = Vec::new();
     for c in &d.inputs {
         let quote = c.field.starts_with("memo.") || c.field.contains(".description");

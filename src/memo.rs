@@ -84,12 +84,12 @@ fn blame(d: Diagnostic, house_style: bool) -> Failure {
 }
 
 /// Draws the charts of every scenario.
-pub fn draw_charts(analysis: &Analysis) -> Result<Vec<chart::ScenarioCharts>, Failure> {
+pub(crate) fn draw_charts(analysis: &Analysis) -> Result<Vec<chart::ScenarioCharts>, Failure> {
     chart::render_all(analysis).map_err(Failure::internal)
 }
 
 /// Renders the memo's Typst markup (the house style's templates where given).
-pub fn render_markup(
+pub(crate) fn render_markup(
     analysis: &Analysis,
     deal: &Deal,
     inputs: &MemoInputs<'_>,
@@ -116,7 +116,7 @@ pub fn render_markup(
 }
 
 /// Typesets markup into the PDF/A-3b memo, with the charts and the deal file attached.
-pub fn typeset_markup(
+pub(crate) fn typeset_markup(
     markup: &str,
     charts: &[chart::ScenarioCharts],
     inputs: &MemoInputs<'_>,
@@ -191,7 +191,7 @@ pub fn slug(name: &str) -> String {
 /// next to the deal (`brannock-mill-hydro.yaml` gives `brannock-mill-hydro.pdf`), so two
 /// deal files in one folder never write the same memo. The slug of the deal's name
 /// stands in only when the file has no name to use.
-pub fn default_output(deal_path: &Path, deal_name: &str) -> PathBuf {
+pub(crate) fn default_output(deal_path: &Path, deal_name: &str) -> PathBuf {
     let folder = deal_path.parent().unwrap_or_else(|| Path::new(""));
     let stem = deal_path
         .file_stem()
@@ -203,16 +203,10 @@ pub fn default_output(deal_path: &Path, deal_name: &str) -> PathBuf {
     }
 }
 
-/// Writes bytes to `path` through a temporary file in the same folder, so the file
-/// appears only when complete (see [`output::write_atomically_with`]).
-pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
-    output::write_atomically_with(path, bytes, &mut output::Disk)
-}
-
 /// A house style: templates that replace built-in ones, and font files added to the
 /// bundled fonts.
 #[derive(Debug, Clone, Default)]
-pub struct HouseStyle {
+pub(crate) struct HouseStyle {
     /// Templates by name (see [`report::BUILTIN_TEMPLATES`]).
     pub templates: BTreeMap<String, String>,
     /// Font files (`*.ttf`, `*.otf`, `*.ttc`, `*.otc`).
@@ -221,7 +215,7 @@ pub struct HouseStyle {
 
 impl HouseStyle {
     /// The names of every file read, relative to the folder, in order.
-    pub fn file_names(&self) -> Vec<String> {
+    pub(crate) fn file_names(&self) -> Vec<String> {
         let mut names: Vec<String> = self.templates.keys().cloned().collect();
         names.extend(self.fonts.names().map(str::to_string));
         names
@@ -241,7 +235,7 @@ fn is_font_file(name: &str) -> bool {
 /// `*.otc`, at most [`crate::limits::MAX_HOUSE_FONTS`]) must hold a face typst can read.
 /// Each is read by the rules of [`crate::files::load::read_companion`] (a regular file in
 /// the folder or below it, at most 10 MiB). Every problem is reported at once.
-pub fn read_house_style(dir: &Path) -> Result<HouseStyle, Failure> {
+pub(crate) fn read_house_style(dir: &Path) -> Result<HouseStyle, Failure> {
     let shown = dir.display().to_string();
     let folder_error = |e: std::io::Error| {
         Failure::invalid(

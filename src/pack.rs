@@ -18,11 +18,12 @@ use std::collections::BTreeMap;
 use std::path::PathBuf;
 
 /// The pack's cover and summary template.
-pub const PACK_TEMPLATE: (&str, &str) = ("pack.typ.j2", include_str!("../templates/pack.typ.j2"));
+pub(crate) const PACK_TEMPLATE: (&str, &str) =
+    ("pack.typ.j2", include_str!("../templates/pack.typ.j2"));
 
 /// One deal ready to be typeset into the pack.
 #[derive(Debug, Clone)]
-pub struct PackedDeal {
+pub(crate) struct PackedDeal {
     /// The deal as loaded.
     pub loaded: LoadedDeal,
     /// Its analysis.
@@ -138,7 +139,7 @@ fn summary_row(number: usize, d: &PackedDeal) -> RowView {
 pub type Files = Vec<(String, Vec<u8>)>;
 
 /// Builds the pack's markup and the files it reads. No file system access.
-pub fn pack_markup(
+pub(crate) fn pack_markup(
     title: &str,
     created: NaiveDateTime,
     deals: &[PackedDeal],

@@ -14,7 +14,7 @@ use typst_layout::PagedDocument;
 use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
 /// The virtual path of the main markup file; diagnostics name it.
-pub const MAIN_FILE: &str = "/memo.typ";
+pub(crate) const MAIN_FILE: &str = "/memo.typ";
 
 /// How to typeset.
 #[derive(Debug, Clone)]
@@ -65,7 +65,7 @@ pub fn creation_time(
 /// The largest `SOURCE_DATE_EPOCH` accepted: 9999-12-31T23:59:59Z, the end of the
 /// four-digit years a PDF date string (ISO 32000-1, 7.9.4) can carry. Negative values
 /// (before 1970) are refused as well: the convention counts seconds since 1970.
-pub const MAX_SOURCE_DATE_EPOCH: i64 = 253_402_300_799;
+pub(crate) const MAX_SOURCE_DATE_EPOCH: i64 = 253_402_300_799;
 
 /// The fonts candor typesets with: the ones typst bundles (Libertinus Serif, New
 /// Computer Modern, New Computer Modern Math, DejaVu Sans Mono), embedded in the binary.
@@ -83,7 +83,7 @@ fn coverages() -> &'static [typst::text::Coverage] {
 /// True when the memo can show `c`: some bundled font has a glyph for it (typst falls
 /// back from the style's font to any other that has one), or it is a control character,
 /// which the markup drops or turns into a space.
-pub fn can_show(c: char) -> bool {
+pub(crate) fn can_show(c: char) -> bool {
     c.is_control() || coverages().iter().any(|cov| cov.contains(u32::from(c)))
 }
 
@@ -136,7 +136,7 @@ impl HouseFonts {
     }
 
     /// True when the memo can show `c` with the bundled fonts or these.
-    pub fn can_show(&self, c: char) -> bool {
+    pub(crate) fn can_show(&self, c: char) -> bool {
         can_show(c) || self.coverages.iter().any(|cov| cov.contains(u32::from(c)))
     }
 
@@ -153,7 +153,7 @@ impl HouseFonts {
 
 /// A list of unshowable characters in words: "U+1F600 at character 5, ...", the first
 /// five and how many more.
-pub fn describe_unshowable(found: &[(usize, char)]) -> String {
+pub(crate) fn describe_unshowable(found: &[(usize, char)]) -> String {
     let mut words: Vec<String> = found
         .iter()
         .take(5)
@@ -187,7 +187,7 @@ pub fn typeset(
 }
 
 /// [`typeset`] with a house style's fonts beside the bundled ones.
-pub fn typeset_with_fonts(
+pub(crate) fn typeset_with_fonts(
     markup: &str,
     files: &[(String, Vec<u8>)],
     fonts: &HouseFonts,

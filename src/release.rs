@@ -15,7 +15,7 @@ use std::sync::OnceLock;
 pub const NEXT_RELEASE_HOOK: &str = "CANDOR_TEST_NEXT_RELEASE";
 
 /// True when the test-only switch is on (read once per process).
-pub fn simulating_next_release() -> bool {
+pub(crate) fn simulating_next_release() -> bool {
     static ON: OnceLock<bool> = OnceLock::new();
     *ON.get_or_init(|| std::env::var_os(NEXT_RELEASE_HOOK).is_some_and(|v| !v.is_empty()))
 }

@@ -23,7 +23,7 @@ const PRINT: Style = Style::Print;
 mod sensitivity;
 
 /// The name of the main template, the one rendered first.
-pub const MAIN_TEMPLATE: &str = "memo.typ.j2";
+pub(crate) const MAIN_TEMPLATE: &str = "memo.typ.j2";
 
 /// The built-in house style: (template name, source), embedded in the binary.
 pub const BUILTIN_TEMPLATES: &[(&str, &str)] = &[
@@ -42,7 +42,7 @@ pub const BUILTIN_TEMPLATES: &[(&str, &str)] = &[
 ];
 
 /// Balance paths longer than this are shown as their first and last rows.
-pub const LONG_PATH_ROWS: usize = 30;
+pub(crate) const LONG_PATH_ROWS: usize = 30;
 /// Rows shown from the start of a long balance path.
 const HEAD_ROWS: usize = 8;
 /// Rows shown from the end of a long balance path.
@@ -51,10 +51,10 @@ const TAIL_ROWS: usize = 5;
 const MAX_TURN_ROWS: usize = 16;
 
 /// Where the attached deal file's bytes are found by the typesetter.
-pub const SOURCE_FILE: &str = "/candor/source";
+pub(crate) const SOURCE_FILE: &str = "/candor/source";
 
 /// Where the typesetter finds the bytes of the deal's `i`-th companion (CSV) file.
-pub fn companion_file(i: usize) -> String {
+pub(crate) fn companion_file(i: usize) -> String {
     format!("/candor/companion-{i}")
 }
 
@@ -62,7 +62,7 @@ pub fn companion_file(i: usize) -> String {
 /// no other file; else the SHA-256 of the lines `sha256sum` prints for the deal file
 /// and then each companion file (`<hex>  <name>`, each ending in a line feed), so that
 /// `sha256sum deal.yaml flows.csv | sha256sum` gives the same value.
-pub fn input_hash(
+pub(crate) fn input_hash(
     source_name: &str,
     source_sha256: &str,
     companions: &[(String, String)],
@@ -140,7 +140,7 @@ fn companion_views(ctx: &MemoContext) -> Vec<CompanionView> {
 
 /// The first 12 hex digits of a SHA-256: short enough for a footer, long enough to
 /// tell inputs apart in practice.
-pub fn short_hash(sha256_hex: &str) -> String {
+pub(crate) fn short_hash(sha256_hex: &str) -> String {
     sha256_hex.chars().take(12).collect()
 }
 
@@ -163,10 +163,10 @@ fn render_view(view: &View, ctx: &MemoContext) -> Result<String, Diagnostic> {
 /// over flows (a deal of 100,000 flows takes under 1,000), so a house style has room
 /// for a thousand times that; a loop that never ends, or nested loops over
 /// `range(100000)`, runs out in about a second.
-pub const TEMPLATE_FUEL: u64 = 10_000_000;
+pub(crate) const TEMPLATE_FUEL: u64 = 10_000_000;
 
 /// The largest markup a rendering may write, in bytes (64 MiB).
-pub const MAX_MARKUP_BYTES: usize = 64 * 1024 * 1024;
+pub(crate) const MAX_MARKUP_BYTES: usize = 64 * 1024 * 1024;
 
 /// Markup written up to a size bound, so that a house style cannot fill memory.
 struct Bounded {
@@ -268,7 +268,7 @@ pub fn render_body(
 /// Renders a template of candor's own that is not part of the house style (such as the
 /// cover of a pack) with the memo's escaping rules: every printed value is escaped for
 /// Typst markup, and `|str` makes a string literal.
-pub fn render_template(
+pub(crate) fn render_template(
     name: &str,
     source: &str,
     view: &impl Serialize,
@@ -387,7 +387,7 @@ pub fn escape_markup(text: &str) -> String {
 }
 
 /// A Typst string literal holding `text` exactly (for code arguments such as a title).
-pub fn typst_string(text: &str) -> String {
+pub(crate) fn typst_string(text: &str) -> String {
     let mut out = String::with_capacity(text.len() + 2);
     out.push('"');
     for c in text.chars() {
@@ -427,7 +427,7 @@ fn paragraphs(text: &str) -> Vec<String> {
 }
 
 /// A file name the attachment can carry: letters, digits, dot, dash and underscore.
-pub fn attachment_name(name: &str) -> String {
+pub(crate) fn attachment_name(name: &str) -> String {
     let cleaned: String = name
         .chars()
         .map(|c| {
@@ -512,7 +512,7 @@ struct View {
 
 /// A creation time split into the fields of Typst's `datetime(...)`.
 #[derive(Debug, Serialize)]
-pub struct CreatedView {
+pub(crate) struct CreatedView {
     year: i32,
     month: u32,
     day: u32,

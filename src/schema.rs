@@ -17,7 +17,7 @@ use crate::model::{DayCount, Frequency, MAX_FLOWS};
 use serde_json::{json, Value};
 
 /// Decisions a sign-off may record, as the validator accepts them.
-pub const DECISIONS: &[&str] = &["pending", "approved", "declined", "deferred"];
+pub(crate) const DECISIONS: &[&str] = &["pending", "approved", "declined", "deferred"];
 
 /// Largest shift of inflows accepted, in periods or days.
 const MAX_SHIFT: i64 = 100_000;
@@ -502,7 +502,7 @@ fn cash_flows_schema() -> Value {
 }
 
 /// The schema as the text `candor schema` prints and `deal.schema.json` holds.
-pub fn deal_schema_text() -> String {
+pub(crate) fn deal_schema_text() -> String {
     // serde_json keeps insertion order here (the crate's `preserve_order` feature), so
     // the text is the same from run to run.
     let mut text = serde_json::to_string_pretty(&deal_schema())

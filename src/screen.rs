@@ -435,15 +435,16 @@ fn too_many(n: usize) -> LineError {
     )
 }
 
+#[cfg(test)]
 /// Screens one line; always returns one JSON object (read back from [`screen_text`],
 /// so an id beyond what a float holds, such as `1e400`, comes back as null here).
-pub fn screen_line(text: &str, index: usize) -> serde_json::Value {
+pub(crate) fn screen_line(text: &str, index: usize) -> serde_json::Value {
     serde_json::from_str(&screen_text(text, index)).unwrap_or(serde_json::Value::Null)
 }
 
 /// Screens one line: one JSON object as compact text, the line's results or its
 /// error, naming the series by its `id` exactly as written (or `line N`).
-pub fn screen_text(text: &str, index: usize) -> String {
+pub(crate) fn screen_text(text: &str, index: usize) -> String {
     match screened(text, index) {
         Ok(s) => serde_json::to_string(&s).unwrap_or_default(),
         Err(error) => error,
@@ -819,9 +820,10 @@ fn screen_block(block: &[u8], first: usize) -> (usize, Vec<String>) {
     (count, outputs)
 }
 
+#[cfg(test)]
 /// Screens every line of a JSONL text (blank lines skipped) and returns the output
 /// lines in input order (see [`screen_stream`]).
-pub fn screen_all(text: &str) -> Vec<String> {
+pub(crate) fn screen_all(text: &str) -> Vec<String> {
     let mut out = Vec::new();
     match screen_stream(&mut text.as_bytes(), &mut out) {
         Ok(()) => String::from_utf8_lossy(&out)

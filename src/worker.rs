@@ -26,10 +26,10 @@ use std::time::{Duration, Instant};
 
 /// The environment variable that makes the candor program a typesetting child; its
 /// value is the memory budget in bytes. Only [`typeset_within`] sets it.
-pub const WORKER_VARIABLE: &str = "CANDOR_TYPESET_CHILD";
+pub(crate) const WORKER_VARIABLE: &str = "CANDOR_TYPESET_CHILD";
 
 /// The child's exit code when typesetting failed and a diagnostic was written.
-pub const FAILED: u8 = 3;
+pub(crate) const FAILED: u8 = 3;
 
 /// The time and memory a house style's typesetting may take.
 #[derive(Debug, Clone, Copy)]
@@ -44,7 +44,7 @@ impl Budget {
     /// The budget of a house style: 30 seconds (a memo of the example deals takes under
     /// one) and 2 GiB of address space (a memo of 100,000 daily flows in a copy of the
     /// built-in style took 9 s in a debug build and passed within it).
-    pub const HOUSE_STYLE: Budget = Budget {
+    pub(crate) const HOUSE_STYLE: Budget = Budget {
         deadline: Duration::from_secs(30),
         memory: 2 << 30,
     };

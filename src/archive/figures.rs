@@ -18,7 +18,7 @@ use std::str::FromStr as _;
 
 /// What comparing a filed analysis with a recomputed one found.
 #[derive(Debug, Clone, Default, PartialEq, Eq)]
-pub struct FigureComparison {
+pub(crate) struct FigureComparison {
     /// Figures that differ: one sentence each, by JSON path.
     pub problems: Vec<String>,
     /// Wording and layout that differ, by JSON path.
@@ -52,7 +52,7 @@ const FLOAT_AGREEMENT: f64 = 1e-9;
 
 /// Compares the filed analysis (its header keys already removed) with the recomputed
 /// one, both in the JSON contract's form.
-pub fn compare_figures(filed: &Value, fresh: &Value) -> FigureComparison {
+pub(crate) fn compare_figures(filed: &Value, fresh: &Value) -> FigureComparison {
     let mut out = FigureComparison::default();
     compare(String::new(), "", filed, fresh, &mut out);
     out

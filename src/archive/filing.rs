@@ -463,7 +463,7 @@ fn file_under_lock(
 /// filing will then be reported unchanged) the one before it, so that the memo made
 /// equals the one filed. `None` for a deal not yet filed. Reads without the lock:
 /// [`file`] checks the answer again under it. The filing's PDF is not looked at.
-pub fn predecessor(
+pub(crate) fn predecessor(
     archive: &Path,
     filing: &Filing<'_>,
 ) -> Result<Option<(String, PathBuf)>, Diagnostic> {
@@ -497,7 +497,7 @@ pub fn predecessor(
 
 /// The version filed just before the version folder `dir`, by number, in the same
 /// deal's folder, as (folder name, folder).
-pub fn version_before(dir: &Path) -> Option<(String, PathBuf)> {
+pub(crate) fn version_before(dir: &Path) -> Option<(String, PathBuf)> {
     // `verify .` inside a version folder names it only once resolved.
     let dir = std::fs::canonicalize(dir).ok()?;
     let name = dir.file_name()?.to_str()?.to_string();
@@ -510,7 +510,12 @@ pub fn version_before(dir: &Path) -> Option<(String, PathBuf)> {
 
 /// The "changes since version N" section of a memo: the filed deal of version
 /// `version` (in `dir`) compared with `deal` and its analysis by [`crate::diff::diff`].
-pub fn changes_since(version: &str, dir: &Path, deal: &Deal, analysis: &Analysis) -> ChangesSince {
+pub(crate) fn changes_since(
+    version: &str,
+    dir: &Path,
+    deal: &Deal,
+    analysis: &Analysis,
+) -> ChangesSince {
     let old = filed_deal_file(dir)
         .ok()
         .and_then(|file| load_deal(&file).ok());
@@ -654,7 +659,7 @@ pub fn file_memo(
 /// made. An archive is started by filing into it, so a missing archive folder is
 /// created, but only inside a folder that exists: a mistyped path does not silently
 /// grow a tree of folders. Returns the sentence to show when the folder was created.
-pub fn prepare_archive(dir: &Path) -> Result<Option<String>, Failure> {
+pub(crate) fn prepare_archive(dir: &Path) -> Result<Option<String>, Failure> {
     let shown = dir.display().to_string();
     let fail = |message: String, hint: &str, class: FailureClass| {
         Failure::many(
@@ -697,6 +702,8 @@ pub fn prepare_archive(dir: &Path) -> Result<Option<String>, Failure> {
         )),
         Ok(_) => match std::fs::create_dir(dir) {
             Ok(()) => Ok(Some(format!("created the archive folder {shown}"))),
+            // Another filing created it a moment ago: nothing to do.
+            Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists && dir.is_dir() => Ok(None),
             Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => Err(fail(
                 format!("cannot file the memo: `{shown}` is a file, not an archive folder"),
                 "give the archive's folder with `--archive DIR`",

@@ -37,21 +37,13 @@ mod naming;
 mod signing;
 mod verify;
 
-pub use chain::ChainHead;
-pub use figures::{compare_figures, FigureComparison};
-pub use filing::{
-    changes_since, file, file_memo, file_with, predecessor, prepare_archive, version_before,
-    FiledMemo,
-};
-pub use listing::{list, ListedDeal, ListedVersion, Listing};
-pub use naming::{folder_name, folder_slug};
-pub use signing::{
-    read_allowed_signers, sign_version, AllowedSigner, AllowedSigners, SignatureState, NAMESPACE,
-};
-pub use verify::{
-    compare_analysis, signoff_words, verify, verify_version, VerifyOptions, VerifyReport,
-    VersionState,
-};
+pub(crate) use filing::{changes_since, prepare_archive, version_before};
+pub use filing::{file, file_memo, file_with};
+pub use listing::list;
+pub(crate) use naming::folder_name;
+pub(crate) use signing::{read_allowed_signers, sign_version};
+pub use verify::verify;
+pub(crate) use verify::{signoff_words, verify_version, VerifyOptions, VerifyReport};
 
 use crate::diag::Diagnostic;
 use crate::engine::Analysis;
@@ -65,28 +57,28 @@ use std::collections::BTreeMap;
 use std::path::{Component, Path, PathBuf};
 
 /// File name of a version's manifest.
-pub const MANIFEST: &str = "manifest.json";
+pub(crate) const MANIFEST: &str = "manifest.json";
 /// File name of the manifest's own hash.
-pub const MANIFEST_HASH: &str = "manifest.sha256";
+pub(crate) const MANIFEST_HASH: &str = "manifest.sha256";
 /// File name of a version's SSH signature of its manifest, added by `candor sign`.
 pub const SIGNATURE: &str = "manifest.json.sig";
 /// File name of the filed analysis.
-pub const ANALYSIS: &str = "analysis.json";
+pub(crate) const ANALYSIS: &str = "analysis.json";
 /// Folder of the filed input files inside a version.
-pub const INPUTS: &str = "inputs";
+pub(crate) const INPUTS: &str = "inputs";
 /// Folder of the filed house-style templates inside a version.
-pub const TEMPLATES: &str = "templates";
+pub(crate) const TEMPLATES: &str = "templates";
 /// The lock file in a deal's folder.
-pub const LOCK: &str = ".lock";
+pub(crate) const LOCK: &str = ".lock";
 /// Version of the manifest's layout.
 /// Format 2 added `currency`, `previous_manifest` and `renamed_from`.
-pub const MANIFEST_FORMAT: u32 = 2;
+pub(crate) const MANIFEST_FORMAT: u32 = 2;
 /// Version of the filed analysis file's layout: the JSON contract of `rates --json`
 /// with `analysis_format` and `candor_version` in front. A file without the key is
 /// of the same layout, filed before the key was added.
-pub const ANALYSIS_FORMAT: u64 = 1;
+pub(crate) const ANALYSIS_FORMAT: u64 = 1;
 /// At most this many differing figures are listed per version; the rest are counted.
-pub const MAX_FIGURES_SHOWN: usize = 20;
+pub(crate) const MAX_FIGURES_SHOWN: usize = 20;
 
 /// What a file in a version is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Serialize, Deserialize)]
@@ -106,7 +98,7 @@ pub enum Role {
 
 impl Role {
     /// True for the files the memo was made from (whose hashes decide "unchanged").
-    pub fn is_input(self) -> bool {
+    pub(crate) fn is_input(self) -> bool {
         matches!(self, Role::Deal | Role::Companion | Role::Template)
     }
 }
@@ -180,7 +172,7 @@ pub struct Manifest {
 impl Manifest {
     /// The input files' entries (path, role, hash), which decide whether a new filing
     /// would change anything.
-    pub fn input_key(&self) -> Vec<(String, Role, String)> {
+    pub(crate) fn input_key(&self) -> Vec<(String, Role, String)> {
         input_key(&self.files)
     }
 }
@@ -272,7 +264,7 @@ pub enum Filed {
 }
 
 /// The filing time: `SOURCE_DATE_EPOCH` when given (reproducible runs), else now (UTC).
-pub fn filing_time(source_date_epoch: Option<&str>) -> Result<NaiveDateTime, Diagnostic> {
+pub(crate) fn filing_time(source_date_epoch: Option<&str>) -> Result<NaiveDateTime, Diagnostic> {
     match source_date_epoch.map(str::trim) {
         Some(text) if !text.is_empty() => {
             crate::pdf::creation_time(chrono::NaiveDate::default(), Some(text))
@@ -329,7 +321,7 @@ fn read_manifest_bytes(dir: &Path) -> Result<Vec<u8>, String> {
 /// path inside the version that the manifest lists as the deal, every part of it a
 /// real folder or file (no link followed, no FIFO or device), so that nothing outside
 /// the version is ever read as its deal. The error is a sentence about the manifest.
-pub fn filed_deal_file(dir: &Path) -> Result<PathBuf, String> {
+pub(crate) fn filed_deal_file(dir: &Path) -> Result<PathBuf, String> {
     let manifest = read_manifest(dir)?;
     let listed = manifest
         .files

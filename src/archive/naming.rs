@@ -10,7 +10,7 @@ const MAX_FOLDER_CHARS: usize = 80;
 /// The folder of a deal filed from the file `deal_file_name` (a name without folders):
 /// `id` when the deal gives one, else the file's name without its extension, as
 /// [`folder_slug`] writes it.
-pub fn folder_name(deal_file_name: &str, id: Option<&str>) -> String {
+pub(crate) fn folder_name(deal_file_name: &str, id: Option<&str>) -> String {
     if let Some(id) = id {
         return folder_slug(id);
     }
@@ -27,7 +27,7 @@ pub fn folder_name(deal_file_name: &str, id: Option<&str>) -> String {
 /// scripts never meet in one folder. Text with no letter or digit at all gets `deal-`
 /// and the first 12 hex digits of its SHA-256, distinct for distinct text; a name of
 /// digits only gets `deal-` in front, so it is never taken for a version folder.
-pub fn folder_slug(text: &str) -> String {
+pub(crate) fn folder_slug(text: &str) -> String {
     let mut out = String::new();
     let mut count = 0;
     for c in text.chars() {

@@ -15,7 +15,7 @@ use ssh_key::{HashAlg, LineEnding, PrivateKey, PublicKey, SshSig};
 
 /// The SSHSIG namespace of a candor sign-off: a signature made for anything else (a
 /// git commit, a file signed with `-n file`) is not a sign-off.
-pub const NAMESPACE: &str = "signoff@candor";
+pub(crate) const NAMESPACE: &str = "signoff@candor";
 
 /// Largest key or allowed-signers file read, in bytes.
 const MAX_KEY_BYTES: u64 = 1024 * 1024;
@@ -70,7 +70,7 @@ pub struct AllowedSigners {
 /// Reads an allowed-signers file (OpenSSH's format, see `ssh-keygen(1)`, "ALLOWED
 /// SIGNERS"): per line the principals, optional options, the key type and the key in
 /// base64, then an optional comment; blank lines and `#` comments are skipped.
-pub fn read_allowed_signers(path: &Path) -> Result<AllowedSigners, Diagnostic> {
+pub(crate) fn read_allowed_signers(path: &Path) -> Result<AllowedSigners, Diagnostic> {
     let bytes = strict::read_named(path, MAX_KEY_BYTES)
         .map_err(|e| archive_error(format!("the allowed-signers file {}", e.words()), path))?;
     let text = String::from_utf8(bytes)
@@ -150,7 +150,7 @@ fn is_key_type(field: &str) -> bool {
 }
 
 /// [`read_allowed_signers`] on text.
-pub fn parse_allowed_signers(text: &str) -> AllowedSigners {
+pub(crate) fn parse_allowed_signers(text: &str) -> AllowedSigners {
     let mut out = AllowedSigners::default();
     'lines: for (i, line) in text.lines().enumerate() {
         let number = i + 1;
@@ -244,7 +244,7 @@ fn pattern_matches(pattern: &str, text: &str) -> bool {
 /// Checks the signature beside a version's manifest (`manifest_bytes`, as read):
 /// its namespace, the signature itself with the key it names, and that key against the
 /// allowed signers at time `now` (when given).
-pub fn check_signature(
+pub(crate) fn check_signature(
     dir: &Path,
     manifest_bytes: &[u8],
     allowed: Option<&AllowedSigners>,
@@ -325,7 +325,7 @@ pub fn check_signature(
 /// without a passphrase), after checking the version with [`super::verify_version`]:
 /// writes `manifest.json.sig` beside the manifest, never over one already there.
 /// Returns the key's fingerprint.
-pub fn sign_version(dir: &Path, key_path: &Path) -> Result<String, Diagnostic> {
+pub(crate) fn sign_version(dir: &Path, key_path: &Path) -> Result<String, Diagnostic> {
     let key_text = strict::read_named(key_path, MAX_KEY_BYTES)
         .map_err(|e| archive_error(format!("the key file {}", e.words()), key_path))?;
     let key = PrivateKey::from_openssh(&key_text).map_err(|e| {

@@ -54,7 +54,7 @@ pub struct VerifyReport {
 
 /// The words of a version's sign-off and signature: `approved, signed by X`,
 /// `approved, not signed`, ...
-pub fn signoff_words(state: &VersionState) -> String {
+pub(crate) fn signoff_words(state: &VersionState) -> String {
     let signature = match &state.signature {
         SignatureState::NotSigned => "not signed".to_string(),
         SignatureState::SignedBy { principal, .. } => format!("signed by {principal}"),
@@ -284,7 +284,7 @@ fn check_manifest_shape(shown: &str, manifest: &Manifest, problems: &mut Vec<Str
 /// manifest's own hash and format, every listed hash, unlisted files, the manifest
 /// against the filed deal and analysis, the figures recomputed, the PDF rebuilt, and
 /// the signature.
-pub fn verify_version(dir: &Path, report: &mut VerifyReport, options: &VerifyOptions) {
+pub(crate) fn verify_version(dir: &Path, report: &mut VerifyReport, options: &VerifyOptions) {
     report.versions.push(dir.to_path_buf());
     let shown = dir.display().to_string();
     match EntryKind::at(dir) {
@@ -725,27 +725,6 @@ pub(super) fn split_analysis(bytes: &[u8]) -> Result<(u64, Option<String>, Value
         Some(v) => return Err(format!("candor_version {v} is not text")),
     };
     Ok((format, version, value))
-}
-
-/// Compares a filed analysis JSON (with or without its header) with a recomputed
-/// analysis, figure by figure ([`compare_figures`]); one sentence per differing
-/// figure, at most `limit` of them plus a count of the rest. Wording is not compared.
-pub fn compare_analysis(filed: &[u8], recomputed: &Analysis, limit: usize) -> Vec<String> {
-    let body = match split_analysis(filed) {
-        Ok((_, _, body)) => body,
-        Err(why) => return vec![why],
-    };
-    let fresh = match crate::present::json::analysis(recomputed) {
-        Ok(v) => v,
-        Err(e) => return vec![format!("the recomputed analysis cannot be written: {e}")],
-    };
-    let c = compare_figures(&body, &fresh);
-    let total = c.problems.len();
-    let mut out: Vec<String> = c.problems.into_iter().take(limit).collect();
-    if total > limit {
-        out.push(format!("and {} more differing figures", total - limit));
-    }
-    out
 }
 
 #[cfg(test)]

@@ -17,7 +17,7 @@ pub fn run(args: &CompletionsArgs) -> u8 {
 
 /// Writes the man page (roff) to stdout: one page that holds every subcommand, since
 /// candor installs no separate page per subcommand for clap_mangen's cross-references.
-pub fn manpage() -> u8 {
+pub(crate) fn manpage() -> u8 {
     match render_manpage() {
         Ok(page) => finish(&page, "man page"),
         Err(e) => {
@@ -29,7 +29,7 @@ pub fn manpage() -> u8 {
 
 /// The whole man page: candor's own sections, then one section per subcommand with
 /// its synopsis, description and options.
-pub fn render_manpage() -> std::io::Result<Vec<u8>> {
+pub(crate) fn render_manpage() -> std::io::Result<Vec<u8>> {
     let mut cmd = Cli::command();
     cmd.build();
     let top = clap_mangen::Man::new(cmd.clone());

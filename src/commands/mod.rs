@@ -19,11 +19,11 @@ pub mod watch;
 use crate::diag::Failure;
 
 /// Exit code: everything held.
-pub const EXIT_OK: u8 = 0;
+pub(crate) const EXIT_OK: u8 = 0;
 /// Exit code: the input is invalid (or a verification failed).
-pub const EXIT_INVALID: u8 = 1;
+pub(crate) const EXIT_INVALID: u8 = 1;
 /// Exit code: candor itself failed (I/O, internal error).
-pub const EXIT_INTERNAL: u8 = 2;
+pub(crate) const EXIT_INTERNAL: u8 = 2;
 
 /// Prints a failure on standard error and returns its exit code.
 pub fn fail(failure: &Failure) -> u8 {

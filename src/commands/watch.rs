@@ -11,11 +11,11 @@ use std::path::{Path, PathBuf};
 use std::time::{Duration, SystemTime};
 
 /// How often the files are looked at.
-pub const POLL_INTERVAL: Duration = Duration::from_millis(300);
+pub(crate) const POLL_INTERVAL: Duration = Duration::from_millis(300);
 
 /// What is known of one watched file: its modification time and size, or `None` when
 /// it cannot be read (an editor may delete and recreate it while saving).
-pub type Stamp = Option<(SystemTime, u64)>;
+pub(crate) type Stamp = Option<(SystemTime, u64)>;
 
 /// The stamps of the given files, in order.
 pub fn stamps(paths: &[PathBuf]) -> Vec<Stamp> {
@@ -44,7 +44,7 @@ pub fn watched_files(deal: &Path, previous: &[PathBuf]) -> Vec<PathBuf> {
 /// and then held still for one interval (so that a save in progress is not read
 /// half-written). Returns after `max_rebuilds` rebuilds, or never when it is `None`.
 /// `files` is asked again after every rebuild, since an edit may name other CSV files.
-pub fn watch_loop(
+pub(crate) fn watch_loop(
     files: &mut dyn FnMut() -> Vec<PathBuf>,
     rebuild: &mut dyn FnMut(),
     interval: Duration,

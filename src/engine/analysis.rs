@@ -103,7 +103,7 @@ pub struct ApproxAmount {
 impl ApproxAmount {
     /// The signed mantissa (at least 1, below 10 in size) rounded to `digits` decimals,
     /// and the power of ten, e.g. `(6.0, 62)` for 6.000006e62 with one decimal.
-    pub fn scientific(&self, digits: i32) -> (f64, i64) {
+    pub(crate) fn scientific(&self, digits: i32) -> (f64, i64) {
         let mut exponent = self.log10_abs.floor();
         let step = 10f64.powi(digits);
         let mut mantissa = (10f64.powf(self.log10_abs - exponent) * step).round() / step;
@@ -242,7 +242,7 @@ impl SignBounds {
     }
 
     /// Bounds when the flows sum to zero: only the Descartes/Laguerre count applies.
-    pub fn without_sums(descartes: u32) -> Self {
+    pub(crate) fn without_sums(descartes: u32) -> Self {
         Self {
             descartes,
             above_zero: None,

@@ -8,7 +8,7 @@ use rust_decimal::Decimal;
 use serde::Serialize;
 
 /// Every caution code, in the order cautions are listed.
-pub const CODES: [&str; 14] = [
+pub(crate) const CODES: [&str; 14] = [
     "uncertified",
     "one-sign",
     "no-irr",
@@ -172,7 +172,7 @@ impl<'a> CautionFigures<'a> {
 
     /// The NPV's true sign (1, -1 or 0 when zero or not computable), also when it is
     /// too large for an exact decimal.
-    pub fn npv_sign(&self) -> i8 {
+    pub(crate) fn npv_sign(&self) -> i8 {
         match (self.npv_at_hurdle, self.npv_at_hurdle_approx) {
             (Some(c), _) if c > Decimal::ZERO => 1,
             (Some(c), _) if c < Decimal::ZERO => -1,

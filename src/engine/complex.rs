@@ -10,11 +10,11 @@ use rust_decimal::prelude::ToPrimitive;
 use std::ops::{Add, Div, Mul, Neg, Sub};
 
 /// Largest polynomial degree (offsets over their gcd) the reading is attempted for.
-pub const MAX_DEGREE: usize = 2000;
+pub(crate) const MAX_DEGREE: usize = 2000;
 
 /// A complex number in binary floats; just what the root finder needs.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Cx {
+pub(crate) struct Cx {
     /// Real part.
     pub re: f64,
     /// Imaginary part.
@@ -122,7 +122,7 @@ fn newton_step(a: &[f64], z: Cx) -> Cx {
 /// Every complex root of `sum a_j z^j` (ascending coefficients, `a_0` and `a_D` non-zero)
 /// by the Aberth–Ehrlich iteration from points on a circle of the roots' geometric-mean
 /// radius.
-pub fn polynomial_roots(a: &[f64]) -> Vec<Cx> {
+pub(crate) fn polynomial_roots(a: &[f64]) -> Vec<Cx> {
     let deg = a.len().saturating_sub(1);
     if deg == 0 || a[0] == 0.0 || a[deg] == 0.0 {
         return Vec::new();

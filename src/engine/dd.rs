@@ -8,7 +8,7 @@ use std::ops::{Add, Div, Mul, Neg, Sub};
 
 /// A double-double number `hi + lo` with `|lo| <= ulp(hi) / 2`.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Dd {
+pub(crate) struct Dd {
     /// Leading part: the value rounded to the nearest `f64`.
     pub hi: f64,
     /// Trailing part: the rounding error of `hi`.
@@ -23,7 +23,7 @@ const LN2: Dd = Dd {
 
 /// `a + b` exactly, as the rounded sum and its error (Knuth).
 #[inline]
-pub fn two_sum(a: f64, b: f64) -> (f64, f64) {
+pub(crate) fn two_sum(a: f64, b: f64) -> (f64, f64) {
     let s = a + b;
     let bb = s - a;
     let err = (a - (s - bb)) + (b - bb);
@@ -39,7 +39,7 @@ fn quick_two_sum(a: f64, b: f64) -> (f64, f64) {
 
 /// `a * b` exactly, as the rounded product and its error (one fused multiply-add).
 #[inline]
-pub fn two_prod(a: f64, b: f64) -> (f64, f64) {
+pub(crate) fn two_prod(a: f64, b: f64) -> (f64, f64) {
     let p = a * b;
     (p, a.mul_add(b, -p))
 }
@@ -56,7 +56,7 @@ impl Dd {
     }
 
     /// The nearest double-double to the integer `n` (exact up to 2^106).
-    pub fn from_i128(n: i128) -> Dd {
+    pub(crate) fn from_i128(n: i128) -> Dd {
         let hi = n as f64;
         // `hi` is an integer-valued float, so the cast back is exact unless it saturates
         // at the very edge of i128, which callers never reach (|n| < 2^100).
@@ -67,7 +67,7 @@ impl Dd {
 
     /// A decimal amount, to about 32 significant digits: the 96-bit mantissa is exact in
     /// double-double and one division by `10^scale` rounds once.
-    pub fn from_decimal(d: Decimal) -> Dd {
+    pub(crate) fn from_decimal(d: Decimal) -> Dd {
         let m = Dd::from_i128(d.mantissa());
         let scale = d.scale();
         if scale == 0 {
@@ -88,17 +88,8 @@ impl Dd {
     }
 
     /// True when both parts are finite.
-    pub fn is_finite(self) -> bool {
+    pub(crate) fn is_finite(self) -> bool {
         self.hi.is_finite() && self.lo.is_finite()
-    }
-
-    /// Absolute value.
-    pub fn abs(self) -> Dd {
-        if self.hi < 0.0 || (self.hi == 0.0 && self.lo < 0.0) {
-            -self
-        } else {
-            self
-        }
     }
 
     /// Multiplies by the power of two `2^k`, exactly unless the result leaves the
@@ -201,7 +192,7 @@ impl Dd {
 
     /// The nearest decimal with about 26 significant digits (at most 28 decimal places);
     /// `None` when not finite or beyond Decimal's range (about 7.9e28).
-    pub fn to_decimal(self) -> Option<Decimal> {
+    pub(crate) fn to_decimal(self) -> Option<Decimal> {
         if !self.is_finite() {
             return None;
         }
@@ -219,8 +210,9 @@ impl Dd {
         Decimal::try_from_i128_with_scale(int, scale).ok()
     }
 
+    #[cfg(test)]
     /// `self^t` for a positive base: e^(t ln self).
-    pub fn powf(self, t: Dd) -> Dd {
+    pub(crate) fn powf(self, t: Dd) -> Dd {
         if self.hi == 1.0 && self.lo == 0.0 {
             return Dd::ONE;
         }

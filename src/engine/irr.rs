@@ -7,12 +7,12 @@ use super::roots::{find_roots, ExactCheck, RootSet};
 use super::{figures, Decision, Stance};
 
 /// Annual rates above this, or below -99%, describe no economic reality.
-pub const EXTREME_HIGH: f64 = 10.0;
+pub(crate) const EXTREME_HIGH: f64 = 10.0;
 /// See [`EXTREME_HIGH`].
-pub const EXTREME_LOW: f64 = -0.99;
+pub(crate) const EXTREME_LOW: f64 = -0.99;
 
 /// Finds the roots of already normalised flows.
-pub fn roots_of(flows: &Flows) -> RootSet {
+pub(crate) fn roots_of(flows: &Flows) -> RootSet {
     let amounts: Vec<_> = flows.points.iter().map(|p| p.amount).collect();
     let offsets: Vec<i64> = flows.points.iter().map(|p| p.offset).collect();
     find_roots(&amounts, &offsets, flows.units_per_year)
@@ -75,7 +75,7 @@ pub fn irr_report(flows: &Flows, hurdle: Option<f64>, with_paths: bool) -> IrrRe
 }
 
 /// Builds the IRR report from a root set.
-pub fn report_from_set(
+pub(crate) fn report_from_set(
     flows: &Flows,
     set: &RootSet,
     hurdle: Option<f64>,

@@ -134,7 +134,7 @@ pub fn npv_at_hurdle(flows: &Flows, hurdle: Decimal) -> (Option<Decimal>, Option
 /// reinvestment rates default to the hurdle when the file leaves them out); a batch
 /// line may give none, and then gets neither an NPV nor an MIRR.
 #[derive(Debug, Clone, Copy, Default)]
-pub struct SeriesRates {
+pub(crate) struct SeriesRates {
     /// Hurdle rate per year.
     pub hurdle: Option<Decimal>,
     /// Finance rate for the MIRR (the hurdle when absent).
@@ -157,7 +157,7 @@ impl SeriesRates {
 /// What every series gets, whether it is a deal's scenario or a batch line: the one
 /// entry into the engine for a series (see [`read_series`]).
 #[derive(Debug, Clone)]
-pub struct SeriesReading {
+pub(crate) struct SeriesReading {
     /// The IRRs, their certificate and readings.
     pub report: IrrReport,
     /// With a hurdle: the NPV at it (see [`npv_at_hurdle`]).
@@ -170,7 +170,7 @@ pub struct SeriesReading {
 /// IRR with the certified count, and with a hurdle the NPV at it and the MIRR.
 /// `with_paths` adds the balance path at each root. Deals ([`analyse_scenario`]) and
 /// batch lines (`rates --batch`) both come here, so they cannot answer differently.
-pub fn read_series(flows: &Flows, rates: SeriesRates, with_paths: bool) -> SeriesReading {
+pub(crate) fn read_series(flows: &Flows, rates: SeriesRates, with_paths: bool) -> SeriesReading {
     let hurdle = rates.hurdle.and_then(|h| h.to_f64());
     let report = irr::irr_report(flows, hurdle, with_paths);
     let Some(h) = rates.hurdle else {
@@ -194,7 +194,7 @@ pub fn read_series(flows: &Flows, rates: SeriesRates, with_paths: bool) -> Serie
 }
 
 /// Every figure for one series of flows at the deal's rates.
-pub fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAnalysis {
+pub(crate) fn analyse_scenario(name: &str, flows: &Flows, rates: &Rates) -> ScenarioAnalysis {
     let flows = flows.normalised();
     let hurdle = rates.hurdle.to_f64().unwrap_or(0.0);
     let finance = rates.finance.to_f64().unwrap_or(hurdle);

@@ -82,7 +82,7 @@ fn read_limited(path: &Path) -> Result<Vec<u8>, (String, &'static str)> {
 /// `../x`, `/etc/passwd` nor a link out of the folder is followed), be a regular file
 /// (not a FIFO or a device such as `/dev/zero`) and hold at most [`MAX_FILE_BYTES`].
 /// Nothing is read from a file refused, so no diagnostic can show its contents.
-pub fn read_companion(folder: &Path, name: &str) -> Result<Vec<u8>, (String, &'static str)> {
+pub(crate) fn read_companion(folder: &Path, name: &str) -> Result<Vec<u8>, (String, &'static str)> {
     let folder = if folder.as_os_str().is_empty() {
         Path::new(".")
     } else {
@@ -186,7 +186,7 @@ const FONT_HINT: &str =
 /// characters, a leading byte-order mark dropped (positions count from after it), and
 /// control characters as their visible pictures (U+2400 on), one character for one,
 /// so that columns stay where they were.
-pub fn shown_text(bytes: &[u8]) -> String {
+pub(crate) fn shown_text(bytes: &[u8]) -> String {
     let body = bytes.strip_prefix(BOM).unwrap_or(bytes);
     String::from_utf8_lossy(body)
         .chars()
@@ -218,7 +218,7 @@ pub fn load_deal(path: &Path) -> Result<LoadedDeal, Failure> {
 
 /// [`load_deal`] for a memo in a house style that adds fonts: a text is refused only
 /// when neither the bundled fonts nor `fonts` can show it.
-pub fn load_deal_with_fonts(
+pub(crate) fn load_deal_with_fonts(
     path: &Path,
     fonts: &crate::pdf::HouseFonts,
 ) -> Result<LoadedDeal, Failure> {

@@ -23,10 +23,11 @@ use std::sync::{Mutex, MutexGuard, Once};
 /// write. See DEVELOPERS.md, "Fault tests".
 pub const PAUSE_HOOK: &str = "CANDOR_TEST_PAUSE_MID_WRITE";
 
+#[cfg(not(unix))]
 /// Exit code after Ctrl-C (128 + SIGINT, as shells report it). SIGTERM and SIGHUP
 /// give 128 plus their own numbers (143 and 129), so a script or service manager can
 /// tell what stopped candor; where signals have no numbers, every stop gives this one.
-pub const EXIT_INTERRUPTED: i32 = 130;
+pub(crate) const EXIT_INTERRUPTED: i32 = 130;
 
 /// How bytes reach an open file. [`Disk`] is the real thing; tests put in their own
 /// sink to make a write fail the way a full disk does, at a chosen byte.
@@ -37,7 +38,7 @@ pub trait Sink {
 
 /// Writes to the file system and syncs.
 #[derive(Debug, Clone, Copy, Default)]
-pub struct Disk;
+pub(crate) struct Disk;
 
 impl Sink for Disk {
     fn put(&mut self, file: &mut File, bytes: &[u8]) -> io::Result<()> {
@@ -58,7 +59,7 @@ impl Sink for Disk {
 }
 
 /// The folder a file is written in (`.` for a bare file name).
-pub fn folder_of(path: &Path) -> PathBuf {
+pub(crate) fn folder_of(path: &Path) -> PathBuf {
     match path.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),
@@ -181,7 +182,7 @@ fn refusal(path: &Path, inputs: &[PathBuf]) -> Option<(String, String)> {
 /// Refuses, with nothing written, a destination that is one of `inputs` (the files the
 /// run reads, compared by device and inode) or that is not a regular file or a new
 /// path (see [`check_destination`]).
-pub fn refuse_inputs(
+pub(crate) fn refuse_inputs(
     path: &Path,
     what: &str,
     option: &str,
@@ -204,7 +205,7 @@ pub fn refuse_inputs(
 /// and is a folder, the path is not a folder, and a file can be created in the folder
 /// (a probe file, removed at once). `option` is how the user chooses another path,
 /// named in the hint.
-pub fn check_destination(
+pub(crate) fn check_destination(
     path: &Path,
     what: &str,
     option: &str,
@@ -287,7 +288,11 @@ pub fn check_destination(
 /// Writes `bytes` to `path` through a temporary file in the same folder, so the file
 /// appears only when complete; on any failure, and on Ctrl-C, the temporary file is
 /// removed and whatever was at `path` before is left as it was.
-pub fn write_atomically_with(path: &Path, bytes: &[u8], sink: &mut dyn Sink) -> io::Result<()> {
+pub(crate) fn write_atomically_with(
+    path: &Path,
+    bytes: &[u8],
+    sink: &mut dyn Sink,
+) -> io::Result<()> {
     let folder = folder_of(path);
     let mut tmp = tempfile::Builder::new()
         .prefix(&temp_prefix())
@@ -325,7 +330,7 @@ pub fn write_atomically_with(path: &Path, bytes: &[u8], sink: &mut dyn Sink) -> 
 /// [`write_atomically_with`] to the real disk, with a message naming what happened,
 /// the file and what to do when it fails. `what` names the file for the reader ("memo"),
 /// `option` how to choose another path.
-pub fn write_output(
+pub(crate) fn write_output(
     path: &Path,
     bytes: &[u8],
     what: &str,
@@ -358,7 +363,7 @@ pub fn write_output(
 
 /// True when process `pid` is known to have ended: Linux `/proc` shows no such
 /// process. Elsewhere nothing is known and the answer is false.
-pub fn process_ended(pid: u32) -> bool {
+pub(crate) fn process_ended(pid: u32) -> bool {
     pid != std::process::id()
         && Path::new("/proc/self").exists()
         && !Path::new("/proc").join(pid.to_string()).exists()
@@ -375,7 +380,7 @@ fn held_by_a_writer(path: &Path) -> bool {
 
 /// Removes the temporary files that killed candor runs left in `folder`, and returns
 /// one sentence per file removed or left (when its writer may still be running).
-pub fn sweep_leftovers(folder: &Path) -> Vec<String> {
+pub(crate) fn sweep_leftovers(folder: &Path) -> Vec<String> {
     let mut notes = Vec::new();
     let Ok(entries) = std::fs::read_dir(folder) else {
         return notes;
@@ -421,7 +426,7 @@ pub fn sweep_leftovers(folder: &Path) -> Vec<String> {
 
 /// What an unfinished path is, for the clean-up after an interruption.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum UnfinishedKind {
+pub(crate) enum UnfinishedKind {
     /// A temporary file about to be renamed over the destination.
     File,
     /// A folder being built into an archive version.
@@ -450,14 +455,14 @@ fn pending() -> MutexGuard<'static, Vec<Pending>> {
 /// A path that must not outlive an interruption: registered while it exists
 /// unfinished, removed by the interrupt handler, forgotten when dropped.
 #[derive(Debug)]
-pub struct Unfinished {
+pub(crate) struct Unfinished {
     id: u64,
 }
 
 impl Unfinished {
     /// Registers `path` (of `kind`, on its way to `destination`) for removal should
     /// candor be interrupted before [`Unfinished::finish`] or the guard is dropped.
-    pub fn register(path: &Path, kind: UnfinishedKind, destination: &Path) -> Unfinished {
+    pub(crate) fn register(path: &Path, kind: UnfinishedKind, destination: &Path) -> Unfinished {
         let id = NEXT_ID.fetch_add(1, Ordering::Relaxed);
         pending().push(Pending {
             id,
@@ -488,7 +493,7 @@ impl Drop for Unfinished {
 /// Installs, once per process, the handler that on Ctrl-C (SIGINT), SIGTERM or SIGHUP
 /// removes every unfinished file and folder, then releases archive locks, says so,
 /// and exits with 128 plus the signal's number ([`EXIT_INTERRUPTED`] for Ctrl-C).
-pub fn clean_up_on_interrupt() {
+pub(crate) fn clean_up_on_interrupt() {
     static ONCE: Once = Once::new();
     ONCE.call_once(|| {
         // Without a handler the default applies: candor stops, and the next run removes

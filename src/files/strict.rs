@@ -76,7 +76,7 @@ impl EntryKind {
 
 /// Why a strict read failed.
 #[derive(Debug)]
-pub enum StrictError {
+pub(crate) enum StrictError {
     /// The path, or a folder on the way to it (by its path relative to the base), is
     /// not what it should be.
     Kind {
@@ -125,7 +125,7 @@ impl StrictError {
 /// following links before it is opened (so a FIFO is never opened and cannot make the
 /// read wait), opened without following a link and without waiting, checked again once
 /// open, and read to at most `limit` bytes.
-pub fn read_inside(base: &Path, rel: &str, limit: u64) -> Result<Vec<u8>, StrictError> {
+pub(crate) fn read_inside(base: &Path, rel: &str, limit: u64) -> Result<Vec<u8>, StrictError> {
     let mut parts = Vec::new();
     for c in Path::new(rel).components() {
         match c {
@@ -156,14 +156,14 @@ pub fn read_inside(base: &Path, rel: &str, limit: u64) -> Result<Vec<u8>, Strict
 
 /// Reads the regular file at `path` (its last part not followed if a link), at most
 /// `limit` bytes, without ever opening a FIFO or a device.
-pub fn read_file(path: &Path, limit: u64) -> Result<Vec<u8>, StrictError> {
+pub(crate) fn read_file(path: &Path, limit: u64) -> Result<Vec<u8>, StrictError> {
     read_regular(path, limit, false)
 }
 
 /// Reads a file a user named outside any archive (a key, an allowed-signers file): a
 /// link to it is followed, but what it leads to must be a regular file, opened without
 /// waiting and read to at most `limit` bytes.
-pub fn read_named(path: &Path, limit: u64) -> Result<Vec<u8>, StrictError> {
+pub(crate) fn read_named(path: &Path, limit: u64) -> Result<Vec<u8>, StrictError> {
     read_regular(path, limit, true)
 }
 

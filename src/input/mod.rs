@@ -14,7 +14,9 @@ use std::collections::HashMap;
 
 pub mod csv;
 
-pub use crate::limits::{MAX_ALIASES, MAX_ALIAS_NODES, MAX_DEPTH, MAX_LIST_ENTRIES, MAX_NODES};
+pub(crate) use crate::limits::{
+    MAX_ALIASES, MAX_ALIAS_NODES, MAX_DEPTH, MAX_LIST_ENTRIES, MAX_NODES,
+};
 
 /// One node of the YAML tree with where it starts.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -56,7 +58,7 @@ impl Node {
     }
 
     /// The scalar's text, if the node is a scalar.
-    pub fn scalar(&self) -> Option<&str> {
+    pub(crate) fn scalar(&self) -> Option<&str> {
         match &self.value {
             Value::Scalar { text, .. } => Some(text),
             _ => None,
@@ -239,7 +241,7 @@ fn control_name(c: char) -> &'static str {
 /// its escapes, other than a line feed or a tab (whose places the validator judges).
 /// Escapes in double quotes (`"\x1b"`, `"\r"`, `"\N"`) get past the check of the
 /// raw bytes in [`first_control`], and would reach the terminal and the memo.
-pub fn value_control(text: &str) -> Option<char> {
+pub(crate) fn value_control(text: &str) -> Option<char> {
     if !may_hold_control(text, true) {
         return None;
     }
@@ -354,7 +356,7 @@ impl DecodeError {
     }
 
     /// How to mend it.
-    pub fn hint(&self) -> String {
+    pub(crate) fn hint(&self) -> String {
         let save = "save the file as UTF-8 (most editors offer the encoding when saving)";
         match self {
             DecodeError::NotUtf8 { byte, .. } if *byte >= 0x80 => format!(
@@ -433,7 +435,7 @@ fn printable(c: char) -> bool {
 /// The first character a text file should not hold (a control character such as NUL,
 /// which appears when binary data or another encoding is pasted in), with where it is.
 /// Positions count characters from 1; a leading byte-order mark is not counted.
-pub fn first_control(text: &str) -> Option<Diagnostic> {
+pub(crate) fn first_control(text: &str) -> Option<Diagnostic> {
     let text = text.strip_prefix(BOM).unwrap_or(text);
     // Most files hold none: a pass over the bytes says so, and only a file that does
     // is read again character by character for the place.

@@ -33,7 +33,7 @@ const ACT_ACT_UNITS: u64 = 365 * 366;
 
 impl DayCount {
     /// Every convention, in the order the deal-file reference lists them.
-    pub const ALL: [DayCount; 6] = [
+    pub(crate) const ALL: [DayCount; 6] = [
         DayCount::Act365F,
         DayCount::Act360,
         DayCount::ActActIsda,
@@ -81,7 +81,7 @@ impl DayCount {
 
     /// Like [`DayCount::units`], naming the series' termination date (its last flow),
     /// which 30E/360 (ISDA) treats differently at the end of February.
-    pub fn units_in_series(
+    pub(crate) fn units_in_series(
         self,
         from: NaiveDate,
         to: NaiveDate,
@@ -125,8 +125,9 @@ impl DayCount {
         }
     }
 
+    #[cfg(test)]
     /// The year fraction as a float, for display and approximate work only.
-    pub fn year_fraction(self, from: NaiveDate, to: NaiveDate) -> f64 {
+    pub(crate) fn year_fraction(self, from: NaiveDate, to: NaiveDate) -> f64 {
         self.units(from, to) as f64 / self.units_per_year() as f64
     }
 }

@@ -8,7 +8,7 @@ use serde::Serialize;
 /// An exact amount as a binary float, within about two units in the last place (the
 /// mantissa and the power of ten are each rounded once, then divided): faster than a
 /// correctly rounded conversion, and the root finder's error bounds allow for it.
-pub fn amount_f64(d: Decimal) -> f64 {
+pub(crate) fn amount_f64(d: Decimal) -> f64 {
     const POW10: [f64; 29] = [
         1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15, 1e16,
         1e17, 1e18, 1e19, 1e20, 1e21, 1e22, 1e23, 1e24, 1e25, 1e26, 1e27, 1e28,
@@ -113,7 +113,7 @@ impl Flows {
 
     /// [`Flows::normalised`] without the copy; free when the flows are already in
     /// order, one to an offset and non-zero (as batch series usually are).
-    pub fn into_normalised(self) -> Flows {
+    pub(crate) fn into_normalised(self) -> Flows {
         let ready = self.points.windows(2).all(|w| w[0].offset < w[1].offset)
             && self.points.iter().all(|p| !p.amount.is_zero());
         if ready {

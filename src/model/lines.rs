@@ -28,10 +28,10 @@ pub enum Units {
 
 impl Units {
     /// The words accepted in a deal file, in the order of [`Units::from_word`].
-    pub const WORDS: [&'static str; 3] = ["ones", "thousands", "millions"];
+    pub(crate) const WORDS: [&'static str; 3] = ["ones", "thousands", "millions"];
 
     /// The unit named by one of [`Units::WORDS`].
-    pub fn from_word(word: &str) -> Option<Units> {
+    pub(crate) fn from_word(word: &str) -> Option<Units> {
         match word {
             "ones" => Some(Units::Ones),
             "thousands" => Some(Units::Thousands),
@@ -67,7 +67,7 @@ pub enum Prices {
 
 impl Prices {
     /// The words accepted in a deal file.
-    pub const WORDS: [&'static str; 2] = ["nominal", "real"];
+    pub(crate) const WORDS: [&'static str; 2] = ["nominal", "real"];
 
     /// The word used in deal files.
     pub fn as_str(self) -> &'static str {
@@ -87,7 +87,7 @@ pub enum Tax {
 
 impl Tax {
     /// The words accepted in a deal file.
-    pub const WORDS: [&'static str; 2] = ["before", "after"];
+    pub(crate) const WORDS: [&'static str; 2] = ["before", "after"];
 
     /// The word used in deal files.
     pub fn as_str(self) -> &'static str {
@@ -109,7 +109,7 @@ pub struct Basis {
 impl Basis {
     /// True when the amounts are real but the rates are not said to be: discounting
     /// real amounts at a nominal rate understates the value (common practice).
-    pub fn real_amounts_nominal_rates(&self) -> bool {
+    pub(crate) fn real_amounts_nominal_rates(&self) -> bool {
         self.prices == Some(Prices::Real) && self.rates != Some(Prices::Real)
     }
 }
@@ -127,7 +127,7 @@ pub enum GrowthStep {
 
 impl GrowthStep {
     /// The words accepted in a deal file.
-    pub const WORDS: [&'static str; 2] = ["year", "period"];
+    pub(crate) const WORDS: [&'static str; 2] = ["year", "period"];
 }
 
 /// A stream generated from its drivers: `count` amounts, one a period, the k-th
@@ -212,7 +212,7 @@ impl Stream {
 /// (Brealey, Myers and Allen, Principles of Corporate Finance, chapter 2, from
 /// memory; docs/methods.md, "Terminal value and generated lines").
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct Terminal {
+pub(crate) struct Terminal {
     /// The first flow after the modelled periods, a year after the value's date, as entered.
     pub next_flow: Decimal,
     /// Its growth a year, for ever.
@@ -224,7 +224,7 @@ pub struct Terminal {
 impl Terminal {
     /// Within this spread (two points) of the discount rate over the growth rate the
     /// value is very sensitive to both, and a caution is raised.
-    pub fn narrow_spread() -> Decimal {
+    pub(crate) fn narrow_spread() -> Decimal {
         Decimal::new(2, 2)
     }
 
@@ -243,7 +243,7 @@ impl Terminal {
     }
 
     /// True when the discount rate is less than two points above the growth rate.
-    pub fn spread_is_narrow(&self) -> bool {
+    pub(crate) fn spread_is_narrow(&self) -> bool {
         self.discount - self.growth < Terminal::narrow_spread()
     }
 }

@@ -12,12 +12,10 @@ pub mod lines;
 mod validate;
 pub mod values;
 
-pub use daycount::DayCount;
-pub use lines::{Basis, Component, NarrowTerminal, Units};
-pub use validate::{
-    validate, ReadCompanion, MAX_BLOCK_CHARS, MAX_DIAGNOSTICS, MAX_FLOWS, MAX_ITEMS,
-    MAX_MEMO_CHARS, MAX_NAME_CHARS, MAX_NOTE_CHARS, MAX_WORD_CHARS,
-};
+pub(crate) use daycount::DayCount;
+pub(crate) use lines::NarrowTerminal;
+pub use lines::{Basis, Component, Units};
+pub use validate::{validate, MAX_FLOWS};
 
 /// A validated deal.
 #[derive(Debug, Clone, Serialize)]
@@ -98,7 +96,7 @@ pub enum Frequency {
 
 impl Frequency {
     /// Every frequency, from the longest period to the shortest.
-    pub const ALL: [Frequency; 6] = [
+    pub(crate) const ALL: [Frequency; 6] = [
         Frequency::Year,
         Frequency::HalfYear,
         Frequency::Quarter,

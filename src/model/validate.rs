@@ -16,10 +16,11 @@ mod v2;
 
 /// Largest shift accepted, in periods or days.
 const MAX_SHIFT: i64 = 100_000;
-pub use crate::limits::{
-    MAX_BLOCK_CHARS, MAX_DIAGNOSTICS, MAX_FLOWS, MAX_ITEMS, MAX_MEMO_CHARS, MAX_NAME_CHARS,
-    MAX_NOTE_CHARS, MAX_SCENARIOS, MAX_TOTAL_FLOWS, MAX_WORD_CHARS,
+pub(crate) use crate::limits::{
+    MAX_BLOCK_CHARS, MAX_DIAGNOSTICS, MAX_ITEMS, MAX_MEMO_CHARS, MAX_NAME_CHARS, MAX_NOTE_CHARS,
+    MAX_SCENARIOS, MAX_WORD_CHARS,
 };
+pub use crate::limits::{MAX_FLOWS, MAX_TOTAL_FLOWS};
 
 const TOP: &[&str] = &[
     "candor",
@@ -148,7 +149,7 @@ impl ReadFlows {
 
 /// Reads the text of a file named in the deal (a CSV of flows), relative to the deal
 /// file; returns the text or a message saying why it cannot be read.
-pub type ReadCompanion<'a> = dyn FnMut(&str) -> Result<String, String> + 'a;
+pub(crate) type ReadCompanion<'a> = dyn FnMut(&str) -> Result<String, String> + 'a;
 
 /// A mapping's fields after the unknown and duplicate keys have been reported.
 struct Fields<'a> {

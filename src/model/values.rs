@@ -5,11 +5,12 @@
 use chrono::NaiveDate;
 use rust_decimal::Decimal;
 
-pub use crate::limits::{MAX_AMOUNT, MAX_RATE, MAX_SCALE, MAX_YEAR, MIN_YEAR};
+pub use crate::limits::MAX_AMOUNT;
+pub(crate) use crate::limits::{MAX_RATE, MAX_SCALE, MAX_YEAR, MIN_YEAR};
 
 /// Why a scalar could not be read, in words for the user.
 #[derive(Debug, Clone, PartialEq, Eq)]
-pub struct ValueError {
+pub(crate) struct ValueError {
     /// What is wrong.
     pub message: String,
     /// How to fix it, where that helps.
@@ -27,7 +28,7 @@ impl ValueError {
 
 /// Reads a plain decimal: optional sign, digits, optional fraction. No exponent,
 /// no thousands separators, no hexadecimal: what the analyst wrote is what is used.
-pub fn parse_decimal(text: &str) -> Result<Decimal, ValueError> {
+pub(crate) fn parse_decimal(text: &str) -> Result<Decimal, ValueError> {
     let t = text.trim();
     let lower = t.to_ascii_lowercase();
     if matches!(
@@ -95,7 +96,7 @@ pub fn parse_decimal(text: &str) -> Result<Decimal, ValueError> {
 /// Reads an amount or a factor as deal files and batch lines both write it
 /// ([`parse_decimal`]); a refusal comes with its code: `number-range` for a number
 /// beyond the limits (too large, too many decimal places), `bad-number` otherwise.
-pub fn read_amount(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
+pub(crate) fn read_amount(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
     parse_decimal(text).map_err(|e| {
         let code = if e.message.contains("out of range") || e.message.contains("decimal places") {
             "number-range"
@@ -109,7 +110,7 @@ pub fn read_amount(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
 /// Reads an annual rate as deal files and batch lines both write it: [`parse_rate`],
 /// then [`check_rate_form`] and [`check_rate`]; a refusal comes with its code,
 /// `bad-number` for text that is not a rate, `rate-range` for a rate out of bounds.
-pub fn read_rate(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
+pub(crate) fn read_rate(text: &str) -> Result<Decimal, (&'static str, ValueError)> {
     let rate = parse_rate(text).map_err(|e| ("bad-number", e))?;
     check_rate_form(text, rate)
         .and_then(|()| check_rate(rate))
@@ -127,7 +128,7 @@ fn out_of_range(t: &str) -> ValueError {
 /// Reads a rate: `8%`, `8.25%` or `0.08`, giving the fraction (0.08) exactly.
 /// Range checks are left to [`check_rate`], so a caller can tell "not a rate" from
 /// "a rate, but absurd".
-pub fn parse_rate(text: &str) -> Result<Decimal, ValueError> {
+pub(crate) fn parse_rate(text: &str) -> Result<Decimal, ValueError> {
     let t = text.trim();
     let (number, percent) = match t.strip_suffix('%') {
         Some(n) => (n.trim_end(), true),
@@ -153,7 +154,7 @@ pub fn parse_rate(text: &str) -> Result<Decimal, ValueError> {
 
 /// Refuses a rate of 100% or more written without a percent sign: `hurdle_rate: 9`
 /// reads as 900%, and is almost always meant as 9%.
-pub fn check_rate_form(text: &str, rate: Decimal) -> Result<(), ValueError> {
+pub(crate) fn check_rate_form(text: &str, rate: Decimal) -> Result<(), ValueError> {
     let t = text.trim();
     if t.ends_with('%') || rate.abs() < Decimal::ONE {
         return Ok(());
@@ -171,7 +172,7 @@ pub fn check_rate_form(text: &str, rate: Decimal) -> Result<(), ValueError> {
 }
 
 /// Checks that an annual rate lies in (-100%, 1,000,000%].
-pub fn check_rate(rate: Decimal) -> Result<(), ValueError> {
+pub(crate) fn check_rate(rate: Decimal) -> Result<(), ValueError> {
     if rate <= -Decimal::ONE {
         return Err(ValueError::new(
             format!("a rate of {}% is not above -100%", percent(rate)),
@@ -191,10 +192,10 @@ fn percent(rate: Decimal) -> String {
     (rate * Decimal::ONE_HUNDRED).normalize().to_string()
 }
 
-pub use crate::diag::grouped;
+pub(crate) use crate::diag::grouped;
 
 /// Reads a calendar date written `YYYY-MM-DD`.
-pub fn parse_date(text: &str) -> Result<NaiveDate, ValueError> {
+pub(crate) fn parse_date(text: &str) -> Result<NaiveDate, ValueError> {
     let t = text.trim();
     let b = t.as_bytes();
     let shape_ok = b.len() == 10
@@ -230,7 +231,7 @@ pub fn parse_date(text: &str) -> Result<NaiveDate, ValueError> {
 /// the testing (XTS) and "no currency" (XXX) codes. List written from memory of the
 /// ISO 4217 amendments up to 2025 (XCG replacing ANG, ZWG replacing ZWL, SLE
 /// replacing SLL); extend it when ISO publishes an amendment.
-pub const CURRENCIES: &[&str] = &[
+pub(crate) const CURRENCIES: &[&str] = &[
     "AED", "AFN", "ALL", "AMD", "AOA", "ARS", "AUD", "AWG", "AZN", "BAM", "BBD", "BDT", "BGN",
     "BHD", "BIF", "BMD", "BND", "BOB", "BOV", "BRL", "BSD", "BTN", "BWP", "BYN", "BZD", "CAD",
     "CDF", "CHE", "CHF", "CHW", "CLF", "CLP", "CNY", "COP", "COU", "CRC", "CUP", "CVE", "CZK",
@@ -248,7 +249,7 @@ pub const CURRENCIES: &[&str] = &[
 ];
 
 /// Checks a currency code: three upper-case letters naming a current ISO 4217 currency.
-pub fn check_currency(text: &str) -> Result<String, ValueError> {
+pub(crate) fn check_currency(text: &str) -> Result<String, ValueError> {
     let t = text.trim();
     if CURRENCIES.binary_search(&t).is_ok() {
         return Ok(t.to_string());

@@ -34,7 +34,7 @@ pub fn scenario_cautions(s: &ScenarioAnalysis, currency: &str) -> Vec<CautionTex
 }
 
 /// One caution's title and paragraph.
-pub fn caution_text(c: &Caution, f: &CautionFigures, currency: &str) -> CautionText {
+pub(crate) fn caution_text(c: &Caution, f: &CautionFigures, currency: &str) -> CautionText {
     let w = Wording::new(f, currency);
     let (title, text) = match c {
         Caution::Uncertified => uncertified(&w, f),
@@ -450,7 +450,7 @@ fn join_and(items: &[String]) -> String {
 }
 
 /// A span of time in words: days under a month, months under a year, else years.
-pub fn years_phrase(y: f64) -> String {
+pub(crate) fn years_phrase(y: f64) -> String {
     let days = (y * 365.0).round() as i64;
     if y < 1.0 / 12.0 - 1e-9 {
         if days <= 1 {

@@ -33,7 +33,7 @@ pub fn analysis(a: &Analysis) -> Result<Value, serde_json::Error> {
 }
 
 /// [`analysis`] as the command prints it: pretty, with a final newline.
-pub fn analysis_text(a: &Analysis) -> Result<String, serde_json::Error> {
+pub(crate) fn analysis_text(a: &Analysis) -> Result<String, serde_json::Error> {
     Ok(serde_json::to_string_pretty(&analysis(a)?)? + "\n")
 }
 

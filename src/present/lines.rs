@@ -8,7 +8,7 @@ use crate::model::lines::{Basis, Units};
 
 /// How the amounts were entered and how they are shown, e.g. "entered in thousands
 /// of GBP; every amount shown here in GBP".
-pub fn units_words(units: Units, currency: &str) -> String {
+pub(crate) fn units_words(units: Units, currency: &str) -> String {
     match units {
         Units::Ones => format!("entered and shown in {currency}"),
         other => format!(
@@ -20,7 +20,7 @@ pub fn units_words(units: Units, currency: &str) -> String {
 
 /// The basis in words, e.g. "nominal amounts, after tax; rates nominal"; the parts the
 /// deal does not state are said to be not stated.
-pub fn basis_words(b: &Basis) -> String {
+pub(crate) fn basis_words(b: &Basis) -> String {
     let prices = b.prices.map_or("prices not stated".to_string(), |p| {
         format!("{} amounts", p.as_str())
     });
@@ -37,7 +37,7 @@ pub fn basis_words(b: &Basis) -> String {
 
 /// The peak exposure, e.g. "GBP -3,600,000.00 in period 0 (2027-04-01)", or "the
 /// running total never goes below zero".
-pub fn exposure_words(e: &Exposure, currency: &str, style: Style) -> String {
+pub(crate) fn exposure_words(e: &Exposure, currency: &str, style: Style) -> String {
     if e.years.is_none() {
         return "the running total never goes below zero".to_string();
     }
@@ -53,7 +53,7 @@ pub fn exposure_words(e: &Exposure, currency: &str, style: Style) -> String {
 }
 
 /// One line's totals: "net GBP 10,000,000.00 (in 10,000,000.00, out 0.00)".
-pub fn line_totals(l: &LineSummary, currency: &str, style: Style) -> String {
+pub(crate) fn line_totals(l: &LineSummary, currency: &str, style: Style) -> String {
     format!(
         "net {} over {} amount{}",
         money_in(l.net, currency, style),

@@ -19,7 +19,7 @@ pub mod summary;
 pub mod terminal;
 pub mod words;
 
-pub use cautions::{scenario_cautions as caution_text_list, CautionText};
+pub use cautions::scenario_cautions as caution_text_list;
 pub use numbers::*;
 
 /// How figures are written for where they are read.

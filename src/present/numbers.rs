@@ -10,16 +10,16 @@ use std::ops::RangeInclusive;
 
 /// The minus sign used for negatives in print (U+2212): it cannot be mistaken for a
 /// hyphen and lines up with the digits.
-pub const MINUS: char = '\u{2212}';
+pub(crate) const MINUS: char = '\u{2212}';
 
 /// At or beyond this size a binary float printed in full shows digits it does not
 /// hold (about 16 significant digits, of which the last may already be noise), so
 /// rates in percent and ratios switch to a power of ten.
-pub const FULL_DIGITS_LIMIT: f64 = 1e12;
+pub(crate) const FULL_DIGITS_LIMIT: f64 = 1e12;
 
 /// Digits grouped in threes with commas: `1234567` is `1,234,567`. Takes the integer
 /// digits only (no sign, no fraction).
-pub fn group_thousands(digits: &str) -> String {
+pub(crate) fn group_thousands(digits: &str) -> String {
     let mut out = String::with_capacity(digits.len() + digits.len() / 3);
     for (i, c) in digits.chars().enumerate() {
         if i > 0 && (digits.len() - i).is_multiple_of(3) {
@@ -53,12 +53,12 @@ pub fn money(amount: Decimal, style: Style) -> String {
 }
 
 /// Money with its currency code, e.g. `EUR -1,234.50`.
-pub fn money_in(amount: Decimal, currency: &str, style: Style) -> String {
+pub(crate) fn money_in(amount: Decimal, currency: &str, style: Style) -> String {
     format!("{currency} {}", money(amount, style))
 }
 
 /// A float as `m × 10^e` with `decimals` decimals in the mantissa, e.g. `6.00 × 10^59`.
-pub fn scientific(value: f64, decimals: usize) -> String {
+pub(crate) fn scientific(value: f64, decimals: usize) -> String {
     let text = format!("{:.*e}", decimals.min(12), value);
     match text.split_once('e') {
         Some((m, e)) => format!("{m} \u{00d7} 10^{e}"),
@@ -96,7 +96,7 @@ pub fn ratio(value: f64, decimals: usize, style: Style) -> String {
 }
 
 /// An exact ratio with two decimals (the money multiple in print).
-pub fn decimal_ratio(d: Decimal, style: Style) -> String {
+pub(crate) fn decimal_ratio(d: Decimal, style: Style) -> String {
     let text = format!("{:.2}", d.round_dp(2).abs());
     if d.is_sign_negative() && !d.round_dp(2).is_zero() {
         format!("{}{text}", minus(style))
@@ -113,7 +113,7 @@ pub fn approx(amount: &ApproxAmount, style: Style) -> String {
 
 /// The NPV at the hurdle as it can be stated: money to the cent, its size when it is
 /// beyond an exact decimal's range, or `not computable`; with the currency code.
-pub fn npv_in(
+pub(crate) fn npv_in(
     npv: Option<Decimal>,
     beyond: Option<&ApproxAmount>,
     currency: &str,
@@ -140,7 +140,7 @@ pub fn scenario_npv(s: &ScenarioAnalysis, style: Style) -> String {
 
 /// A scenario's NPV at the hurdle with the currency code: `EUR 1,234.00`,
 /// `about EUR 6.0 × 10^62`.
-pub fn scenario_npv_in(s: &ScenarioAnalysis, currency: &str, style: Style) -> String {
+pub(crate) fn scenario_npv_in(s: &ScenarioAnalysis, currency: &str, style: Style) -> String {
     npv_in(
         s.npv_at_hurdle,
         s.npv_at_hurdle_approx.as_ref(),
@@ -210,14 +210,14 @@ fn grouped_percent(rate: f64, decimals: usize, minus: &str) -> String {
 
 /// An exact rate (as the deal file states it) in percent, with no more digits than it
 /// has: 0.0925 is `9.25%`, 0.09 is `9%`.
-pub fn exact_percent(rate: Decimal) -> String {
+pub(crate) fn exact_percent(rate: Decimal) -> String {
     format!("{}%", (rate * Decimal::from(100)).normalize())
 }
 
 /// `decimals`, or more when a rate above -100% would round to -100% at `decimals`
 /// places (a hurdle of -99.9999% is not a total loss): the fewest places, up to 15,
 /// at which it prints above -100%.
-pub fn places_short_of_minus_100(rate: f64, decimals: usize) -> usize {
+pub(crate) fn places_short_of_minus_100(rate: f64, decimals: usize) -> usize {
     let mut places = decimals;
     let minus_100 = |p: usize| format!("{:.p$}", rate * 100.0) == format!("{:.p$}", -100.0);
     while rate > -1.0 && places < 15 && minus_100(places) {
@@ -231,7 +231,11 @@ pub fn places_short_of_minus_100(rate: f64, decimals: usize) -> usize {
 /// `style`, or the most places when none does. Rounding is not monotone in the places
 /// (0.125 and 0.1249 differ at two places and not at three), so the search starts at
 /// the smallest.
-pub fn decimals_to_separate(rates: &[f64], style: Style, places: RangeInclusive<usize>) -> usize {
+pub(crate) fn decimals_to_separate(
+    rates: &[f64],
+    style: Style,
+    places: RangeInclusive<usize>,
+) -> usize {
     let mut distinct: Vec<f64> = rates.iter().copied().filter(|r| r.is_finite()).collect();
     distinct.sort_by(f64::total_cmp);
     distinct.dedup();
@@ -270,7 +274,7 @@ pub fn root_rate(root: &Root, decimals: usize, style: Style) -> String {
 
 /// An interval of rates rounded outwards (the low end down, the high end up), so the
 /// printed interval still contains the root: `24.99999% to 25.00001%`.
-pub fn rate_interval(lo: f64, hi: f64, decimals: usize, style: Style) -> String {
+pub(crate) fn rate_interval(lo: f64, hi: f64, decimals: usize, style: Style) -> String {
     let outward = |rate: f64, up: bool| -> (f64, usize) {
         if !rate.is_finite() || (rate * 100.0).abs() >= FULL_DIGITS_LIMIT {
             return (rate, decimals);
@@ -311,7 +315,7 @@ pub fn years(years: f64) -> String {
 }
 
 /// A long date: `30 November 2026`.
-pub fn date_long(date: NaiveDate) -> String {
+pub(crate) fn date_long(date: NaiveDate) -> String {
     const MONTHS: [&str; 12] = [
         "January",
         "February",

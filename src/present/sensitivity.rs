@@ -15,7 +15,7 @@ use rust_decimal::prelude::*;
 use std::fmt::Write as _;
 
 /// The name of a tornado bar.
-pub fn bar_name(bar: &TornadoBar, periodic: bool) -> String {
+pub(crate) fn bar_name(bar: &TornadoBar, periodic: bool) -> String {
     match bar.kind {
         MoveKind::Component => bar.label.clone(),
         MoveKind::HurdleRate => "hurdle rate".to_string(),
@@ -67,7 +67,7 @@ fn sign_word(s: Sign) -> &'static str {
 
 /// One break-even as a sentence, e.g. "inflows can fall 18.4% before the NPV at 9.00%
 /// turns negative".
-pub fn break_even_sentence(b: &BreakEven, hurdle: f64, style: Style) -> String {
+pub(crate) fn break_even_sentence(b: &BreakEven, hurdle: f64, style: Style) -> String {
     let h = percent(hurdle, 2, style);
     let name = &b.label;
     match &b.outcome {
@@ -138,7 +138,7 @@ fn band_end(e: &BandEnd, lower: bool, style: Style) -> String {
 
 /// The hurdle band as a sentence, e.g. "this deal adds value for any hurdle between
 /// 5.60% and 15.65% a year".
-pub fn band_sentence(band: &HurdleBand, style: Style) -> String {
+pub(crate) fn band_sentence(band: &HurdleBand, style: Style) -> String {
     if !band.certified {
         return "the hurdle rates at which this deal adds value cannot be stated, since its count of IRRs is not certified".to_string();
     }
@@ -177,7 +177,7 @@ pub fn factor(f: f64) -> String {
 }
 
 /// What the count map of one component shows, in a sentence.
-pub fn count_map_sentence(m: &CountMap, style: Style) -> String {
+pub(crate) fn count_map_sentence(m: &CountMap, style: Style) -> String {
     let range = format!(
         "{} and {}",
         factor_short(m.range[0]),
@@ -254,7 +254,7 @@ fn factor_short(f: f64) -> String {
 }
 
 /// The headlines as sentences, for the decision page.
-pub fn headline_sentences(
+pub(crate) fn headline_sentences(
     s: &Sensitivity,
     hurdle: f64,
     currency: &str,
@@ -298,7 +298,7 @@ pub fn headline_sentences(
 }
 
 /// The short sensitivity block of the terminal report.
-pub fn terminal_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
+pub(crate) fn terminal_block(o: &mut String, s: &ScenarioAnalysis, currency: &str) {
     let Some(sens) = &s.sensitivity else { return };
     let t = Style::Terminal;
     let periodic = s.periods_per_year.is_some();

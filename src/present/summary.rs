@@ -24,7 +24,7 @@ pub enum Scale {
 impl Scale {
     /// The scale for amounts whose largest size is `largest`: millions from 1,000,000,
     /// thousands from 10,000, else whole units.
-    pub fn for_largest(largest: Decimal) -> Scale {
+    pub(crate) fn for_largest(largest: Decimal) -> Scale {
         if largest >= Decimal::from(1_000_000) {
             Scale::Millions
         } else if largest >= Decimal::from(10_000) {
@@ -62,7 +62,7 @@ impl Scale {
     }
 
     /// An amount rounded to this scale with its currency: `EUR −0.13 million`.
-    pub fn amount_in(self, amount: Decimal, currency: &str, style: Style) -> String {
+    pub(crate) fn amount_in(self, amount: Decimal, currency: &str, style: Style) -> String {
         let word = match self {
             Scale::Ones => "",
             Scale::Thousands => " thousand",
@@ -139,7 +139,7 @@ pub fn when(flow: &FlowRow) -> String {
 }
 
 /// A count in words: `none`, `one`, `two`, ... up to ten, then digits.
-pub fn count_word(n: usize) -> String {
+pub(crate) fn count_word(n: usize) -> String {
     const WORDS: [&str; 11] = [
         "none", "one", "two", "three", "four", "five", "six", "seven", "eight", "nine", "ten",
     ];
@@ -150,7 +150,7 @@ pub fn count_word(n: usize) -> String {
 
 /// The set of real IRRs in words: `none`, `one: 12.30%`, `two: 5.60% and 15.60%`; a
 /// multiple root says so, and an uncertified count says it may be incomplete.
-pub fn irr_set(s: &ScenarioAnalysis, style: Style) -> String {
+pub(crate) fn irr_set(s: &ScenarioAnalysis, style: Style) -> String {
     let decimals = scenario_rate_decimals(s);
     let rates: Vec<String> = s
         .irr
@@ -179,7 +179,7 @@ pub fn irr_set(s: &ScenarioAnalysis, style: Style) -> String {
 }
 
 /// "a", "a and b", "a, b and c".
-pub fn join_and(items: &[String]) -> String {
+pub(crate) fn join_and(items: &[String]) -> String {
     match items.len() {
         0 => String::new(),
         1 => items[0].clone(),
@@ -256,7 +256,7 @@ pub fn hurdle_band(s: &ScenarioAnalysis, style: Style) -> String {
 }
 
 /// What the NPV rule says at the hurdle: `accept (NPV above zero)`.
-pub fn npv_rule(d: Decision) -> &'static str {
+pub(crate) fn npv_rule(d: Decision) -> &'static str {
     match d {
         Decision::Accept => "accept (NPV above zero)",
         Decision::Reject => "reject (NPV below zero)",
@@ -266,7 +266,7 @@ pub fn npv_rule(d: Decision) -> &'static str {
 
 /// A payback in words: a time in years (periodic flows) or a date (dated flows), "does
 /// not pay back within the forecast", or "not applicable" with the reason.
-pub fn payback_words(s: &ScenarioAnalysis, discounted: bool) -> String {
+pub(crate) fn payback_words(s: &ScenarioAnalysis, discounted: bool) -> String {
     let p = &s.payback;
     let (status, years, date) = if discounted {
         (p.discounted_status, p.discounted_years, &p.discounted_date)
@@ -293,7 +293,7 @@ pub fn payback_words(s: &ScenarioAnalysis, discounted: bool) -> String {
 }
 
 /// How a payback is placed in time, in words.
-pub fn payback_method(m: PaybackMethod) -> &'static str {
+pub(crate) fn payback_method(m: PaybackMethod) -> &'static str {
     match m {
         PaybackMethod::WithinPeriod => {
             "when the running total of the flows turns non-negative for good; interpolated \
@@ -308,7 +308,7 @@ pub fn payback_method(m: PaybackMethod) -> &'static str {
 
 /// The point the NPV is discounted to: the series' start (period 0, or the earliest
 /// date), as a date when the flows have dates.
-pub fn valuation_point(s: &ScenarioAnalysis, periodic_start: Option<NaiveDate>) -> String {
+pub(crate) fn valuation_point(s: &ScenarioAnalysis, periodic_start: Option<NaiveDate>) -> String {
     match (s.periods_per_year, periodic_start) {
         (Some(_), Some(start)) => format!("{} (period 0)", date_long(start)),
         (Some(_), None) => "period 0".to_string(),
@@ -347,7 +347,7 @@ pub fn caution_headline(code: &str) -> &'static str {
 /// that asks the committee to commit (approve, accept, invest, fund), `Some(false)` for
 /// one that asks it not to (decline, reject, do not, abandon), `None` otherwise (defer,
 /// proceed to a further step, a sentence that opens another way).
-pub fn recommendation_leans(text: &str) -> Option<bool> {
+pub(crate) fn recommendation_leans(text: &str) -> Option<bool> {
     let lower = text.trim_start().to_lowercase();
     let first: String = lower
         .chars()
@@ -364,7 +364,7 @@ pub fn recommendation_leans(text: &str) -> Option<bool> {
 /// A note for the decision page when the recommendation or the committee's decision
 /// goes against what the NPV rule says in the base case (the first scenario): its
 /// title and its paragraph. The memo never blocks such a decision; it says so.
-pub fn against_figures(
+pub(crate) fn against_figures(
     recommendation: Option<&str>,
     signoff: Option<SignoffDecision>,
     analysis: &Analysis,

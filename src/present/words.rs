@@ -6,13 +6,13 @@ use crate::model::SignoffDecision;
 
 /// What a figure that does not exist for a deal reads as (a MIRR without flows of
 /// both signs, a multiple without outflows).
-pub const NOT_DEFINED: &str = "not defined";
+pub(crate) const NOT_DEFINED: &str = "not defined";
 
 /// A scenario's name as a heading: the scenario called `base` is the `Base case`; a
 /// scenario key is turned into words (`restoration_overrun` reads `Restoration
 /// overrun`). A label given in the deal file is used as written instead
 /// ([`scenario_title`]).
-pub fn scenario_label(name: &str) -> String {
+pub(crate) fn scenario_label(name: &str) -> String {
     if name == "base" {
         return "Base case".to_string();
     }
@@ -31,7 +31,7 @@ pub fn scenario_label(name: &str) -> String {
 
 /// A scenario's heading: its label from the deal file when it has one, else
 /// [`scenario_label`] of its key.
-pub fn scenario_title(label: Option<&str>, name: &str) -> String {
+pub(crate) fn scenario_title(label: Option<&str>, name: &str) -> String {
     match label {
         Some(l) if !l.trim().is_empty() => l.to_string(),
         _ => scenario_label(name),
@@ -50,7 +50,7 @@ pub fn decision(d: Decision) -> &'static str {
 }
 
 /// The decision as a verb in a sentence: `accept`, `reject`, `neither accept nor reject`.
-pub fn decision_verb(d: Decision) -> &'static str {
+pub(crate) fn decision_verb(d: Decision) -> &'static str {
     match d {
         Decision::Indifferent => "neither accept nor reject",
         other => decision(other),
@@ -67,7 +67,7 @@ pub fn stance(s: Stance) -> &'static str {
 }
 
 /// A stance in one word (the pack's summary table): `investment`, `borrowing`, `neutral`.
-pub fn stance_word(s: Stance) -> &'static str {
+pub(crate) fn stance_word(s: Stance) -> &'static str {
     match s {
         Stance::Investment => "investment",
         Stance::Borrowing => "borrowing",
@@ -76,7 +76,7 @@ pub fn stance_word(s: Stance) -> &'static str {
 }
 
 /// A stance as a noun after "a net" in prose: `investment`, `break-even position`.
-pub fn stance_noun(s: Stance) -> &'static str {
+pub(crate) fn stance_noun(s: Stance) -> &'static str {
     match s {
         Stance::Neutral => "break-even position",
         other => stance_word(other),
@@ -84,7 +84,7 @@ pub fn stance_noun(s: Stance) -> &'static str {
 }
 
 /// A stance with what it means for the decision (the memo).
-pub fn stance_explained(s: Stance) -> &'static str {
+pub(crate) fn stance_explained(s: Stance) -> &'static str {
     match s {
         Stance::Investment => "net investment at the hurdle, so a rate above the hurdle adds value",
         Stance::Borrowing => "net borrowing at the hurdle, so a rate below the hurdle adds value",
@@ -104,7 +104,7 @@ pub fn balance_kind(k: BalanceKind) -> &'static str {
 /// A balance kind with what it means (the memo), in the balance table's sign
 /// convention: a negative balance is money the project still owes the investor, a
 /// positive one money the investor in effect owes the project.
-pub fn balance_kind_explained(k: BalanceKind) -> &'static str {
+pub(crate) fn balance_kind_explained(k: BalanceKind) -> &'static str {
     match k {
         BalanceKind::PureInvestment => {
             "pure investment: every balance before the last flow is zero or negative, so the \
@@ -134,7 +134,7 @@ pub fn multiplicity(m: u32) -> String {
 /// The period of a periodic clock with `per_year` periods a year, as it follows a rate:
 /// "a month" for 12. `None` for a yearly clock (the annual rate says it all) and for
 /// dated flows.
-pub fn per_period(per_year: Option<u32>) -> Option<&'static str> {
+pub(crate) fn per_period(per_year: Option<u32>) -> Option<&'static str> {
     Some(match per_year? {
         1 => return None,
         2 => "a half-year",
@@ -158,7 +158,7 @@ pub fn signoff(d: Option<SignoffDecision>) -> &'static str {
 }
 
 /// The memo's status line for a sign-off: `Approved`, or a draft with the reason.
-pub fn signoff_status(d: Option<SignoffDecision>) -> &'static str {
+pub(crate) fn signoff_status(d: Option<SignoffDecision>) -> &'static str {
     match d {
         Some(SignoffDecision::Approved) => "Approved",
         Some(SignoffDecision::Declined) => "DRAFT (declined by the committee)",

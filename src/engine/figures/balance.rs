@@ -8,7 +8,7 @@ use super::*;
 /// NaN). A balance that is a billionth or less of the two terms it was made from is
 /// cancellation noise (the rate is known to a few ulps, and at large rates the terms
 /// are large), and counts as exactly zero.
-pub fn balances_f64(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
+pub(crate) fn balances_f64(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
     let mut out = Vec::with_capacity(pts.len());
     let mut bal = 0.0f64;
     let mut prev_t: Option<f64> = None;
@@ -34,7 +34,7 @@ pub fn balances_f64(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
 /// by a factor below one), backwards from `F_n = 0` when it is above 0%
 /// (`F_(k-1) = (F_k - C_k) (1 + rate)^(-dt)`). Forwards at a large rate, an error of
 /// one ulp in the rate grows by the growth factor at every step.
-pub fn balances_at_root(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
+pub(crate) fn balances_at_root(pts: &[(f64, f64)], log_growth: f64) -> Vec<f64> {
     if log_growth.is_nan() || log_growth <= 0.0 || pts.is_empty() {
         return balances_f64(pts, log_growth);
     }
@@ -105,11 +105,12 @@ pub(super) fn growth_ratio(d: f64, dt: f64) -> f64 {
     }
 }
 
+#[cfg(test)]
 /// Present value at the hurdle of the capital stream `x_j = -F_j` (j < n) at the rate
 /// `k = e^log_growth - 1`, weighted for uneven intervals (Hazen 2003, generalised):
 /// `PV = sum_j x_j (1+h)^(-t_(j+1)) [(1+k)^dt_j - (1+h)^dt_j] / (k - h)`.
 /// For every `k`, `NPV(h) = (k - h) PV + F_n (1+h)^(-t_n)`, so at an IRR `NPV(h) = (k - h) PV`.
-pub fn capital_pv(flows: &Flows, log_growth: f64, hurdle: f64) -> f64 {
+pub(crate) fn capital_pv(flows: &Flows, log_growth: f64, hurdle: f64) -> f64 {
     capital_pv_terms(&points_f64(flows), log_growth, hurdle).0
 }
 
@@ -167,7 +168,7 @@ pub fn stance(flows: &Flows, log_growth: f64, hurdle: f64) -> Stance {
 
 /// The decision an IRR `k` gives at the hurdle `h` with its stance (Hazen 2003): a net
 /// investment is accepted when `k > h`, a net borrowing when `k < h`.
-pub fn decision_for_root(k: f64, h: f64, stance: Stance) -> Decision {
+pub(crate) fn decision_for_root(k: f64, h: f64, stance: Stance) -> Decision {
     let sign = match stance {
         Stance::Investment => 1.0,
         Stance::Borrowing => -1.0,

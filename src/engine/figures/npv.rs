@@ -29,7 +29,7 @@ pub(super) fn npv_dd(flows: &Flows, base: Dd) -> Dd {
 
 /// The sign of the NPV at an annual rate, from the double-double NPV: 0 when it is
 /// within 1e-24 of the flows' size (indistinguishable from zero at that precision).
-pub fn npv_sign(flows: &Flows, annual_rate: f64) -> i8 {
+pub(crate) fn npv_sign(flows: &Flows, annual_rate: f64) -> i8 {
     if annual_rate.is_nan() || annual_rate <= -1.0 {
         return 0;
     }
@@ -74,18 +74,19 @@ pub(super) fn f64_to_cents(x: f64) -> Decimal {
 
 /// The NPV at a hurdle as far as the engine can state it.
 #[derive(Debug, Clone, Copy, PartialEq)]
-pub enum NpvAt {
+pub(crate) enum NpvAt {
     /// Rounded to the cent, half away from zero.
     Cents(Decimal),
     /// Beyond Decimal's range (about 7.9e28): the sign and an approximate size.
     Beyond(ApproxAmount),
 }
 
+#[cfg(test)]
 /// NPV at `annual_rate`, discounted to the series' start, each flow by
 /// `(1 + rate)^(-offset / units_per_year)`, rounded to the cent half away from zero.
 /// `None` when the rate is -100% or lower, or the value is beyond Decimal's range or
 /// cannot be told from zero (see [`npv_at`]).
-pub fn npv_exact(flows: &Flows, annual_rate: Decimal) -> Option<Decimal> {
+pub(crate) fn npv_exact(flows: &Flows, annual_rate: Decimal) -> Option<Decimal> {
     match npv_at(flows, annual_rate)? {
         NpvAt::Cents(c) => Some(c),
         NpvAt::Beyond(_) => None,
@@ -121,7 +122,7 @@ pub(super) const MAX_EXACT_BITS: u64 = 1 << 25;
 /// (a non-integer power of a rational that is not a perfect power), so the NPV cannot
 /// be exactly half a cent and a value within the bound of a tie is the only doubt
 /// left; the double-double rounding is kept there.
-pub fn npv_at(flows: &Flows, annual_rate: Decimal) -> Option<NpvAt> {
+pub(crate) fn npv_at(flows: &Flows, annual_rate: Decimal) -> Option<NpvAt> {
     let base = Dd::ONE + Dd::from_decimal(annual_rate);
     if base.hi <= 0.0 {
         return None;
@@ -311,7 +312,7 @@ pub(super) fn log10_big(x: &BigInt) -> f64 {
 }
 
 /// NPV at an annual rate in binary floats, for drawing and searching (NaN at or below -100%).
-pub fn npv_f64(flows: &Flows, annual_rate: f64) -> f64 {
+pub(crate) fn npv_f64(flows: &Flows, annual_rate: f64) -> f64 {
     if annual_rate.is_nan() || annual_rate <= -1.0 {
         return f64::NAN;
     }

@@ -172,8 +172,9 @@ pub(super) fn sign_bounds_same_scale(amounts: &[Decimal]) -> SignBounds {
     SignBounds::new(v.changes, f.changes, b.changes)
 }
 
+#[cfg(test)]
 /// Sign-change bounds of a netted series: Descartes, above 0%, below 0%.
-pub fn sign_bounds(amounts: &[Decimal]) -> SignBounds {
+pub(crate) fn sign_bounds(amounts: &[Decimal]) -> SignBounds {
     match small_integers(amounts) {
         Some(ints) => sign_bounds_of_integers(ints),
         None => sign_bounds_wide(amounts),

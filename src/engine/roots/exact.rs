@@ -40,23 +40,23 @@ use rust_decimal::Decimal;
 /// Work allowed for one series, in word operations (see [`Work`]): about 100 ms on
 /// the development machine in the test build (measured by `budget_table` below: the
 /// work per millisecond varies with the size of the numbers, 0.1 to 0.25 million).
-pub const WORK_LIMIT: u64 = 12_000_000;
+pub(crate) const WORK_LIMIT: u64 = 12_000_000;
 
 /// A polynomial with integer coefficients, the coefficient of x^i at index i, with no
 /// zero leading coefficient (the zero polynomial is empty).
-pub type Poly = Vec<BigInt>;
+pub(crate) type Poly = Vec<BigInt>;
 
 /// The exact work spent, counted in 64-bit word operations of the big-integer
 /// arithmetic (estimated per operation from the operands' sizes).
 #[derive(Debug)]
-pub struct Work {
+pub(crate) struct Work {
     spent: u64,
     limit: u64,
 }
 
 /// The budget ran out.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct OutOfBudget;
+pub(crate) struct OutOfBudget;
 
 impl Work {
     /// A budget of `limit` word operations.
@@ -65,7 +65,7 @@ impl Work {
     }
 
     /// Word operations spent so far.
-    pub fn spent(&self) -> u64 {
+    pub(crate) fn spent(&self) -> u64 {
         self.spent
     }
 
@@ -100,7 +100,7 @@ fn degree(p: &[BigInt]) -> usize {
 }
 
 /// The amounts at a common decimal scale, as integers.
-pub fn integer_amounts(amounts: &[Decimal]) -> Vec<BigInt> {
+pub(crate) fn integer_amounts(amounts: &[Decimal]) -> Vec<BigInt> {
     let scale = amounts.iter().map(|a| a.scale()).max().unwrap_or(0);
     amounts
         .iter()
@@ -115,7 +115,7 @@ pub fn integer_amounts(amounts: &[Decimal]) -> Vec<BigInt> {
 }
 
 /// `P(x) = sum c_k x^(N - n_k)` for exponents `n_k` increasing from 0 to N.
-pub fn npv_polynomial(amounts: &[Decimal], exps: &[u64]) -> Poly {
+pub(crate) fn npv_polynomial(amounts: &[Decimal], exps: &[u64]) -> Poly {
     let big_n = exps.last().copied().unwrap_or(0) as usize;
     let mut p: Poly = vec![BigInt::zero(); big_n + 1];
     for (c, &e) in integer_amounts(amounts).into_iter().zip(exps) {
@@ -539,7 +539,7 @@ fn inner_sign(
 /// [lo_num / lo_den, hi_num / hi_den] (a point when the root is known exactly), with
 /// its multiplicity.
 #[derive(Debug, Clone)]
-pub struct ExactRoot {
+pub(crate) struct ExactRoot {
     /// Lower end in x, numerator.
     pub lo_num: BigInt,
     /// Lower end in x, denominator (positive).
@@ -555,7 +555,7 @@ pub struct ExactRoot {
 }
 
 /// Every positive root of `p` (not zero at 0), ascending, with multiplicities.
-pub fn positive_roots(p: &[BigInt], work: &mut Work) -> Result<Vec<ExactRoot>, OutOfBudget> {
+pub(crate) fn positive_roots(p: &[BigInt], work: &mut Work) -> Result<Vec<ExactRoot>, OutOfBudget> {
     // The square-free chain.
     let mut chain: Vec<Poly> = vec![primitive(p.to_vec(), work)?];
     loop {
@@ -818,7 +818,7 @@ fn scale2(mut v: f64, mut e: i64) -> f64 {
 }
 
 /// Floats `lo <= num / den <= hi` (den > 0).
-pub fn ratio_bounds(num: &BigInt, den: &BigInt) -> (f64, f64) {
+pub(crate) fn ratio_bounds(num: &BigInt, den: &BigInt) -> (f64, f64) {
     if num.is_zero() {
         return (0.0, 0.0);
     }
@@ -856,7 +856,7 @@ fn pad_up(v: f64) -> f64 {
 /// taken as ln_1p of the exactly computed rate, so that the relative error stays
 /// small however close to 0% the rate is; elsewhere as ln of the ratio. Both rest on
 /// the monotonicity of the functions and [`LOG_ULPS`].
-pub fn log_bounds(num: &BigInt, den: &BigInt) -> (f64, f64) {
+pub(crate) fn log_bounds(num: &BigInt, den: &BigInt) -> (f64, f64) {
     if num == den {
         return (0.0, 0.0);
     }
@@ -872,7 +872,7 @@ pub fn log_bounds(num: &BigInt, den: &BigInt) -> (f64, f64) {
 }
 
 /// Floats bounding ln(1 + rate) for an exact decimal rate above -100%.
-pub fn log_growth_bounds(rate: Decimal) -> Option<(f64, f64)> {
+pub(crate) fn log_growth_bounds(rate: Decimal) -> Option<(f64, f64)> {
     let growth = Decimal::ONE.checked_add(rate)?;
     if growth <= Decimal::ZERO {
         return None;

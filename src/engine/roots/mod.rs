@@ -46,7 +46,6 @@ use num_bigint::BigInt;
 use num_traits::{One, Zero};
 use rust_decimal::prelude::*;
 
-pub use bounds::sign_bounds;
 use bounds::*;
 use quick::*;
 use search::*;

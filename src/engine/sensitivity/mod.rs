@@ -14,7 +14,7 @@
 
 mod count_map;
 
-pub use count_map::{ChangeCause, ChangePoint, CountInterval, CountMap, MapStatus};
+pub(crate) use count_map::{CountMap, MapStatus};
 
 use super::dd::Dd;
 use super::flows::{FlowPoint, Flows};
@@ -37,7 +37,7 @@ pub struct Component {
 /// The components of a format-1 deal: its inflows (the positive net flows) and its
 /// outflows (the negative ones), the two parts a scenario's factors scale. A part with
 /// no flow is left out.
-pub fn v1_components(flows: &Flows) -> Vec<Component> {
+pub(crate) fn v1_components(flows: &Flows) -> Vec<Component> {
     let net = flows.normalised();
     [("inflows", true), ("outflows", false)]
         .into_iter()
@@ -79,7 +79,7 @@ pub struct SensitivityOptions {
 
 /// The largest product of flow counts the count map takes ([`SensitivityOptions::max_pairs`]):
 /// two series of 1,000 flows (a 481-flow monthly deal needs at most 231,361).
-pub const MAX_PAIRS: usize = 1_000_000;
+pub(crate) const MAX_PAIRS: usize = 1_000_000;
 
 impl Default for SensitivityOptions {
     fn default() -> Self {
@@ -446,7 +446,11 @@ fn sure_cents(v: Dd, err: f64) -> Option<Decimal> {
 
 /// The deal with component `i` times `multipliers[i]` and every inflow moved `delay`
 /// clock units later, netted; `None` when an amount leaves Decimal's range.
-pub fn moved_deal(components: &[Component], multipliers: &[Decimal], delay: i64) -> Option<Flows> {
+pub(crate) fn moved_deal(
+    components: &[Component],
+    multipliers: &[Decimal],
+    delay: i64,
+) -> Option<Flows> {
     let first = components.first()?;
     let mut points = Vec::new();
     for (c, m) in components.iter().zip(multipliers) {

@@ -2,6 +2,7 @@
 //! against the engine's NPV of the moved deal, the hurdle band against the exact NPV's
 //! sign, and a count map whose double root is known in closed form.
 
+use super::count_map::ChangeCause;
 use super::*;
 use crate::engine::figures::npv_sign;
 use crate::engine::npv_at_hurdle;
