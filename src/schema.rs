@@ -158,6 +158,31 @@ fn version_one() -> Value {
                     }))
                 }
             })),
+            "sensitivity": optional(json!({
+                "description": "How the sensitivity is studied; each setting left out takes its default.",
+                "type": "object",
+                "additionalProperties": false,
+                "properties": {
+                    "steps": optional(json!({
+                        "description": "Moves of each line and of the hurdle rate, such as [-20%, -10%, 10%, 20%] (the default): 1 to 12, none zero, above -100%, at most 1000%.",
+                        "type": "array",
+                        "minItems": 1,
+                        "maxItems": 12,
+                        "items": { "$ref": "#/$defs/rate" }
+                    })),
+                    "factor_range": optional(json!({
+                        "description": "The factors over which the number of IRRs is mapped, lowest first; default [0, 3].",
+                        "type": "array",
+                        "minItems": 2,
+                        "maxItems": 2,
+                        "items": { "type": ["number", "string"] }
+                    })),
+                    "table_line": optional(json!({
+                        "description": "The line of the two-way table (`inflows` or `outflows` in version 1); default the line with the largest swing.",
+                        "type": "string"
+                    }))
+                }
+            })),
             "signoff": optional(json!({
                 "type": "object",
                 "additionalProperties": false,
@@ -290,7 +315,8 @@ fn version_two(one: &Value) -> Value {
                 "additionalProperties": { "$ref": "#/$defs/line_scenario" }
             })),
             "memo": p["memo"].clone(),
-            "signoff": p["signoff"].clone()
+            "signoff": p["signoff"].clone(),
+            "sensitivity": p["sensitivity"].clone()
         }
     })
 }

@@ -31,6 +31,7 @@ pub fn analyse(deal: &Deal) -> Analysis {
             .scenarios
             .iter()
             .map(|s| {
+                let options = sensitivity::SensitivityOptions::for_deal(&deal.sensitivity);
                 let mut a = analyse_scenario(&s.name, &s.flows, &s.rates);
                 a.label = s.label.clone();
                 if lines {
@@ -50,11 +51,7 @@ pub fn analyse(deal: &Deal) -> Analysis {
                 } else {
                     sensitivity::v1_components(&s.flows)
                 };
-                a.sensitivity = Some(sensitivity::sensitivity(
-                    &components,
-                    &s.rates,
-                    &sensitivity::SensitivityOptions::default(),
-                ));
+                a.sensitivity = Some(sensitivity::sensitivity(&components, &s.rates, &options));
                 a
             })
             .collect(),

@@ -17,6 +17,18 @@ pub(crate) use lines::NarrowTerminal;
 pub use lines::{Basis, Component, Units};
 pub use validate::{validate, MAX_FLOWS};
 
+/// How the deal wants its sensitivity studied (the optional `sensitivity` block of a
+/// deal file); each setting left out takes the engine's default.
+#[derive(Debug, Clone, Default, PartialEq, Eq, Serialize)]
+pub struct SensitivitySettings {
+    /// Relative moves of each line and of the hurdle rate (-0.2 is 20% less).
+    pub steps: Option<Vec<Decimal>>,
+    /// The factors over which the count of IRRs is mapped (lowest, highest).
+    pub factor_range: Option<(Decimal, Decimal)>,
+    /// The line of the two-way table (`inflows` or `outflows` in format version 1).
+    pub table_line: Option<String>,
+}
+
 /// A validated deal.
 #[derive(Debug, Clone, Serialize)]
 pub struct Deal {
@@ -45,6 +57,8 @@ pub struct Deal {
     pub memo: Memo,
     /// Sign-off block.
     pub signoff: Option<Signoff>,
+    /// How the sensitivity is studied.
+    pub sensitivity: SensitivitySettings,
 }
 
 /// Annual effective rates, exact.

@@ -5,7 +5,8 @@
 use super::flows::{FlowPoint, Flows};
 use super::values::{self, ValueError};
 use super::{
-    Clock, DayCount, Deal, Frequency, Memo, MemoSection, Rates, Scenario, Signoff, SignoffDecision,
+    Clock, DayCount, Deal, Frequency, Memo, MemoSection, Rates, Scenario, SensitivitySettings,
+    Signoff, SignoffDecision,
 };
 use crate::diag::{Diagnostic, Position};
 use crate::input::{csv, Node, RawDeal, Value};
@@ -23,6 +24,7 @@ pub(crate) use crate::limits::{
 pub use crate::limits::{MAX_FLOWS, MAX_TOTAL_FLOWS};
 
 const TOP: &[&str] = &[
+    "sensitivity",
     "candor",
     "deal",
     "hurdle_rate",
@@ -1417,6 +1419,7 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     }
 
     let (memo, signoff) = narrative(ctx, &top)?;
+    let sensitivity = sensitivity_settings(ctx, &top, &["inflows", "outflows"])?;
 
     let (name, currency, as_of) = header?;
     let rates = rates?.resolved();
@@ -1437,7 +1440,126 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
         scenarios,
         memo: memo?,
         signoff,
+        sensitivity,
     })
+}
+
+/// The fields of the `sensitivity` block.
+const SENSITIVITY: &[&str] = &["steps", "factor_range", "table_line"];
+/// At most this many steps.
+const MAX_STEPS: usize = 12;
+
+/// The optional `sensitivity` block: `steps` (moves such as -20% and 10%, none zero,
+/// each above -100% and at most +1,000%), `factor_range` (two factors, lowest first,
+/// from 0 to 100) and `table_line` (a line of the deal, `lines` naming them). `None`
+/// when the block is wrong (its problems reported).
+fn sensitivity_settings(
+    ctx: &mut Validator<'_, '_>,
+    top: &Fields<'_>,
+    lines: &[&str],
+) -> Option<SensitivitySettings> {
+    let Some(node) = top.get("sensitivity") else {
+        return Some(SensitivitySettings::default());
+    };
+    let f = ctx.fields(node, "sensitivity", SENSITIVITY)?;
+    let mut ok = true;
+    let mut out = SensitivitySettings::default();
+    if let Some(n) = f.get("steps") {
+        match &n.value {
+            Value::Sequence(items) if !items.is_empty() && items.len() <= MAX_STEPS => {
+                let mut steps = Vec::new();
+                for (i, item) in items.iter().enumerate() {
+                    let path = format!("sensitivity.steps[{i}]");
+                    match ctx.rate(item, &path) {
+                        Some(r) if r.is_zero() || r <= -Decimal::ONE || r > Decimal::TEN => {
+                            ctx.hint(
+                                "number-range",
+                                format!("`{path}` moves by {}%", r * Decimal::ONE_HUNDRED),
+                                &path,
+                                item.position,
+                                "a step moves a line by a share of itself: not 0, above -100%, at most 1000%",
+                            );
+                            ok = false;
+                        }
+                        Some(r) => steps.push(r),
+                        None => ok = false,
+                    }
+                }
+                steps.sort();
+                steps.dedup();
+                out.steps = Some(steps);
+            }
+            _ => {
+                ctx.hint(
+                    "wrong-type",
+                    format!("`sensitivity.steps` must be a list of 1 to {MAX_STEPS} moves"),
+                    "sensitivity.steps",
+                    n.position,
+                    "such as [-20%, -10%, 10%, 20%]",
+                );
+                ok = false;
+            }
+        }
+    }
+    if let Some(n) = f.get("factor_range") {
+        let pair = match &n.value {
+            Value::Sequence(items) if items.len() == 2 => {
+                let lo = ctx.factor(&items[0], "sensitivity.factor_range[0]");
+                let hi = ctx.factor(&items[1], "sensitivity.factor_range[1]");
+                lo.zip(hi)
+            }
+            _ => {
+                ctx.hint(
+                    "wrong-type",
+                    "`sensitivity.factor_range` must be two factors, lowest first",
+                    "sensitivity.factor_range",
+                    n.position,
+                    "such as [0, 3]",
+                );
+                None
+            }
+        };
+        match pair {
+            Some((lo, hi)) if lo < hi && hi <= Decimal::ONE_HUNDRED => {
+                out.factor_range = Some((lo, hi))
+            }
+            Some(_) => {
+                ctx.hint(
+                    "number-range",
+                    "`sensitivity.factor_range` must go from a lower factor to a higher one, at most 100",
+                    "sensitivity.factor_range",
+                    n.position,
+                    "such as [0, 3]",
+                );
+                ok = false;
+            }
+            None => ok = false,
+        }
+    }
+    if let Some(n) = f.get("table_line") {
+        match ctx.scalar(n, "sensitivity.table_line", "the key of a line") {
+            Some(key) if lines.contains(&key.trim()) => {
+                out.table_line = Some(key.trim().to_string())
+            }
+            Some(key) => {
+                let key = key.trim().to_string();
+                let hint = match nearest(&key, lines) {
+                    Some(k) => format!("did you mean `{k}`? the lines are {}", choices(lines)),
+                    None => format!("the lines are {}", choices(lines)),
+                };
+                ctx.hint(
+                    "unknown-line",
+                    format!("there is no line `{key}`"),
+                    "sensitivity.table_line",
+                    n.position,
+                    hint,
+                );
+                ok = false;
+            }
+            None => ok = false,
+        }
+    }
+    ok.then_some(out)
 }
 
 /// The optional `memo` and `signoff` blocks; `None` when the sign-off is wrong (the

@@ -214,6 +214,7 @@ fn sample(name: &str, decision: SignoffDecision) -> (Analysis, Deal) {
             decision,
             date: NaiveDate::from_ymd_opt(2026, 12, 15),
         }),
+        sensitivity: Default::default(),
     };
     (analysis, deal)
 }

@@ -508,3 +508,31 @@ fn sensitivity_of_the_pump() {
         "{f}"
     );
 }
+
+/// The deal's `sensitivity` block chooses the steps, the range of the count map and
+/// the line of the two-way table, and a chosen step moves the NPV as the moved deal's
+/// NPV computed by hand.
+#[test]
+fn the_deal_chooses_its_sensitivity_steps_range_and_table_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let yaml = periodic("Pump", "10%", "-1600, 10000, -10000")
+        + "sensitivity:\n  steps: [-50%, 25%]\n  factor_range: [0.5, 2]\n  table_line: outflows\n";
+    let v = rates_json(dir.path(), &yaml);
+    let s = &v["scenarios"][0]["sensitivity"];
+    assert_eq!(s["steps"], serde_json::json!([-0.5, 0.25]));
+    assert_eq!(s["table"]["key"], "outflows");
+    for m in s["count_map"].as_array().unwrap() {
+        assert_eq!(m["range"], serde_json::json!([0.5, 2.0]), "{m}");
+    }
+    let outflows = s["tornado"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|b| b["key"] == "outflows")
+        .expect("the outflows' bar");
+    let halved = &outflows["moves"][0];
+    assert_eq!(halved["step"], -0.5);
+    // Outflows halved: -800, +10,000, -5,000 at 10%: -800 + 10,000/1.1 - 5,000/1.21
+    // = -800 + 9,090.909090... - 4,132.231404... = 4,158.677685... (computed by hand).
+    assert_eq!(halved["npv"], "4158.68");
+}

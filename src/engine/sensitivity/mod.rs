@@ -81,6 +81,19 @@ pub struct SensitivityOptions {
 /// two series of 1,000 flows (a 481-flow monthly deal needs at most 231,361).
 pub(crate) const MAX_PAIRS: usize = 1_000_000;
 
+impl SensitivityOptions {
+    /// The options a deal file states, the defaults for what it leaves out.
+    pub fn for_deal(settings: &crate::model::SensitivitySettings) -> Self {
+        let default = Self::default();
+        SensitivityOptions {
+            steps: settings.steps.clone().unwrap_or(default.steps),
+            factor_range: settings.factor_range.unwrap_or(default.factor_range),
+            table_component: settings.table_line.clone(),
+            ..default
+        }
+    }
+}
+
 impl Default for SensitivityOptions {
     fn default() -> Self {
         SensitivityOptions {
@@ -608,13 +621,19 @@ pub fn sensitivity(
         .map(|i| count_map::count_map(components, i, options))
         .collect::<Vec<_>>();
 
-    let table_index = match &options.table_component {
-        Some(key) => components.iter().position(|c| &c.key == key),
-        None => tornado
+    // The deal's chosen line, or (when it names none, or a scenario dropped it) the
+    // one with the largest swing.
+    let largest = || {
+        tornado
             .iter()
             .find(|b| b.kind == MoveKind::Component)
-            .and_then(|b| components.iter().position(|c| c.key == b.key)),
+            .and_then(|b| components.iter().position(|c| c.key == b.key))
     };
+    let table_index = options
+        .table_component
+        .as_ref()
+        .and_then(|key| components.iter().position(|c| &c.key == key))
+        .or_else(largest);
     let table = table_index.map(|i| two_way_table(components, &prepared, i, hurdle, options));
 
     let headlines = headlines(&tornado, &break_even, &count_map);

@@ -11,6 +11,7 @@ use super::*;
 use crate::model::FlowPoint;
 
 const TOP: &[&str] = &[
+    "sensitivity",
     "candor",
     "deal",
     "hurdle_rate",
@@ -228,6 +229,8 @@ pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
     }
 
     let (memo, signoff) = narrative(ctx, &top)?;
+    let keys: Vec<&str> = defs.iter().map(|d| d.key.as_str()).collect();
+    let sensitivity = sensitivity_settings(ctx, &top, &keys)?;
     let (name, currency, as_of) = header?;
     base_lines?;
     Some(Deal {
@@ -243,6 +246,7 @@ pub(super) fn build(ctx: &mut Validator<'_, '_>, root: &Node) -> Option<Deal> {
         scenarios,
         memo: memo?,
         signoff,
+        sensitivity,
     })
 }
 
