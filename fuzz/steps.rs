@@ -119,11 +119,7 @@ pub fn batch(data: &[u8]) -> Vec<String> {
         // number such as 1e400 is JSON by its grammar though beyond a binary float.
         let v: std::collections::BTreeMap<String, Box<serde_json::value::RawValue>> =
             serde_json::from_str(l).expect("each output line is a JSON object");
-        assert!(
-            v.get("id").is_some(),
-            "output line {} has no id: {l}",
-            k + 1
-        );
+        assert!(v.contains_key("id"), "output line {} has no id: {l}", k + 1);
     }
     lines
 }
