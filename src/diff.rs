@@ -99,6 +99,16 @@ pub struct Diff {
     pub results: Vec<ScenarioResults>,
 }
 
+/// How to read one of a deal's rates.
+type RateOf = fn(&crate::model::Rates) -> Decimal;
+
+/// The three rates as the deal file names them, each with how to read it.
+const RATE_FIELDS: [(&str, RateOf); 3] = [
+    ("hurdle_rate", |r| r.hurdle),
+    ("finance_rate", |r| r.finance),
+    ("reinvestment_rate", |r| r.reinvestment),
+];
+
 impl Diff {
     /// True when nothing changed at all.
     pub fn is_empty(&self) -> bool {
@@ -238,16 +248,14 @@ fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
         Some(new.as_of),
         |d| d.to_string(),
     );
-    for (field, a, b) in [
-        ("hurdle_rate", old.rates.hurdle, new.rates.hurdle),
-        ("finance_rate", old.rates.finance, new.rates.finance),
-        (
-            "reinvestment_rate",
-            old.rates.reinvestment,
-            new.rates.reinvestment,
-        ),
-    ] {
-        change(&mut out, field, Some(a), Some(b), present::exact_percent);
+    for (field, rate) in RATE_FIELDS {
+        change(
+            &mut out,
+            field,
+            Some(rate(&old.rates)),
+            Some(rate(&new.rates)),
+            present::exact_percent,
+        );
     }
     change(
         &mut out,
@@ -283,28 +291,17 @@ fn input_changes(old: &Deal, new: &Deal) -> Vec<Change> {
                 b.label.as_ref(),
                 s,
             );
-            for (field, x, y) in [
-                ("hurdle_rate", a.rates.hurdle, b.rates.hurdle),
-                ("finance_rate", a.rates.finance, b.rates.finance),
-                (
-                    "reinvestment_rate",
-                    a.rates.reinvestment,
-                    b.rates.reinvestment,
-                ),
-            ] {
+            for (field, rate) in RATE_FIELDS {
                 // A scenario's rate is a change of its own only when it differs from
                 // the deal's (the deal's own change is reported above).
-                let mine = |r: Decimal, deal: Decimal| (r != deal).then_some(r);
-                let (da, db) = match field {
-                    "hurdle_rate" => (old.rates.hurdle, new.rates.hurdle),
-                    "finance_rate" => (old.rates.finance, new.rates.finance),
-                    _ => (old.rates.reinvestment, new.rates.reinvestment),
+                let mine = |r: &crate::model::Rates, deal: &crate::model::Rates| {
+                    (rate(r) != rate(deal)).then_some(rate(r))
                 };
                 change(
                     &mut out,
                     &format!("{path}.{field}"),
-                    mine(x, da),
-                    mine(y, db),
+                    mine(&a.rates, &old.rates),
+                    mine(&b.rates, &new.rates),
                     present::exact_percent,
                 );
             }

@@ -835,6 +835,16 @@ fn flow_table(s: &ScenarioAnalysis, roots: &[&Root]) -> (Vec<FlowTableRow>, usiz
     (out, s.flows.len() - shown)
 }
 
+/// True when a scenario's flows, and so its IRRs and balances, are the base case's.
+fn same_flows(s: &ScenarioAnalysis, base: &ScenarioAnalysis) -> bool {
+    s.flows.len() == base.flows.len()
+        && s.flows
+            .iter()
+            .zip(&base.flows)
+            .all(|(a, b)| a.amount == b.amount && a.period == b.period && a.date == b.date)
+        && s.irr.roots.len() == base.irr.roots.len()
+}
+
 fn scenario_view(
     index: usize,
     s: &ScenarioAnalysis,
@@ -842,6 +852,7 @@ fn scenario_view(
     currency: &str,
     charts: Option<&ScenarioCharts>,
     scale: summary::Scale,
+    same_flows_as_base: bool,
 ) -> ScenarioView {
     let decimals = present::scenario_rate_decimals(s);
     let period = words::per_period(s.periods_per_year);
@@ -882,7 +893,13 @@ fn scenario_view(
         .iter()
         .map(|r| format!("at {}", present::root_rate(r, decimals, PRINT)))
         .collect();
-    let (flow_rows, flow_hidden) = flow_table(s, &table_roots);
+    // A scenario that changes only rates has the base case's flows, and so its flow
+    // table and balances: it points there instead of repeating them.
+    let (flow_rows, flow_hidden) = if same_flows_as_base {
+        (Vec::new(), 0)
+    } else {
+        flow_table(s, &table_roots)
+    };
     let mut kinds: Vec<crate::engine::BalanceKind> = Vec::new();
     for r in &s.irr.roots {
         if !kinds.contains(&r.balance_kind) {
@@ -1020,7 +1037,7 @@ fn scenario_view(
         flow_hidden,
         balance_heads,
         kind_definitions,
-        same_flows_as_base: false,
+        same_flows_as_base,
         lines: s
             .lines
             .iter()
@@ -1054,21 +1071,16 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
         .iter()
         .enumerate()
         .map(|(i, s)| {
-            let mut view = scenario_view(i, s, deal, &analysis.currency, ctx.charts.get(i), scale);
-            // A scenario that changes only rates has the base case's flows, and so its
-            // flow table and balances: it points there instead of repeating them.
-            let base = &analysis.scenarios[0];
-            view.same_flows_as_base = i > 0
-                && s.flows.len() == base.flows.len()
-                && s.flows
-                    .iter()
-                    .zip(&base.flows)
-                    .all(|(a, b)| a.amount == b.amount && a.period == b.period && a.date == b.date)
-                && s.irr.roots.len() == base.irr.roots.len();
-            if view.same_flows_as_base {
-                view.flow_rows.clear();
-            }
-            view
+            let same_flows = i > 0 && same_flows(s, &analysis.scenarios[0]);
+            scenario_view(
+                i,
+                s,
+                deal,
+                &analysis.currency,
+                ctx.charts.get(i),
+                scale,
+                same_flows,
+            )
         })
         .collect();
     // The base case's sensitivity findings lead the decision page.

@@ -22,6 +22,7 @@ use rust_decimal::prelude::*;
 /// and committed outflows, and the cautions that rest on them.
 pub fn analyse(deal: &Deal) -> Analysis {
     let lines = deal.version >= 2;
+    let options = sensitivity::SensitivityOptions::for_deal(&deal.sensitivity);
     Analysis {
         deal: deal.name.clone(),
         currency: deal.currency.clone(),
@@ -31,7 +32,6 @@ pub fn analyse(deal: &Deal) -> Analysis {
             .scenarios
             .iter()
             .map(|s| {
-                let options = sensitivity::SensitivityOptions::for_deal(&deal.sensitivity);
                 let mut a = analyse_scenario(&s.name, &s.flows, &s.rates);
                 a.label = s.label.clone();
                 if lines {
@@ -88,20 +88,22 @@ fn with_lines(a: &mut ScenarioAnalysis, s: &Scenario, deal: &Deal) {
             .collect(),
     );
     let flows = s.flows.normalised();
-    a.peak_exposure = Some(match crate::model::lines::peak_exposure(&flows) {
-        Some((amount, i)) => Exposure {
-            amount,
-            period: flows.points[i].period,
-            date: flows.points[i].date.map(|d| d.to_string()),
-            years: Some(flows.years(i)),
+    a.peak_exposure = Some(
+        match crate::model::flows::peak_exposure(flows.points.iter().map(|p| p.amount)) {
+            Some((amount, i)) => Exposure {
+                amount,
+                period: flows.points[i].period,
+                date: flows.points[i].date.map(|d| d.to_string()),
+                years: Some(flows.years(i)),
+            },
+            None => Exposure {
+                amount: Decimal::ZERO,
+                period: None,
+                date: None,
+                years: None,
+            },
         },
-        None => Exposure {
-            amount: Decimal::ZERO,
-            period: None,
-            date: None,
-            years: None,
-        },
-    });
+    );
     a.committed_outflows = Some(s.components.iter().map(|c| c.outflows()).sum());
     for t in &s.narrow_terminals {
         a.cautions.push(Caution::TerminalSpread {

@@ -61,6 +61,21 @@ pub struct Flows {
     pub periods_per_year: Option<u32>,
 }
 
+/// The peak exposure of amounts in time order: the most negative running total
+/// (undiscounted) and the index of the flow where it is first reached; `None` when the
+/// running total never goes below zero. Engine and presentation both read it here.
+pub fn peak_exposure(amounts: impl IntoIterator<Item = Decimal>) -> Option<(Decimal, usize)> {
+    let mut running = Decimal::ZERO;
+    let mut peak: Option<(Decimal, usize)> = None;
+    for (i, amount) in amounts.into_iter().enumerate() {
+        running += amount;
+        if running < peak.map_or(Decimal::ZERO, |(v, _)| v) {
+            peak = Some((running, i));
+        }
+    }
+    peak
+}
+
 impl Flows {
     /// Periodic flows: one amount a period from period 0, `per_year` periods a year.
     pub fn periodic(amounts: impl IntoIterator<Item = Decimal>, per_year: u32) -> Flows {

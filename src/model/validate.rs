@@ -1444,6 +1444,21 @@ fn build(ctx: &mut Validator<'_, '_>, raw: &RawDeal) -> Option<Deal> {
     })
 }
 
+/// Reports `key` as no line of the deal (`unknown-line`), with the nearest key.
+fn unknown_line(ctx: &mut Validator<'_, '_>, key: &str, known: &[&str], path: &str, at: Position) {
+    let hint = match nearest(key, known) {
+        Some(n) => format!("did you mean `{n}`? the lines are {}", choices(known)),
+        None => format!("the lines are {}", choices(known)),
+    };
+    ctx.hint(
+        "unknown-line",
+        format!("there is no line `{key}`"),
+        path,
+        at,
+        hint,
+    );
+}
+
 /// The fields of the `sensitivity` block.
 const SENSITIVITY: &[&str] = &["steps", "factor_range", "table_line"];
 /// At most this many steps.
@@ -1471,7 +1486,8 @@ fn sensitivity_settings(
                 for (i, item) in items.iter().enumerate() {
                     let path = format!("sensitivity.steps[{i}]");
                     match ctx.rate(item, &path) {
-                        Some(r) if r.is_zero() || r <= -Decimal::ONE || r > Decimal::TEN => {
+                        // (`rate` has refused -100% and below already.)
+                        Some(r) if r.is_zero() || r > Decimal::TEN => {
                             ctx.hint(
                                 "number-range",
                                 format!("`{path}` moves by {}%", r * Decimal::ONE_HUNDRED),
@@ -1543,17 +1559,7 @@ fn sensitivity_settings(
             }
             Some(key) => {
                 let key = key.trim().to_string();
-                let hint = match nearest(&key, lines) {
-                    Some(k) => format!("did you mean `{k}`? the lines are {}", choices(lines)),
-                    None => format!("the lines are {}", choices(lines)),
-                };
-                ctx.hint(
-                    "unknown-line",
-                    format!("there is no line `{key}`"),
-                    "sensitivity.table_line",
-                    n.position,
-                    hint,
-                );
+                unknown_line(ctx, &key, lines, "sensitivity.table_line", n.position);
                 ok = false;
             }
             None => ok = false,

@@ -112,19 +112,9 @@ pub fn scaled(amount: Decimal, scale: Scale, style: Style) -> String {
     format!("{sign}{}{frac}", group_thousands(&int))
 }
 
-/// The peak exposure: the most negative running total of the flows (undiscounted) and
-/// the index of the flow after which it occurs; `None` when the running total is never
-/// below zero.
+/// The peak exposure of a scenario's flows (see [`crate::model::flows::peak_exposure`]).
 pub fn peak_exposure(flows: &[FlowRow]) -> Option<(Decimal, usize)> {
-    let mut total = Decimal::ZERO;
-    let mut worst: Option<(Decimal, usize)> = None;
-    for (i, f) in flows.iter().enumerate() {
-        total += f.amount;
-        if total < Decimal::ZERO && worst.is_none_or(|(w, _)| total < w) {
-            worst = Some((total, i));
-        }
-    }
-    worst
+    crate::model::flows::peak_exposure(flows.iter().map(|f| f.amount))
 }
 
 /// When a flow falls: its date, else its period, else its time in years.

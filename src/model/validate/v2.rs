@@ -1380,20 +1380,6 @@ fn keyed<'n>(
     out
 }
 
-fn unknown_line(ctx: &mut Validator<'_, '_>, key: &str, known: &[&str], path: &str, at: Position) {
-    let hint = match nearest(key, known) {
-        Some(n) => format!("did you mean `{n}`? the lines are {}", choices(known)),
-        None => format!("the lines are {}", choices(known)),
-    };
-    ctx.hint(
-        "unknown-line",
-        format!("there is no line `{key}`"),
-        path,
-        at,
-        hint,
-    );
-}
-
 /// Applies a scenario's changes to the base lines and resolves it.
 #[allow(clippy::too_many_arguments)]
 fn scenario(
