@@ -14,6 +14,11 @@ use plotters::prelude::*;
 
 /// Canvas of a strip chart: as wide as the other charts, a third of their height.
 const STRIP_SIZE: (u32, u32) = (640, 170);
+/// The width a character of a bar's name takes at the chart's font size, in canvas
+/// pixels (a generous average for the serif face, so names are not clipped).
+const LABEL_CHAR_PX: u32 = 11;
+/// Bar names longer than this are shortened in the chart.
+const MAX_LABEL_CHARS: usize = 28;
 
 /// The sensitivity charts of one scenario.
 #[derive(Debug, Clone, Default)]
@@ -62,12 +67,23 @@ fn tornado(area: &Area<'_>, s: &Sensitivity, currency: &str, periodic: bool) -> 
     let hi = bars.iter().map(|b| b.2).fold(base.max(0.0), f64::max);
     let span = (hi - lo).max(1.0);
     let n = bars.len() as f64;
-    let names: Vec<String> = bars.iter().map(|b| b.0.clone()).collect();
+    // The label area fits the longest name, up to about half the canvas; a longer
+    // name is shortened here (the table under the chart gives it whole).
+    let fit = |name: &str| -> String {
+        if name.chars().count() <= MAX_LABEL_CHARS {
+            name.to_string()
+        } else {
+            let kept: String = name.chars().take(MAX_LABEL_CHARS - 1).collect();
+            format!("{}\u{2026}", kept.trim_end())
+        }
+    };
+    let names: Vec<String> = bars.iter().map(|b| fit(&b.0)).collect();
+    let longest = names.iter().map(|n| n.chars().count()).max().unwrap_or(0) as u32;
     let mut chart = ChartBuilder::on(area)
         .margin(12)
         .margin_right(34)
         .x_label_area_size(48)
-        .y_label_area_size(230)
+        .y_label_area_size((longest * LABEL_CHAR_PX + 24).max(120))
         .build_cartesian_2d((lo - span * 0.05)..(hi + span * 0.05), -0.5..(n - 0.5))?;
     // The largest swing on top: bar k is drawn at n - 1 - k.
     let label = |v: &f64| {
