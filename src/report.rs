@@ -626,8 +626,11 @@ struct ScenarioView {
     /// True when the flows are the base case's (only rates changed): the flow table
     /// is then the base case's and is not repeated.
     same_flows_as_base: bool,
-    /// The deal's lines in this scenario (version 2; empty otherwise).
+    /// The deal's lines in this scenario (version 2; empty otherwise). A scenario after
+    /// the base case keeps only the lines whose totals differ from the base case's.
     lines: Vec<LineView>,
+    /// How many lines a scenario after the base case leaves as they are in the base case.
+    lines_unchanged: usize,
     /// Peak exposure in words (version 2).
     exposure: Option<String>,
     /// Committed outflows (version 2).
@@ -647,7 +650,7 @@ struct FlowTableRow {
 }
 
 /// One line of a scenario, for its table.
-#[derive(Debug, Serialize)]
+#[derive(Debug, Serialize, PartialEq)]
 struct LineView {
     label: String,
     note: Option<String>,
@@ -1051,6 +1054,7 @@ fn scenario_view(
                 net: present::money(l.net, PRINT),
             })
             .collect(),
+        lines_unchanged: 0,
         exposure: s
             .peak_exposure
             .as_ref()
@@ -1066,7 +1070,7 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
     let status = words::signoff_status(decision);
     let decision_text = words::signoff(decision);
     let scale = summary::Scale::of(analysis);
-    let scenarios: Vec<ScenarioView> = analysis
+    let mut scenarios: Vec<ScenarioView> = analysis
         .scenarios
         .iter()
         .enumerate()
@@ -1083,6 +1087,15 @@ fn build_view(analysis: &Analysis, deal: &Deal, ctx: &MemoContext) -> View {
             )
         })
         .collect();
+    // The lines table is the base case's in full; a later scenario shows only the
+    // lines it changes.
+    if let Some((base, rest)) = scenarios.split_first_mut() {
+        for s in rest {
+            let before = s.lines.len();
+            s.lines.retain(|l| !base.lines.contains(l));
+            s.lines_unchanged = before - s.lines.len();
+        }
+    }
     // The base case's sensitivity findings lead the decision page.
     let sensitivity_headlines = scenarios
         .first()

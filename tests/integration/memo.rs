@@ -487,26 +487,11 @@ fn every_flow_is_drawn_in_the_cash_flow_chart() {
 }
 
 /// The most pages a memo of `scenarios` scenarios may take: four for a base case
-/// alone, at most one and a half more for each further scenario (issue 15's limits,
-/// docs/design.md "Memo and archive").
+/// alone, sensitivity section included, and at most one and a half more for each
+/// further scenario (docs/design.md "Memo and archive").
 fn page_limit(scenarios: usize) -> usize {
-    4 + (3 * scenarios.saturating_sub(1)) / 2 + SENSITIVITY_PAGES
+    4 + (3 * scenarios.saturating_sub(1)) / 2
 }
-
-/// The base case's sensitivity section (tornado, break-evens, band, count maps, two-way
-/// table) takes up to this many pages on top of the length the memo had before it;
-/// bringing the whole memo back within the length without it is open work.
-const SENSITIVITY_PAGES: usize = 2;
-
-/// Examples whose memo is longer than [`page_limit`] today, with their length as a
-/// ceiling that must not grow: these three deals of format 2 have four scenarios each,
-/// and each scenario carries the table of the deal's lines. Shortening them is open
-/// work.
-const OVER_LENGTH: &[(&str, usize)] = &[
-    ("corrie-vale-quarry.yaml", 12),
-    ("harrow-lane-prepaid-build.yaml", 11),
-    ("marlow-fen-solar.yaml", 11),
-];
 
 fn example_memo(path: &Path, base_only: bool) -> (Analysis, MemoOutput) {
     let mut loaded = candor::files::load::load_deal(path)
@@ -536,8 +521,8 @@ fn example_memo(path: &Path, base_only: bool) -> (Analysis, MemoOutput) {
     (analysis, memo)
 }
 
-/// Each example deal with its base case alone fits in four pages, plus its sensitivity
-/// section ([`SENSITIVITY_PAGES`]).
+/// Each example deal with its base case alone fits in four pages, its sensitivity
+/// section included.
 #[test]
 fn a_base_case_alone_fits_in_four_pages() {
     for path in example_deals() {
@@ -656,10 +641,7 @@ fn every_example_deal_builds_a_memo() {
             }
         }
         let pages = pdf.pages();
-        let limit = OVER_LENGTH
-            .iter()
-            .find(|(n, _)| *n == name)
-            .map_or(page_limit(analysis.scenarios.len()), |(_, p)| *p);
+        let limit = page_limit(analysis.scenarios.len());
         assert!(pages <= limit, "{name}: {pages} pages, at most {limit}");
         // The deal file and every CSV file it reads are attached, byte for byte.
         let attached = pdf.attachments();

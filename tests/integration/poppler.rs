@@ -123,3 +123,64 @@ fn example_memos_and_a_pack_pass_poppler_and_qpdf() {
         .collect();
     cross_check(&pack, &inputs);
 }
+
+/// How far down the body of each page its text reaches, as a share of the body's
+/// height, read from `pdftotext -bbox`: the header and footer (inside the top and
+/// bottom margins of templates/style.typ.j2) do not count.
+fn page_fill(pdf: &Path) -> Vec<f64> {
+    const TOP_MARGIN: f64 = 1.9 / 2.54 * 72.0;
+    const BOTTOM_MARGIN: f64 = 2.1 / 2.54 * 72.0;
+    let html = tool("pdftotext", &["-bbox", s(pdf), "-"]);
+    let attr = |tag: &str, name: &str| -> f64 {
+        let start = tag
+            .find(&format!("{name}=\""))
+            .unwrap_or_else(|| panic!("no {name} in {tag}"))
+            + name.len()
+            + 2;
+        let rest = &tag[start..];
+        rest[..rest.find('"').expect("closing quote")]
+            .parse()
+            .expect("a number")
+    };
+    let mut fills = Vec::new();
+    let mut height = 0.0;
+    for tag in html.split('<').skip(1) {
+        if tag.starts_with("page ") {
+            height = attr(tag, "height");
+            fills.push(0.0);
+        } else if tag.starts_with("word ") {
+            let bottom = attr(tag, "yMax");
+            let body = height - TOP_MARGIN - BOTTOM_MARGIN;
+            if bottom > TOP_MARGIN && bottom < height - BOTTOM_MARGIN {
+                let fill = (bottom - TOP_MARGIN) / body;
+                let last = fills.last_mut().expect("a page before its words");
+                *last = f64::max(*last, fill);
+            }
+        }
+    }
+    fills
+}
+
+/// No page of an example memo but the last is left more than half empty (issue 15's
+/// length rule, docs/design.md "Memo and archive").
+#[test]
+#[ignore = "needs poppler-utils; .ci/run installs it and runs it"]
+fn no_example_memo_page_but_the_last_is_half_empty() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    for deal in example_deals() {
+        let out = dir.path().join("memo.pdf");
+        let run = candor(&["memo", s(&deal), "-o", s(&out)]);
+        assert_eq!(run.status.code(), Some(0), "{}", text(&run.stderr));
+        let fills = page_fill(&out);
+        assert!(fills.len() > 1, "{}: {fills:?}", deal.display());
+        for (p, fill) in fills[..fills.len() - 1].iter().enumerate() {
+            assert!(
+                *fill >= 0.5,
+                "{}: page {} is filled to {:.0}% ({fills:.2?})",
+                deal.display(),
+                p + 1,
+                fill * 100.0
+            );
+        }
+    }
+}
