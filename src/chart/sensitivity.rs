@@ -13,7 +13,7 @@ use crate::present::sensitivity::bar_name;
 use plotters::prelude::*;
 
 /// Canvas of a strip chart: as wide as the other charts, a third of their height.
-const STRIP_SIZE: (u32, u32) = (640, 170);
+const STRIP_SIZE: (u32, u32) = (640, 186);
 /// The width a character of a bar's name takes at the chart's font size, in canvas
 /// pixels (a generous average for the serif face, so names are not clipped).
 const LABEL_CHAR_PX: u32 = 11;
@@ -151,7 +151,7 @@ fn strip(area: &Area<'_>, m: &CountMap) -> DrawResult {
     let mut chart = ChartBuilder::on(area)
         .margin(8)
         .margin_right(34)
-        .x_label_area_size(40)
+        .x_label_area_size(56)
         .y_label_area_size(72)
         .build_cartesian_2d(m.range[0]..m.range[1], -0.5..(top + 0.5))?;
     chart
