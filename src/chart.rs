@@ -399,7 +399,7 @@ fn npv_profile(
         .y_desc(format!("NPV ({currency})"))
         .x_labels(6)
         .y_labels(6)
-        .x_label_formatter(&|v| format!("{v:.0}%"))
+        .x_label_formatter(&|v| crate::present::print_minus(&format!("{v:.0}%")))
         .y_label_formatter(&|v| compact_money(*v))
         .draw()?;
     // Zero line: the IRRs are where the curve crosses it.

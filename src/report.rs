@@ -991,7 +991,7 @@ fn scenario_view(
             .map(|c| CautionView {
                 code: c.code.to_string(),
                 title: c.title.to_string(),
-                text: c.text,
+                text: present::print_minus(&c.text),
             })
             .collect(),
         charts: ChartPaths {

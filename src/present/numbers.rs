@@ -38,6 +38,23 @@ fn minus(style: Style) -> &'static str {
     }
 }
 
+/// Prose written with hyphen-minus signs (as the terminal and JSON carry it) set for
+/// print: a `-` that starts a number (at the start or after a space, an opening
+/// bracket or a slash) becomes the minus sign; hyphens inside words stay.
+pub fn print_minus(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + 8);
+    let mut before: Option<char> = None;
+    let mut chars = text.chars().peekable();
+    while let Some(c) = chars.next() {
+        let starts_number = c == '-'
+            && before.is_none_or(|b| b.is_whitespace() || matches!(b, '(' | '[' | '/'))
+            && chars.peek().is_some_and(|n| n.is_ascii_digit());
+        out.push(if starts_number { MINUS } else { c });
+        before = Some(c);
+    }
+    out
+}
+
 /// Money with thousands separators and two decimals, e.g. `-1,234,567.80` (`−` in
 /// print). Never `-0.00`.
 pub fn money(amount: Decimal, style: Style) -> String {
@@ -340,6 +357,16 @@ pub(crate) fn date_long(date: NaiveDate) -> String {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn print_minus_sets_signs_not_hyphens() {
+        assert_eq!(
+            super::print_minus("IRRs -45.68% and 5.61%; GBP -1,101.58 (-3%) non-negative 2027-01-15 x-1"),
+            "IRRs \u{2212}45.68% and 5.61%; GBP \u{2212}1,101.58 (\u{2212}3%) non-negative 2027-01-15 x-1"
+        );
+        assert_eq!(super::print_minus("-1 to -2"), "\u{2212}1 to \u{2212}2");
+        assert_eq!(super::print_minus("a - b"), "a - b");
+    }
+
     use super::*;
     use rust_decimal_macros::dec;
     use Style::{Print, Prose, Terminal};

@@ -618,7 +618,8 @@ fn every_example_deal_builds_a_memo() {
             }
             for c in candor::present::caution_text_list(s, &analysis.currency) {
                 needles.push(normalise(c.title));
-                needles.push(normalise(&c.text));
+                // Set for print: a number's sign is the minus sign, as in the tables.
+                needles.push(normalise(&candor::present::print_minus(&c.text)));
                 // The caution's plain sentence, on the decision page.
                 assert!(
                     first.contains(&normalise(candor::present::summary::caution_headline(
