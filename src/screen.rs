@@ -84,9 +84,39 @@ fn digit_run(body: &[u8], i: usize) -> (u64, usize) {
 
 /// A JSON array of plain numbers (`-123.45`: no exponent, at most 16 digits before
 /// the point and 6 after, within the deal-file limits) starting at `b[open] == b'['`,
-/// read in one pass straight into exact decimals: the amounts and the index of the
-/// closing `]`. `None` as soon as anything else appears, for the general reader.
+/// read straight into exact decimals: the amounts and the index of the closing `]`.
+/// `None` as soon as anything else appears, for the general reader.
+///
+/// The list ends at the first `]` (no plain number holds one), and the commas split it
+/// into one number each, both found by `memchr`: where each number starts is then
+/// known before any is read, so the reading of one number does not wait on the digits
+/// of the one before.
 fn plain_numbers(b: &[u8], open: usize) -> Option<(Vec<Decimal>, usize)> {
+    let first = open + 1;
+    let close = first + memchr::memchr(b']', b.get(first..)?)?;
+    let inner = &b[first..close];
+    let mut out = Vec::with_capacity((inner.len() / 8 + 1).min(MAX_FLOWS + 1));
+    if inner.iter().all(|&c| is_json_space(c)) {
+        return Some((out, close));
+    }
+    let mut start = first;
+    for comma in memchr::memchr_iter(b',', inner) {
+        let end = first + comma;
+        out.push(plain_number(b, start, end)?);
+        // Past the flow limit: the general reader refuses the list, unread.
+        if out.len() > MAX_FLOWS {
+            return None;
+        }
+        start = end + 1;
+    }
+    out.push(plain_number(b, start, close)?);
+    Some((out, close))
+}
+
+/// The plain number that fills `b[i..end]` but for JSON white space either side
+/// (`b[end]` is the comma or bracket after it); `None` for anything else.
+#[inline(always)]
+fn plain_number(b: &[u8], mut i: usize, end: usize) -> Option<Decimal> {
     const POW10: [u64; 9] = [
         1,
         10,
@@ -98,102 +128,84 @@ fn plain_numbers(b: &[u8], open: usize) -> Option<(Vec<Decimal>, usize)> {
         10_000_000,
         100_000_000,
     ];
-    let len = b.len();
-    let mut out = Vec::with_capacity(((len - open) / 8 + 1).min(MAX_FLOWS + 1));
-    let skip_space = |i: &mut usize| {
-        while *i < len && is_json_space(b[*i]) {
-            *i += 1;
-        }
-    };
-    let mut i = open + 1;
-    skip_space(&mut i);
-    if b.get(i) == Some(&b']') {
-        return Some((out, i));
+    // (Lists are usually written with one space after each comma.)
+    while i < end && is_json_space(b[i]) {
+        i += 1;
     }
-    loop {
-        let negative = *b.get(i)? == b'-';
-        if negative {
-            i += 1;
-        }
-        // JSON's grammar: an integer part without leading zeros, then optionally a
-        // point and at least one digit (exponents go to the general reader).
-        let (hi, n_hi) = digit_run(b, i);
-        let (mut int, mut n_int) = (hi, n_hi);
-        if n_hi == 8 {
-            let (lo, n_lo) = digit_run(b, i + 8);
-            if n_lo == 8 && digit_run(b, i + 16).1 > 0 {
-                // Seventeen or more digits: beyond the limits, for the general reader.
-                return None;
-            }
-            int = hi * POW10[n_lo] + lo;
-            n_int += n_lo;
-        }
-        if n_int == 0 || (b[i] == b'0' && n_int > 1) {
+    if i >= end {
+        return None;
+    }
+    let negative = b[i] == b'-';
+    if negative {
+        i += 1;
+    }
+    // JSON's grammar: an integer part without leading zeros, then optionally a point
+    // and at least one digit (exponents go to the general reader). A run of digits
+    // stops at `b[end]` at the latest, which is not a digit.
+    let (hi, n_hi) = digit_run(b, i);
+    let (mut int, mut n_int) = (hi, n_hi);
+    if n_hi == 8 {
+        let (lo, n_lo) = digit_run(b, i + 8);
+        if n_lo == 8 && digit_run(b, i + 16).1 > 0 {
+            // Seventeen or more digits: beyond the limits, for the general reader.
             return None;
         }
-        i += n_int;
-        let (mut frac, mut scale) = (0u64, 0usize);
-        if i < len && b[i] == b'.' {
-            i += 1;
-            // Two places, the usual case for money: read them directly.
-            let digit = |k: usize| b.get(k).map_or(u8::MAX, |c| c.wrapping_sub(b'0'));
-            let (d0, d1) = (digit(i), digit(i + 1));
-            if d0 < 10 && d1 < 10 && digit(i + 2) >= 10 {
-                (frac, scale) = (u64::from(d0 * 10 + d1), 2);
-                i += 2;
-            } else {
-                let (f, n_frac) = digit_run(b, i);
-                if n_frac == 0 || n_frac > MAX_SCALE as usize {
-                    return None;
-                }
-                (frac, scale) = (f, n_frac);
-                i += n_frac;
-            }
-        }
-        if n_int <= 12 {
-            // Below 10^12 before the point and at most 6 places: under 10^18, in 64
-            // bits, and inside the limits without a check.
-            let mantissa = int * POW10[scale] + frac;
-            out.push(Decimal::from_parts(
-                mantissa as u32,
-                (mantissa >> 32) as u32,
-                0,
-                negative,
-                scale as u32,
-            ));
+        int = hi * POW10[n_lo] + lo;
+        n_int += n_lo;
+    }
+    if n_int == 0 || (b[i] == b'0' && n_int > 1) {
+        return None;
+    }
+    i += n_int;
+    let (mut frac, mut scale) = (0u64, 0usize);
+    if i < end && b[i] == b'.' {
+        i += 1;
+        // Two places, the usual case for money: read them directly.
+        let digit = |k: usize| b.get(k).map_or(u8::MAX, |c| c.wrapping_sub(b'0'));
+        let (d0, d1) = (digit(i), digit(i + 1));
+        if d0 < 10 && d1 < 10 && digit(i + 2) >= 10 {
+            (frac, scale) = (u64::from(d0 * 10 + d1), 2);
+            i += 2;
         } else {
-            // Up to 16 digits before the point and 6 after: the mantissa can pass 2^64.
-            let mantissa = u128::from(int) * u128::from(POW10[scale]) + u128::from(frac);
-            if mantissa > MAX_AMOUNT as u128 * u128::from(POW10[scale]) {
+            let (f, n_frac) = digit_run(b, i);
+            if n_frac == 0 || n_frac > MAX_SCALE as usize {
                 return None;
             }
-            // At most 10^21, well inside the 96-bit mantissa.
-            out.push(Decimal::from_parts(
-                mantissa as u32,
-                (mantissa >> 32) as u32,
-                (mantissa >> 64) as u32,
-                negative,
-                scale as u32,
-            ));
+            (frac, scale) = (f, n_frac);
+            i += n_frac;
         }
-        // (Lists are usually written with one space after each comma.)
-        if b.get(i) == Some(&b' ') {
-            i += 1;
+    }
+    while i < end && is_json_space(b[i]) {
+        i += 1;
+    }
+    if i != end {
+        return None;
+    }
+    if n_int <= 12 {
+        // Below 10^12 before the point and at most 6 places: under 10^18, in 64
+        // bits, and inside the limits without a check.
+        let mantissa = int * POW10[scale] + frac;
+        Some(Decimal::from_parts(
+            mantissa as u32,
+            (mantissa >> 32) as u32,
+            0,
+            negative,
+            scale as u32,
+        ))
+    } else {
+        // Up to 16 digits before the point and 6 after: the mantissa can pass 2^64.
+        let mantissa = u128::from(int) * u128::from(POW10[scale]) + u128::from(frac);
+        if mantissa > MAX_AMOUNT as u128 * u128::from(POW10[scale]) {
+            return None;
         }
-        skip_space(&mut i);
-        match b.get(i)? {
-            // Past the flow limit: the general reader refuses the list, unread.
-            b',' if out.len() > MAX_FLOWS => return None,
-            b',' => {
-                i += 1;
-                if b.get(i) == Some(&b' ') {
-                    i += 1;
-                }
-                skip_space(&mut i);
-            }
-            b']' => return Some((out, i)),
-            _ => return None,
-        }
+        // At most 10^21, well inside the 96-bit mantissa.
+        Some(Decimal::from_parts(
+            mantissa as u32,
+            (mantissa >> 32) as u32,
+            (mantissa >> 64) as u32,
+            negative,
+            scale as u32,
+        ))
     }
 }
 

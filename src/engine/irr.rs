@@ -301,7 +301,19 @@ fn kind_of(positive: bool, negative: bool) -> BalanceKind {
 /// Balances within this of zero count as zero: a billionth of the largest flow, the
 /// tolerance of [`figures::balance_kind`].
 fn tolerance(pts: &[(i64, f64)]) -> f64 {
-    pts.iter().map(|p| p.1.abs()).fold(0.0, f64::max) * 1e-9
+    // The largest size, taken in four running maxima that do not wait on one another
+    // (a maximum is exact, so the order does not change it).
+    let mut top = [0.0f64; 4];
+    let mut quads = pts.chunks_exact(4);
+    for q in &mut quads {
+        for (m, p) in top.iter_mut().zip(q) {
+            *m = m.max(p.1.abs());
+        }
+    }
+    for p in quads.remainder() {
+        top[0] = top[0].max(p.1.abs());
+    }
+    top[0].max(top[1]).max(top[2].max(top[3])) * 1e-9
 }
 
 /// The balance-path classification without building the rows (batch screening): the
