@@ -348,8 +348,26 @@ fn frequency(name: &str) -> Option<Frequency> {
     Frequency::ALL.into_iter().find(|f| f.as_str() == name)
 }
 
+/// The flows of a line, as read: periodic amounts from period 0 (not yet normalised:
+/// they may hold zeros), or any flows.
+enum Series {
+    Periodic(Vec<Decimal>, u32),
+    Flows(Flows),
+}
+
+impl Series {
+    /// The flows as the engine takes them (see [`Flows::normalised`]).
+    fn into_flows(self) -> Flows {
+        match self {
+            Series::Periodic(amounts, per_year) => Flows::periodic(amounts, per_year),
+            Series::Flows(flows) => flows,
+        }
+        .into_normalised()
+    }
+}
+
 /// The series of a line; `amounts`, when given, were read ahead by [`split_amounts`].
-fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, LineError> {
+fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Series, LineError> {
     match (&line.amounts, &line.dated) {
         (Some(_), Some(_)) => Err((
             "flows-conflict",
@@ -371,7 +389,7 @@ fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, Lin
             if amounts.len() > MAX_FLOWS {
                 return Err(too_many(amounts.len()));
             }
-            Ok(Flows::periodic(amounts, freq.per_year()))
+            Ok(Series::Periodic(amounts, freq.per_year()))
         }
         (None, Some(raw)) => {
             let name = line.day_count.as_deref().unwrap_or("act/365f");
@@ -397,7 +415,7 @@ fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, Lin
                     .map_err(|(code, m)| (code, format!("dated[{i}].amount: {m}")))?;
                 entries.push((date, amount, None));
             }
-            Ok(Flows::dated(entries, dc))
+            Ok(Series::Flows(Flows::dated(entries, dc)))
         }
     }
 }
@@ -597,7 +615,7 @@ fn too_long(index: usize) -> String {
 }
 
 fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, LineError> {
-    let flows = flows_of(line, amounts)?.into_normalised();
+    let series = flows_of(line, amounts)?;
     let rate = |raw: Option<&RawValue>, name: &str| {
         raw.map(exact_rate)
             .transpose()
@@ -606,19 +624,31 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
     let hurdle = rate(line.hurdle_rate, "hurdle_rate")?;
     let finance = rate(line.finance_rate, "finance_rate")?;
     let reinvest = rate(line.reinvestment_rate, "reinvestment_rate")?;
-    if flows.points.is_empty() {
-        return Err(("all-zero-flows", "every flow is zero".into()));
-    }
-    let reading = engine::read_series(
-        &flows,
-        engine::SeriesRates {
-            hurdle,
-            finance,
-            reinvestment: reinvest,
-        },
-        false,
-    );
-    let report = reading.report;
+    let (report, npv, mirr) = match series {
+        // The usual line: roots only, of periodic amounts without a zero among them
+        // (so already normalised), read from the amounts without building flow points.
+        Series::Periodic(amounts, per_year)
+            if hurdle.is_none() && !amounts.is_empty() && !amounts.iter().any(Decimal::is_zero) =>
+        {
+            (engine::irr::periodic_report(&amounts, per_year), None, None)
+        }
+        series => {
+            let flows = series.into_flows();
+            if flows.points.is_empty() {
+                return Err(("all-zero-flows", "every flow is zero".into()));
+            }
+            let reading = engine::read_series(
+                &flows,
+                engine::SeriesRates {
+                    hurdle,
+                    finance,
+                    reinvestment: reinvest,
+                },
+                false,
+            );
+            (reading.report, reading.npv_at_hurdle, reading.mirr)
+        }
+    };
     let roots = report
         .roots
         .iter()
@@ -633,7 +663,7 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
             stance: hurdle.map(|_| r.stance),
         })
         .collect();
-    let (npv_at_hurdle, npv_at_hurdle_approx) = match reading.npv_at_hurdle {
+    let (npv_at_hurdle, npv_at_hurdle_approx) = match npv {
         Some((npv, approx)) => (Some(npv.map(|v| v.to_string())), approx),
         None => (None, None),
     };
@@ -647,7 +677,7 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
         exact_check: report.exact_check,
         npv_at_hurdle,
         npv_at_hurdle_approx,
-        mirr: reading.mirr,
+        mirr,
     })
 }
 
@@ -1180,6 +1210,43 @@ mod tests {
                 Some(deal.npv_at_hurdle.map(|v| v.to_string()))
             );
             proptest::prop_assert_eq!(batch.mirr, Some(deal.mirr));
+        }
+
+        /// Differential: a line without a hurdle, whose periodic amounts are read
+        /// without building flow points, gets the report a deal's flows get (every
+        /// field, the certificate included), and the batch line says the same.
+        #[test]
+        fn a_line_without_a_hurdle_reads_as_its_flows_do(
+            cents in proptest::collection::vec(-5_000_000i64..5_000_000, 1..40),
+            frequency in proptest::sample::select(Frequency::ALL.to_vec()),
+        ) {
+            let amounts: Vec<Decimal> = cents.iter().map(|c| Decimal::new(*c, 2)).collect();
+            let flows = Flows::periodic(amounts.iter().copied(), frequency.per_year()).normalised();
+            proptest::prop_assume!(!flows.points.is_empty());
+            let from_flows = engine::irr::irr_report(&flows, None, false);
+            let list: Vec<String> = amounts.iter().map(Decimal::to_string).collect();
+            let text = format!(r#"{{"every": "{}", "amounts": [{}]}}"#, frequency.as_str(), list.join(", "));
+            let line: Line<'_> = serde_json::from_str(&text).unwrap();
+            let batch = screen(&line, None).unwrap();
+            proptest::prop_assert_eq!(batch.count, from_flows.count);
+            proptest::prop_assert_eq!(batch.certified, from_flows.certified);
+            proptest::prop_assert_eq!(batch.upper_bound, from_flows.upper_bound);
+            proptest::prop_assert_eq!(batch.roots.len(), from_flows.roots.len());
+            for (b, d) in batch.roots.iter().zip(&from_flows.roots) {
+                proptest::prop_assert_eq!(b.annual_rate, d.annual_rate);
+                proptest::prop_assert_eq!(b.periodic_rate, d.periodic_rate);
+                proptest::prop_assert_eq!(b.interval, d.interval);
+                proptest::prop_assert_eq!(b.log10_interval, d.log10_interval);
+                proptest::prop_assert_eq!(b.multiplicity, d.multiplicity);
+                proptest::prop_assert_eq!(b.balance_kind, d.balance_kind);
+            }
+            if !cents.contains(&0) {
+                let fast = engine::irr::periodic_report(&amounts, frequency.per_year());
+                proptest::prop_assert_eq!(
+                    serde_json::to_value(&fast).unwrap(),
+                    serde_json::to_value(&from_flows).unwrap()
+                );
+            }
         }
 
         /// Differential: the read-ahead list reader gives exactly what the general
