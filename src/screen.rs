@@ -721,9 +721,9 @@ struct ScreenedRoot {
     stance: Option<engine::Stance>,
 }
 
-/// Bytes read at a time by [`screen_stream`] (256 KiB): about fifty lines of 481
-/// amounts, enough to keep every core busy between reads, in buffers that are reused.
-const CHUNK: usize = 1 << 18;
+/// Bytes read at a time by [`screen_stream`]: a few hundred typical lines, enough to
+/// keep every core busy between reads, in a buffer that is reused.
+const CHUNK: usize = 1 << 20;
 
 /// Why [`screen_stream`] stopped.
 #[derive(Debug)]
@@ -734,18 +734,11 @@ pub enum StreamError {
     Write(std::io::Error),
 }
 
-/// Blocks being screened at once, at most: while a thread finishes the last lines of
-/// one block (or waits for a processor another program holds), the others go on with
-/// the next, and memory stays bounded by a few blocks.
-const IN_FLIGHT: usize = 3;
-
 /// Screens a stream of JSON lines and writes one JSON line per non-blank input line to
-/// `out`, in input order. The input is read a block at a time; the complete lines of
-/// each block are screened in parallel while the next block is read, and up to
-/// [`IN_FLIGHT`] blocks are screened at once (no thread waits for a block to finish
-/// before starting on the next), so memory stays bounded however long the input is. A
-/// line that is not UTF-8 text gets an error line of its own (a byte-order mark opening
-/// the stream is skipped).
+/// `out`, in input order. The input is read a block at a time, and the complete lines
+/// of each block are screened in parallel while the next block is read, so memory
+/// stays bounded however long the input is. A line that is not UTF-8 text gets an
+/// error line of its own (a byte-order mark opening the stream is skipped).
 pub fn screen_stream(
     input: &mut (impl std::io::Read + Send),
     out: &mut impl std::io::Write,
@@ -776,140 +769,58 @@ pub fn screen_stream(
         }
     }
     let mut cur: Vec<u8> = Vec::with_capacity(2 * CHUNK);
+    let mut next: Vec<u8> = Vec::with_capacity(2 * CHUNK);
     let mut eof = fill(&mut *input, &mut cur).map_err(StreamError::Read)? == 0;
     if cur.starts_with(b"\xEF\xBB\xBF") {
         cur.drain(..3);
     }
-    // Each screened block comes back as (its number, its answers, its buffer).
-    let (done, finished) = std::sync::mpsc::channel::<(usize, Vec<String>, Vec<u8>)>();
-    let mut writer = InOrder {
-        out,
-        finished,
-        waiting: std::collections::BTreeMap::new(),
-        sent: 0,
-        written: 0,
-        spare: Vec::new(),
-    };
-    rayon::in_place_scope(|scope| {
-        let mut line_no = 0usize;
-        loop {
-            // The complete lines of this block; the rest starts the next one.
-            let complete = if eof {
-                cur.len()
-            } else {
-                memchr::memrchr(b'\n', &cur).map_or(0, |k| k + 1)
-            };
-            if complete == 0 && cur.len() > MAX_LINE_BYTES {
-                // A line longer than any accepted, its end not in sight: answer it at
-                // once, after the lines before it (the answer is flushed, as the rest
-                // of the line may be endless, as /dev/zero is), then read past it
-                // without keeping it.
-                writer.write_until(0)?;
-                writer
-                    .out
-                    .write_all(too_long(line_no).as_bytes())
-                    .and_then(|()| writer.out.write_all(b"\n"))
-                    .and_then(|()| writer.out.flush())
-                    .map_err(StreamError::Write)?;
-                line_no += 1;
-                eof = skip_line(&mut *input, &mut cur).map_err(StreamError::Read)?;
-                if cur.is_empty() && !eof {
-                    eof = fill(&mut *input, &mut cur).map_err(StreamError::Read)? == 0;
-                }
-                continue;
+    let mut line_no = 0usize;
+    loop {
+        // The complete lines of this block; the rest starts the next one.
+        let complete = if eof {
+            cur.len()
+        } else {
+            memchr::memrchr(b'\n', &cur).map_or(0, |k| k + 1)
+        };
+        if complete == 0 && cur.len() > MAX_LINE_BYTES {
+            // A line longer than any accepted, its end not in sight: answer it at once
+            // (the answer is flushed, as the rest of the line may be endless, as
+            // /dev/zero is), then read past it without keeping it.
+            out.write_all(too_long(line_no).as_bytes())
+                .and_then(|()| out.write_all(b"\n"))
+                .and_then(|()| out.flush())
+                .map_err(StreamError::Write)?;
+            line_no += 1;
+            eof = skip_line(&mut *input, &mut cur).map_err(StreamError::Read)?;
+            if cur.is_empty() && !eof {
+                eof = fill(&mut *input, &mut cur).map_err(StreamError::Read)? == 0;
             }
-            // The block keeps this buffer; the rest of its last line starts another.
-            let mut next = writer
-                .spare
-                .pop()
-                .unwrap_or_else(|| Vec::with_capacity(2 * CHUNK));
-            next.clear();
-            next.extend_from_slice(&cur[complete..]);
-            let mut block = std::mem::replace(&mut cur, next);
-            block.truncate(complete);
-            let first = line_no;
-            line_no += memchr::memchr_iter(b'\n', &block).count()
-                + usize::from(!block.is_empty() && !block.ends_with(b"\n"));
-            let number = writer.sent;
-            writer.sent += 1;
-            let done = done.clone();
-            scope.spawn(move |_| {
-                let (_, answers) = screen_block(&block, first);
-                // (The receiver waits for every block it sent before it goes.)
-                let _ = done.send((number, answers, block));
-            });
-            if eof {
-                return writer.write_until(0);
-            }
-            // Read the next block while this one is screened, once few enough are.
-            writer.write_until(IN_FLIGHT - 1)?;
-            eof = match fill(&mut *input, &mut cur) {
-                Ok(n) => n == 0,
-                Err(e) => {
-                    writer.write_until(0)?;
-                    return Err(StreamError::Read(e));
-                }
-            };
+            continue;
         }
-    })
-}
-
-/// Writes the answers of screened blocks in input order as they come back.
-struct InOrder<'w, W: std::io::Write> {
-    out: &'w mut W,
-    finished: std::sync::mpsc::Receiver<(usize, Vec<String>, Vec<u8>)>,
-    /// Answers that came back before those of an earlier block.
-    waiting: std::collections::BTreeMap<usize, Vec<String>>,
-    /// Blocks sent to be screened, and blocks whose answers are written.
-    sent: usize,
-    written: usize,
-    /// Buffers of screened blocks, for the blocks still to be read.
-    spare: Vec<Vec<u8>>,
-}
-
-impl<W: std::io::Write> InOrder<'_, W> {
-    /// Waits for blocks and writes their answers until at most `open` blocks are
-    /// being screened (0: all written). A failed write is reported once every block
-    /// sent has come back.
-    fn write_until(&mut self, open: usize) -> Result<(), StreamError> {
-        while self.sent - self.written > open {
-            if let Some(answers) = self.waiting.remove(&self.written) {
-                for o in answers {
-                    let written = self
-                        .out
-                        .write_all(o.as_bytes())
-                        .and_then(|()| self.out.write_all(b"\n"));
-                    if let Err(e) = written {
-                        self.written += 1;
-                        self.drain();
-                        return Err(StreamError::Write(e));
-                    }
+        next.clear();
+        next.extend_from_slice(&cur[complete..]);
+        let block = &cur[..complete];
+        let (results, read) = rayon::join(
+            || screen_block(block, line_no),
+            || {
+                if eof {
+                    Ok(0)
+                } else {
+                    fill(&mut *input, &mut next)
                 }
-                self.written += 1;
-                continue;
-            }
-            match self.finished.recv() {
-                Ok((number, answers, buffer)) => {
-                    self.waiting.insert(number, answers);
-                    if self.spare.len() < IN_FLIGHT {
-                        self.spare.push(buffer);
-                    }
-                }
-                // (Cannot happen: every block sends its answers.)
-                Err(_) => return Ok(()),
-            }
+            },
+        );
+        let (lines, outputs) = results;
+        line_no += lines;
+        for o in outputs {
+            out.write_all(o.as_bytes()).map_err(StreamError::Write)?;
+            out.write_all(b"\n").map_err(StreamError::Write)?;
         }
-        Ok(())
-    }
-
-    /// Waits for every block still being screened, without writing.
-    fn drain(&mut self) {
-        let out = self.sent - self.written - self.waiting.len();
-        for _ in 0..out {
-            let _ = self.finished.recv();
+        if eof {
+            return Ok(());
         }
-        self.written = self.sent;
-        self.waiting.clear();
+        eof = read.map_err(StreamError::Read)? == 0;
+        std::mem::swap(&mut cur, &mut next);
     }
 }
 
