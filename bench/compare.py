@@ -136,9 +136,9 @@ def main() -> int:
 
     n = a.series
     print(f"series: {n} monthly, {MONTHS + 1} flows each ({path})")
-    print(f"candor rates --batch : best of {a.runs} {best_c:8.3f} s  = {best_c / n * 1e3:8.3f} ms/series (whole process)")
-    print(f"pyxirr irr (loop)    : best of {a.runs} {best_p:8.3f} s  = {best_p / n * 1e3:8.3f} ms/series")
-    print(f"ratio candor/pyxirr  : {best_c / best_p:.2f}")
+    print(f"candor rates --batch : best of {a.runs} {best_c:8.4f} s  = {best_c / n * 1e3:8.4f} ms/series (whole process)")
+    print(f"pyxirr irr (loop)    : best of {a.runs} {best_p:8.4f} s  = {best_p / n * 1e3:8.4f} ms/series")
+    print(f"ratio candor/pyxirr  : {best_c / best_p:.3f}")
     print(f"candor: {multi} series with more than one root, {uncertified} uncertified, {errors} errors; "
           f"pyxirr: {n - none_p} roots returned, {matched} found among candor's roots, {none_p} without a root")
     for p in problems[:50]:

@@ -84,9 +84,39 @@ fn digit_run(body: &[u8], i: usize) -> (u64, usize) {
 
 /// A JSON array of plain numbers (`-123.45`: no exponent, at most 16 digits before
 /// the point and 6 after, within the deal-file limits) starting at `b[open] == b'['`,
-/// read in one pass straight into exact decimals: the amounts and the index of the
-/// closing `]`. `None` as soon as anything else appears, for the general reader.
+/// read straight into exact decimals: the amounts and the index of the closing `]`.
+/// `None` as soon as anything else appears, for the general reader.
+///
+/// The list ends at the first `]` (no plain number holds one), and the commas split it
+/// into one number each, both found by `memchr`: where each number starts is then
+/// known before any is read, so the reading of one number does not wait on the digits
+/// of the one before.
 fn plain_numbers(b: &[u8], open: usize) -> Option<(Vec<Decimal>, usize)> {
+    let first = open + 1;
+    let close = first + memchr::memchr(b']', b.get(first..)?)?;
+    let inner = &b[first..close];
+    let mut out = Vec::with_capacity((inner.len() / 8 + 1).min(MAX_FLOWS + 1));
+    if inner.iter().all(|&c| is_json_space(c)) {
+        return Some((out, close));
+    }
+    let mut start = first;
+    for comma in memchr::memchr_iter(b',', inner) {
+        let end = first + comma;
+        out.push(plain_number(b, start, end)?);
+        // Past the flow limit: the general reader refuses the list, unread.
+        if out.len() > MAX_FLOWS {
+            return None;
+        }
+        start = end + 1;
+    }
+    out.push(plain_number(b, start, close)?);
+    Some((out, close))
+}
+
+/// The plain number that fills `b[i..end]` but for JSON white space either side
+/// (`b[end]` is the comma or bracket after it); `None` for anything else.
+#[inline(always)]
+fn plain_number(b: &[u8], mut i: usize, end: usize) -> Option<Decimal> {
     const POW10: [u64; 9] = [
         1,
         10,
@@ -98,102 +128,84 @@ fn plain_numbers(b: &[u8], open: usize) -> Option<(Vec<Decimal>, usize)> {
         10_000_000,
         100_000_000,
     ];
-    let len = b.len();
-    let mut out = Vec::with_capacity(((len - open) / 8 + 1).min(MAX_FLOWS + 1));
-    let skip_space = |i: &mut usize| {
-        while *i < len && is_json_space(b[*i]) {
-            *i += 1;
-        }
-    };
-    let mut i = open + 1;
-    skip_space(&mut i);
-    if b.get(i) == Some(&b']') {
-        return Some((out, i));
+    // (Lists are usually written with one space after each comma.)
+    while i < end && is_json_space(b[i]) {
+        i += 1;
     }
-    loop {
-        let negative = *b.get(i)? == b'-';
-        if negative {
-            i += 1;
-        }
-        // JSON's grammar: an integer part without leading zeros, then optionally a
-        // point and at least one digit (exponents go to the general reader).
-        let (hi, n_hi) = digit_run(b, i);
-        let (mut int, mut n_int) = (hi, n_hi);
-        if n_hi == 8 {
-            let (lo, n_lo) = digit_run(b, i + 8);
-            if n_lo == 8 && digit_run(b, i + 16).1 > 0 {
-                // Seventeen or more digits: beyond the limits, for the general reader.
-                return None;
-            }
-            int = hi * POW10[n_lo] + lo;
-            n_int += n_lo;
-        }
-        if n_int == 0 || (b[i] == b'0' && n_int > 1) {
+    if i >= end {
+        return None;
+    }
+    let negative = b[i] == b'-';
+    if negative {
+        i += 1;
+    }
+    // JSON's grammar: an integer part without leading zeros, then optionally a point
+    // and at least one digit (exponents go to the general reader). A run of digits
+    // stops at `b[end]` at the latest, which is not a digit.
+    let (hi, n_hi) = digit_run(b, i);
+    let (mut int, mut n_int) = (hi, n_hi);
+    if n_hi == 8 {
+        let (lo, n_lo) = digit_run(b, i + 8);
+        if n_lo == 8 && digit_run(b, i + 16).1 > 0 {
+            // Seventeen or more digits: beyond the limits, for the general reader.
             return None;
         }
-        i += n_int;
-        let (mut frac, mut scale) = (0u64, 0usize);
-        if i < len && b[i] == b'.' {
-            i += 1;
-            // Two places, the usual case for money: read them directly.
-            let digit = |k: usize| b.get(k).map_or(u8::MAX, |c| c.wrapping_sub(b'0'));
-            let (d0, d1) = (digit(i), digit(i + 1));
-            if d0 < 10 && d1 < 10 && digit(i + 2) >= 10 {
-                (frac, scale) = (u64::from(d0 * 10 + d1), 2);
-                i += 2;
-            } else {
-                let (f, n_frac) = digit_run(b, i);
-                if n_frac == 0 || n_frac > MAX_SCALE as usize {
-                    return None;
-                }
-                (frac, scale) = (f, n_frac);
-                i += n_frac;
-            }
-        }
-        if n_int <= 12 {
-            // Below 10^12 before the point and at most 6 places: under 10^18, in 64
-            // bits, and inside the limits without a check.
-            let mantissa = int * POW10[scale] + frac;
-            out.push(Decimal::from_parts(
-                mantissa as u32,
-                (mantissa >> 32) as u32,
-                0,
-                negative,
-                scale as u32,
-            ));
+        int = hi * POW10[n_lo] + lo;
+        n_int += n_lo;
+    }
+    if n_int == 0 || (b[i] == b'0' && n_int > 1) {
+        return None;
+    }
+    i += n_int;
+    let (mut frac, mut scale) = (0u64, 0usize);
+    if i < end && b[i] == b'.' {
+        i += 1;
+        // Two places, the usual case for money: read them directly.
+        let digit = |k: usize| b.get(k).map_or(u8::MAX, |c| c.wrapping_sub(b'0'));
+        let (d0, d1) = (digit(i), digit(i + 1));
+        if d0 < 10 && d1 < 10 && digit(i + 2) >= 10 {
+            (frac, scale) = (u64::from(d0 * 10 + d1), 2);
+            i += 2;
         } else {
-            // Up to 16 digits before the point and 6 after: the mantissa can pass 2^64.
-            let mantissa = u128::from(int) * u128::from(POW10[scale]) + u128::from(frac);
-            if mantissa > MAX_AMOUNT as u128 * u128::from(POW10[scale]) {
+            let (f, n_frac) = digit_run(b, i);
+            if n_frac == 0 || n_frac > MAX_SCALE as usize {
                 return None;
             }
-            // At most 10^21, well inside the 96-bit mantissa.
-            out.push(Decimal::from_parts(
-                mantissa as u32,
-                (mantissa >> 32) as u32,
-                (mantissa >> 64) as u32,
-                negative,
-                scale as u32,
-            ));
+            (frac, scale) = (f, n_frac);
+            i += n_frac;
         }
-        // (Lists are usually written with one space after each comma.)
-        if b.get(i) == Some(&b' ') {
-            i += 1;
+    }
+    while i < end && is_json_space(b[i]) {
+        i += 1;
+    }
+    if i != end {
+        return None;
+    }
+    if n_int <= 12 {
+        // Below 10^12 before the point and at most 6 places: under 10^18, in 64
+        // bits, and inside the limits without a check.
+        let mantissa = int * POW10[scale] + frac;
+        Some(Decimal::from_parts(
+            mantissa as u32,
+            (mantissa >> 32) as u32,
+            0,
+            negative,
+            scale as u32,
+        ))
+    } else {
+        // Up to 16 digits before the point and 6 after: the mantissa can pass 2^64.
+        let mantissa = u128::from(int) * u128::from(POW10[scale]) + u128::from(frac);
+        if mantissa > MAX_AMOUNT as u128 * u128::from(POW10[scale]) {
+            return None;
         }
-        skip_space(&mut i);
-        match b.get(i)? {
-            // Past the flow limit: the general reader refuses the list, unread.
-            b',' if out.len() > MAX_FLOWS => return None,
-            b',' => {
-                i += 1;
-                if b.get(i) == Some(&b' ') {
-                    i += 1;
-                }
-                skip_space(&mut i);
-            }
-            b']' => return Some((out, i)),
-            _ => return None,
-        }
+        // At most 10^21, well inside the 96-bit mantissa.
+        Some(Decimal::from_parts(
+            mantissa as u32,
+            (mantissa >> 32) as u32,
+            (mantissa >> 64) as u32,
+            negative,
+            scale as u32,
+        ))
     }
 }
 
@@ -336,8 +348,26 @@ fn frequency(name: &str) -> Option<Frequency> {
     Frequency::ALL.into_iter().find(|f| f.as_str() == name)
 }
 
+/// The flows of a line, as read: periodic amounts from period 0 (not yet normalised:
+/// they may hold zeros), or any flows.
+enum Series {
+    Periodic(Vec<Decimal>, u32),
+    Flows(Flows),
+}
+
+impl Series {
+    /// The flows as the engine takes them (see [`Flows::normalised`]).
+    fn into_flows(self) -> Flows {
+        match self {
+            Series::Periodic(amounts, per_year) => Flows::periodic(amounts, per_year),
+            Series::Flows(flows) => flows,
+        }
+        .into_normalised()
+    }
+}
+
 /// The series of a line; `amounts`, when given, were read ahead by [`split_amounts`].
-fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, LineError> {
+fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Series, LineError> {
     match (&line.amounts, &line.dated) {
         (Some(_), Some(_)) => Err((
             "flows-conflict",
@@ -359,7 +389,7 @@ fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, Lin
             if amounts.len() > MAX_FLOWS {
                 return Err(too_many(amounts.len()));
             }
-            Ok(Flows::periodic(amounts, freq.per_year()))
+            Ok(Series::Periodic(amounts, freq.per_year()))
         }
         (None, Some(raw)) => {
             let name = line.day_count.as_deref().unwrap_or("act/365f");
@@ -385,7 +415,7 @@ fn flows_of(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Flows, Lin
                     .map_err(|(code, m)| (code, format!("dated[{i}].amount: {m}")))?;
                 entries.push((date, amount, None));
             }
-            Ok(Flows::dated(entries, dc))
+            Ok(Series::Flows(Flows::dated(entries, dc)))
         }
     }
 }
@@ -585,7 +615,7 @@ fn too_long(index: usize) -> String {
 }
 
 fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, LineError> {
-    let flows = flows_of(line, amounts)?.into_normalised();
+    let series = flows_of(line, amounts)?;
     let rate = |raw: Option<&RawValue>, name: &str| {
         raw.map(exact_rate)
             .transpose()
@@ -594,19 +624,31 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
     let hurdle = rate(line.hurdle_rate, "hurdle_rate")?;
     let finance = rate(line.finance_rate, "finance_rate")?;
     let reinvest = rate(line.reinvestment_rate, "reinvestment_rate")?;
-    if flows.points.is_empty() {
-        return Err(("all-zero-flows", "every flow is zero".into()));
-    }
-    let reading = engine::read_series(
-        &flows,
-        engine::SeriesRates {
-            hurdle,
-            finance,
-            reinvestment: reinvest,
-        },
-        false,
-    );
-    let report = reading.report;
+    let (report, npv, mirr) = match series {
+        // The usual line: roots only, of periodic amounts without a zero among them
+        // (so already normalised), read from the amounts without building flow points.
+        Series::Periodic(amounts, per_year)
+            if hurdle.is_none() && !amounts.is_empty() && !amounts.iter().any(Decimal::is_zero) =>
+        {
+            (engine::irr::periodic_report(&amounts, per_year), None, None)
+        }
+        series => {
+            let flows = series.into_flows();
+            if flows.points.is_empty() {
+                return Err(("all-zero-flows", "every flow is zero".into()));
+            }
+            let reading = engine::read_series(
+                &flows,
+                engine::SeriesRates {
+                    hurdle,
+                    finance,
+                    reinvestment: reinvest,
+                },
+                false,
+            );
+            (reading.report, reading.npv_at_hurdle, reading.mirr)
+        }
+    };
     let roots = report
         .roots
         .iter()
@@ -621,7 +663,7 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
             stance: hurdle.map(|_| r.stance),
         })
         .collect();
-    let (npv_at_hurdle, npv_at_hurdle_approx) = match reading.npv_at_hurdle {
+    let (npv_at_hurdle, npv_at_hurdle_approx) = match npv {
         Some((npv, approx)) => (Some(npv.map(|v| v.to_string())), approx),
         None => (None, None),
     };
@@ -635,7 +677,7 @@ fn screen(line: &Line<'_>, amounts: Option<Vec<Decimal>>) -> Result<Screened, Li
         exact_check: report.exact_check,
         npv_at_hurdle,
         npv_at_hurdle_approx,
-        mirr: reading.mirr,
+        mirr,
     })
 }
 
@@ -865,6 +907,88 @@ mod tests {
             .lines()
             .map(str::to_string)
             .collect()
+    }
+
+    /// Lines of batch input filling about `blocks` blocks, and their answers.
+    fn many_lines(blocks: usize) -> (String, Vec<String>) {
+        let (mut text, mut expected) = (String::new(), Vec::new());
+        let mut k = 0;
+        while text.len() < blocks * CHUNK {
+            let amounts = format!("-1000.5, {}", "3.25, ".repeat(1 + k % 500)) + "4";
+            let l = format!(r#"{{"id": {k}, "every": "month", "amounts": [{amounts}]}}"#);
+            expected.push(screen_text(&l, k));
+            text.push_str(&l);
+            text.push('\n');
+            k += 1;
+        }
+        (text, expected)
+    }
+
+    #[test]
+    fn a_failed_read_ends_the_stream_after_the_answers_before_it() {
+        /// Hands out its data, then fails.
+        struct Failing<'a>(&'a [u8]);
+        impl std::io::Read for Failing<'_> {
+            fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+                if self.0.is_empty() {
+                    return Err(std::io::Error::other("the disk went away"));
+                }
+                let n = buf.len().min(self.0.len()).min(4096);
+                buf[..n].copy_from_slice(&self.0[..n]);
+                self.0 = &self.0[n..];
+                Ok(n)
+            }
+        }
+        let (text, expected) = many_lines(7);
+        // The read fails in the sixth block.
+        let mut input = Failing(&text.as_bytes()[..5 * CHUNK + 1000]);
+        let mut out = Vec::new();
+        let result = screen_stream(&mut input, &mut out);
+        assert!(matches!(result, Err(StreamError::Read(_))), "{result:?}");
+        let got: Vec<&str> = std::str::from_utf8(&out).unwrap().lines().collect();
+        // Every block read whole was answered, in order, and nothing after the failure.
+        let whole = text[..5 * CHUNK].matches('\n').count();
+        assert_eq!(got.len(), whole);
+        assert_eq!(got, expected[..got.len()]);
+    }
+
+    #[test]
+    fn a_failed_write_ends_the_stream_without_waiting_forever() {
+        /// Takes `room` bytes, then fails.
+        struct Full {
+            taken: Vec<u8>,
+            room: usize,
+        }
+        impl std::io::Write for Full {
+            fn write(&mut self, buf: &[u8]) -> std::io::Result<usize> {
+                if self.taken.len() >= self.room {
+                    return Err(std::io::Error::other("no space left"));
+                }
+                let n = buf.len().min(self.room - self.taken.len());
+                self.taken.extend_from_slice(&buf[..n]);
+                Ok(n)
+            }
+            fn flush(&mut self) -> std::io::Result<()> {
+                Ok(())
+            }
+        }
+        let (text, expected) = many_lines(6);
+        let all = expected.join("\n") + "\n";
+        for room in [0, 10, all.len() / 3, all.len() - 1] {
+            let mut out = Full {
+                taken: Vec::new(),
+                room,
+            };
+            let result = screen_stream(
+                &mut Trickle {
+                    data: text.as_bytes(),
+                    step: 1,
+                },
+                &mut out,
+            );
+            assert!(matches!(result, Err(StreamError::Write(_))), "{result:?}");
+            assert_eq!(out.taken, all.as_bytes()[..room]);
+        }
     }
 
     #[test]
@@ -1168,6 +1292,43 @@ mod tests {
                 Some(deal.npv_at_hurdle.map(|v| v.to_string()))
             );
             proptest::prop_assert_eq!(batch.mirr, Some(deal.mirr));
+        }
+
+        /// Differential: a line without a hurdle, whose periodic amounts are read
+        /// without building flow points, gets the report a deal's flows get (every
+        /// field, the certificate included), and the batch line says the same.
+        #[test]
+        fn a_line_without_a_hurdle_reads_as_its_flows_do(
+            cents in proptest::collection::vec(-5_000_000i64..5_000_000, 1..40),
+            frequency in proptest::sample::select(Frequency::ALL.to_vec()),
+        ) {
+            let amounts: Vec<Decimal> = cents.iter().map(|c| Decimal::new(*c, 2)).collect();
+            let flows = Flows::periodic(amounts.iter().copied(), frequency.per_year()).normalised();
+            proptest::prop_assume!(!flows.points.is_empty());
+            let from_flows = engine::irr::irr_report(&flows, None, false);
+            let list: Vec<String> = amounts.iter().map(Decimal::to_string).collect();
+            let text = format!(r#"{{"every": "{}", "amounts": [{}]}}"#, frequency.as_str(), list.join(", "));
+            let line: Line<'_> = serde_json::from_str(&text).unwrap();
+            let batch = screen(&line, None).unwrap();
+            proptest::prop_assert_eq!(batch.count, from_flows.count);
+            proptest::prop_assert_eq!(batch.certified, from_flows.certified);
+            proptest::prop_assert_eq!(batch.upper_bound, from_flows.upper_bound);
+            proptest::prop_assert_eq!(batch.roots.len(), from_flows.roots.len());
+            for (b, d) in batch.roots.iter().zip(&from_flows.roots) {
+                proptest::prop_assert_eq!(b.annual_rate, d.annual_rate);
+                proptest::prop_assert_eq!(b.periodic_rate, d.periodic_rate);
+                proptest::prop_assert_eq!(b.interval, d.interval);
+                proptest::prop_assert_eq!(b.log10_interval, d.log10_interval);
+                proptest::prop_assert_eq!(b.multiplicity, d.multiplicity);
+                proptest::prop_assert_eq!(b.balance_kind, d.balance_kind);
+            }
+            if !cents.contains(&0) {
+                let fast = engine::irr::periodic_report(&amounts, frequency.per_year());
+                proptest::prop_assert_eq!(
+                    serde_json::to_value(&fast).unwrap(),
+                    serde_json::to_value(&from_flows).unwrap()
+                );
+            }
         }
 
         /// Differential: the read-ahead list reader gives exactly what the general

@@ -1,7 +1,7 @@
 //! From the roots in `y` to the IRR report: annual and periodic rates, certified
 //! intervals, the balance path at each root and the stance at the hurdle.
 
-use super::analysis::{BalanceKind, Certificate, IrrReport, Root, SignBounds};
+use super::analysis::{BalanceKind, BalanceRow, Certificate, IrrReport, Root, SignBounds};
 use super::flows::Flows;
 use super::roots::{find_roots, ExactCheck, RootSet};
 use super::{figures, Decision, Stance};
@@ -81,7 +81,6 @@ pub(crate) fn report_from_set(
     hurdle: Option<f64>,
     with_paths: bool,
 ) -> IrrReport {
-    let per_year = 1.0 / set.step_years;
     let npv_sign = match hurdle {
         Some(h) if !set.roots.is_empty() => figures::npv_sign(flows, h),
         _ => 0,
@@ -104,17 +103,10 @@ pub(crate) fn report_from_set(
             .map(|p| (p.offset, super::flows::amount_f64(p.amount)))
             .collect()
     };
-    let roots = set
-        .roots
-        .iter()
-        .map(|r| {
-            let log_annual = r.y * per_year;
-            let annual = rate_from_log(log_annual);
-            let periodic = flows
-                .periods_per_year
-                .map(|_| (r.y / set.step_units as f64).exp_m1())
-                .filter(|x| x.is_finite());
-            let (log_lo, log_hi) = (r.lo * per_year, r.hi * per_year);
+    report_with(
+        set,
+        flows.periods_per_year,
+        |log_annual, log_bounds, annual| {
             let (path, balance_kind) = if with_paths {
                 let path = figures::balance_path(flows, log_annual);
                 let kind = figures::balance_kind(&path);
@@ -126,11 +118,64 @@ pub(crate) fn report_from_set(
                 )
             };
             let (stance, decision) = match hurdle {
-                Some(h) => {
-                    stance_and_decision(flows, h, npv_sign, log_annual, (log_lo, log_hi), annual)
-                }
+                Some(h) => stance_and_decision(flows, h, npv_sign, log_annual, log_bounds, annual),
                 None => (Stance::Neutral, Decision::Indifferent),
             };
+            (path, balance_kind, stance, decision)
+        },
+    )
+}
+
+/// The IRR report of periodic flows at periods 0, 1, ..., n - 1 (every amount non-zero,
+/// so already normalised) without a hurdle or balance paths: what [`irr_report`] gives
+/// for the same flows, from the amounts alone (batch screening's usual line, which
+/// then needs no flow points).
+pub(crate) fn periodic_report(amounts: &[rust_decimal::Decimal], per_year: u32) -> IrrReport {
+    let offsets: Vec<i64> = (0..amounts.len() as i64).collect();
+    let set = find_roots(amounts, &offsets, u64::from(per_year));
+    let pts: Vec<(i64, f64)> = if set.roots.is_empty() {
+        Vec::new()
+    } else if set.coefficients.len() == amounts.len() {
+        offsets
+            .into_iter()
+            .zip(set.coefficients.iter().copied())
+            .collect()
+    } else {
+        offsets
+            .into_iter()
+            .zip(amounts.iter().map(|&a| super::flows::amount_f64(a)))
+            .collect()
+    };
+    let units_per_year = u64::from(per_year);
+    report_with(&set, Some(per_year), |log_annual, _, _| {
+        let kind = balance_kind_f64(&pts, units_per_year, log_annual);
+        (Vec::new(), kind, Stance::Neutral, Decision::Indifferent)
+    })
+}
+
+/// A root's balance path (empty when not asked for), balance kind, stance and decision.
+type RootReading = (Vec<BalanceRow>, BalanceKind, Stance, Decision);
+
+/// The report of a root set; `reading(log_annual, (log_lo, log_hi), annual)` gives each
+/// root's [`RootReading`]. `periods_per_year` is set for periodic flows.
+fn report_with(
+    set: &RootSet,
+    periods_per_year: Option<u32>,
+    mut reading: impl FnMut(f64, (f64, f64), Option<f64>) -> RootReading,
+) -> IrrReport {
+    let per_year = 1.0 / set.step_years;
+    let roots = set
+        .roots
+        .iter()
+        .map(|r| {
+            let log_annual = r.y * per_year;
+            let annual = rate_from_log(log_annual);
+            let periodic = periods_per_year
+                .map(|_| (r.y / set.step_units as f64).exp_m1())
+                .filter(|x| x.is_finite());
+            let (log_lo, log_hi) = (r.lo * per_year, r.hi * per_year);
+            let (path, balance_kind, stance, decision) =
+                reading(log_annual, (log_lo, log_hi), annual);
             Root {
                 annual_rate: annual,
                 periodic_rate: periodic,
@@ -301,7 +346,19 @@ fn kind_of(positive: bool, negative: bool) -> BalanceKind {
 /// Balances within this of zero count as zero: a billionth of the largest flow, the
 /// tolerance of [`figures::balance_kind`].
 fn tolerance(pts: &[(i64, f64)]) -> f64 {
-    pts.iter().map(|p| p.1.abs()).fold(0.0, f64::max) * 1e-9
+    // The largest size, taken in four running maxima that do not wait on one another
+    // (a maximum is exact, so the order does not change it).
+    let mut top = [0.0f64; 4];
+    let mut quads = pts.chunks_exact(4);
+    for q in &mut quads {
+        for (m, p) in top.iter_mut().zip(q) {
+            *m = m.max(p.1.abs());
+        }
+    }
+    for p in quads.remainder() {
+        top[0] = top[0].max(p.1.abs());
+    }
+    top[0].max(top[1]).max(top[2].max(top[3])) * 1e-9
 }
 
 /// The balance-path classification without building the rows (batch screening): the

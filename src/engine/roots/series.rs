@@ -203,8 +203,33 @@ impl<'a> NpvTerms<'a> {
             zs = self.gap_vals.iter().map(|g| (-a * g).exp()).collect();
             &zs
         };
-        let mut w = 1.0f64;
         let last = self.c.len().saturating_sub(1);
+        if self.gap_idx.is_empty() && factors.len() == 1 {
+            // Evenly spaced: term t (in this order) is its coefficient times z^t, the
+            // powers made in four interleaved chains as in [`sums_even`] (at most one
+            // rounding per unit of exponent, as one chain; the same for both orders).
+            let mut terms: Vec<f64> = if reverse {
+                self.c.iter().rev().copied().collect()
+            } else {
+                self.c.clone()
+            };
+            let z = factors[0];
+            let z2 = z * z;
+            let z4 = z2 * z2;
+            let mut w = [1.0f64, z, z2, z2 * z];
+            let mut quads = terms.chunks_exact_mut(4);
+            for q in &mut quads {
+                for l in 0..4 {
+                    q[l] *= w[l];
+                    w[l] *= z4;
+                }
+            }
+            for (t, wl) in quads.into_remainder().iter_mut().zip(w) {
+                *t *= wl;
+            }
+            return (terms, fixed, per_unit);
+        }
+        let mut w = 1.0f64;
         let terms = (0..self.c.len())
             .map(|t| {
                 // Term k, and the gap between it and the one before it in this order.
@@ -240,9 +265,45 @@ impl<'a> NpvTerms<'a> {
     /// at `a` (see [`NpvTerms::discounted`]).
     pub(super) fn bounds_at(&self, a: f64, reverse: bool) -> Option<(u32, u32)> {
         let (terms, fixed, per_unit) = self.discounted(a, reverse);
-        let above = self.partial_sum_changes(&terms, fixed, per_unit, false)?;
-        let below = self.partial_sum_changes(&terms, fixed, per_unit, true)?;
-        Some((above, below))
+        self.partial_sum_changes_both(&terms, fixed, per_unit)
+    }
+
+    /// [`NpvTerms::partial_sum_changes`] forwards and backwards at once: (forwards,
+    /// backwards). The two running sums are the same numbers, added in the same order,
+    /// as two separate passes would make; taken in one loop, neither waits on the other.
+    pub(super) fn partial_sum_changes_both(
+        &self,
+        terms: &[f64],
+        fixed: f64,
+        per_unit: f64,
+    ) -> Option<(u32, u32)> {
+        let floor = 1e-290 * self.abs_sum;
+        let own = fixed + per_unit * self.last_n();
+        let (Some(&head), Some(&tail)) = (terms.first(), terms.last()) else {
+            return Some((0, 0));
+        };
+        let (mut fwd, mut fwd_size, mut bwd, mut bwd_size) = (0.0f64, 0.0f64, 0.0f64, 0.0f64);
+        // Every sum is certain, so none is zero, when the counts are returned: a sign
+        // change is then a change of the sign bit (the first sums are the end terms).
+        let (mut fwd_sign, mut bwd_sign) = ((0.0 + head).to_bits(), (0.0 + tail).to_bits());
+        let (mut fwd_changes, mut bwd_changes) = (0u32, 0u32);
+        for (j, (&t, &u)) in terms.iter().zip(terms.iter().rev()).enumerate() {
+            fwd += t;
+            fwd_size += t.abs();
+            bwd += u;
+            bwd_size += u.abs();
+            // As in `partial_sum_changes`, for each direction.
+            let allowance = own + (j as f64 + 2.0) * 2.0 * EPS;
+            fwd_changes += ((fwd.to_bits() ^ fwd_sign) >> 63) as u32;
+            bwd_changes += ((bwd.to_bits() ^ bwd_sign) >> 63) as u32;
+            (fwd_sign, bwd_sign) = (fwd.to_bits(), bwd.to_bits());
+            if !(fwd.abs() > allowance * fwd_size + floor
+                && bwd.abs() > allowance * bwd_size + floor)
+            {
+                return None;
+            }
+        }
+        Some((fwd_changes, bwd_changes))
     }
 
     /// Sign changes of the partial sums of `terms` taken forwards (or `backwards`), each
