@@ -34,6 +34,7 @@ pub mod engine;
 pub mod files;
 
 pub mod input;
+pub(crate) mod join;
 pub mod limits;
 pub mod memo;
 pub mod model;

@@ -2,8 +2,12 @@
 //! cover with a summary table of every deal, a linked table of contents, then each
 //! deal's memo, with continuous page numbers and every deal file attached.
 //!
-//! The deals are loaded, analysed and charted in parallel; the one document is then
-//! typeset once, so that page numbers and the contents run across all memos.
+//! The deals are loaded, analysed and charted in parallel. The memos are then typeset
+//! one at a time on each core and joined into one PDF as they come (`join`), so that
+//! memory follows a few memos and not the whole pack. Page numbers run across the pack:
+//! a first pass counts each memo's pages (typesetting without making the PDF), then
+//! each memo is typeset with its first page number and the pack's page count, and the
+//! cover last, with the contents' page numbers and links.
 
 use crate::diag::{Diagnostic, Failure, FailureClass};
 use crate::engine::{self, Analysis};
@@ -43,6 +47,18 @@ struct PackView {
     skipped: Vec<String>,
     rows: Vec<RowView>,
     version: String,
+    /// The contents: each deal with the number of its memo's first page.
+    contents: Vec<ContentsLine>,
+    /// Blank pages after the contents, one for each page of the memos, so that the
+    /// contents' links reach them (`join` puts the memos' pages in their place).
+    stand_ins: usize,
+}
+
+#[derive(Debug, Serialize)]
+struct ContentsLine {
+    number: usize,
+    deal: String,
+    page: usize,
 }
 
 #[derive(Debug, Serialize)]
@@ -138,14 +154,14 @@ fn summary_row(number: usize, d: &PackedDeal) -> RowView {
 /// Files the typesetter can read, as (virtual path, bytes).
 pub type Files = Vec<(String, Vec<u8>)>;
 
-/// Builds the pack's markup and the files it reads. No file system access.
-pub(crate) fn pack_markup(
+/// The cover's view; its contents are filled in by [`cover_markup`].
+fn cover_view(
     title: &str,
     created: NaiveDateTime,
     deals: &[PackedDeal],
     skipped: &[String],
-) -> Result<(String, Files), Diagnostic> {
-    let view = PackView {
+) -> PackView {
+    PackView {
         title: title.to_string(),
         date: present::date_long(created.date()),
         created: report::CreatedView::of(created),
@@ -157,56 +173,157 @@ pub(crate) fn pack_markup(
             .map(|(i, d)| summary_row(i + 1, d))
             .collect(),
         version: crate::release::version(),
-    };
-    let mut markup = report::render_template(PACK_TEMPLATE.0, PACK_TEMPLATE.1, &view)?;
-    let mut files: Files = Vec::new();
-    let bodies: Vec<Result<String, Diagnostic>> = deals
-        .par_iter()
+        contents: Vec::new(),
+        stand_ins: 0,
+    }
+}
+
+/// The cover's markup (cover, summary and contents) with each memo's first page
+/// number (`first_pages`) and `stand_ins` blank pages after it. No file system access.
+fn cover_markup(
+    view: &mut PackView,
+    deals: &[PackedDeal],
+    first_pages: &[usize],
+    stand_ins: usize,
+) -> Result<String, Diagnostic> {
+    view.contents = deals
+        .iter()
+        .zip(first_pages)
         .enumerate()
-        .map(|(i, d)| {
-            // Two deal files of one name (from different folders) must still be told
-            // apart in the attachment list.
-            let name = if deals[..i].iter().any(|e| {
-                report::attachment_name(&e.source_name) == report::attachment_name(&d.source_name)
-            }) {
-                format!("{}-{}", i + 1, d.source_name)
-            } else {
-                d.source_name.clone()
-            };
-            let ctx = report::MemoContext {
-                source_name: name,
-                source_sha256: sha256_hex(&d.loaded.source),
-                companions: pack_companions(deals, i),
-                created,
-                charts: d.charts.clone(),
-                templates: BTreeMap::new(),
-                changes: None,
-                filed_version: None,
-            };
-            report::render_body(&d.analysis, &d.loaded.deal, &ctx, &prefix(i))
+        .map(|(i, (d, &page))| ContentsLine {
+            number: i + 1,
+            deal: d.loaded.deal.name.clone(),
+            page,
         })
         .collect();
-    for (i, (d, body)) in deals.iter().zip(bodies).enumerate() {
-        let body = body?;
-        let p = prefix(i);
-        files.extend(
-            d.charts
-                .iter()
-                .enumerate()
-                .flat_map(|(k, c)| c.files(k))
-                .map(|(n, b)| (format!("{p}{n}"), b)),
-        );
-        files.push((
-            format!("{p}{}", report::SOURCE_FILE),
-            d.loaded.source.clone(),
-        ));
-        for (k, (_, bytes)) in d.loaded.companions.iter().enumerate() {
-            files.push((format!("{p}{}", report::companion_file(k)), bytes.clone()));
-        }
-        // Each memo's settings (page style, helpers) stay inside its own content block.
-        markup.push_str(&format!("\n#pagebreak(weak: true)\n#[\n{body}\n]\n"));
+    view.stand_ins = stand_ins;
+    report::render_template(PACK_TEMPLATE.0, PACK_TEMPLATE.1, view)
+}
+
+/// The markup of the `i`-th deal's memo as a part of the pack, with the files it reads:
+/// its pages numbered from `first_page`, then one blank page that only sets the page
+/// counter to `total`, the pack's page count, which the memo's footer prints (`join`
+/// leaves that page out). No file system access.
+fn memo_part(
+    deals: &[PackedDeal],
+    i: usize,
+    created: NaiveDateTime,
+    first_page: usize,
+    total: usize,
+) -> Result<(String, Files), Diagnostic> {
+    let d = &deals[i];
+    // Two deal files of one name (from different folders) must still be told apart in
+    // the attachment list.
+    let name = if deals[..i]
+        .iter()
+        .any(|e| report::attachment_name(&e.source_name) == report::attachment_name(&d.source_name))
+    {
+        format!("{}-{}", i + 1, d.source_name)
+    } else {
+        d.source_name.clone()
+    };
+    let ctx = report::MemoContext {
+        source_name: name,
+        source_sha256: sha256_hex(&d.loaded.source),
+        companions: pack_companions(deals, i),
+        created,
+        charts: d.charts.clone(),
+        templates: BTreeMap::new(),
+        changes: None,
+        filed_version: None,
+    };
+    let p = prefix(i);
+    let body = report::render_body(&d.analysis, &d.loaded.deal, &ctx, &p)?;
+    let mut files: Files = d
+        .charts
+        .iter()
+        .enumerate()
+        .flat_map(|(k, c)| c.files(k))
+        .map(|(n, b)| (format!("{p}{n}"), b))
+        .collect();
+    files.push((
+        format!("{p}{}", report::SOURCE_FILE),
+        d.loaded.source.clone(),
+    ));
+    for (k, (_, bytes)) in d.loaded.companions.iter().enumerate() {
+        files.push((format!("{p}{}", report::companion_file(k)), bytes.clone()));
     }
+    // The memo's settings (page style, helpers) stay inside its own content block.
+    let markup = format!(
+        "#counter(page).update({first_page})\n#[\n{body}\n]\n\
+         #page(header: none, footer: none, background: none)[#counter(page).update({total})]\n"
+    );
     Ok((markup, files))
+}
+
+/// Memos typeset at a time between two joins: enough to keep both cores busy, few
+/// enough that memory follows a handful of memos.
+const BATCH: usize = 8;
+
+/// Typesets the pack: see the module comment. `ident` identifies the whole pack.
+fn typeset_pack(
+    view: &mut PackView,
+    deals: &[PackedDeal],
+    created: NaiveDateTime,
+    ident: &str,
+) -> Result<Vec<u8>, Diagnostic> {
+    let options = |i: usize| pdf::TypesetOptions {
+        created,
+        ident: format!("{ident}/{}", i + 1),
+    };
+    // First pass: the pages of each memo. The first page numbered 2 shows the header
+    // as it will in the pack, and the count has as many digits as a pack's could.
+    let counts: Vec<usize> = (0..deals.len())
+        .into_par_iter()
+        .map(|i| {
+            let (markup, files) = memo_part(deals, i, created, 2, 99_999)?;
+            Ok(pdf::page_count(&markup, &files, &options(i))?.saturating_sub(1))
+        })
+        .collect::<Result<_, Diagnostic>>()?;
+    let placeholder = vec![99_999; deals.len()];
+    let cover = cover_markup(view, deals, &placeholder, 0)?;
+    let front = pdf::page_count(&cover, &[], &options(usize::MAX - 1))?;
+    let mut first_pages = Vec::with_capacity(deals.len());
+    let mut next = front + 1;
+    for count in &counts {
+        first_pages.push(next);
+        next += count;
+    }
+    let total = next - 1;
+    let changed = |what: String| {
+        Diagnostic::error(
+            "typeset",
+            format!("{what} changed its number of pages between two typesettings"),
+        )
+    };
+    let mut joiner = crate::join::Joiner::new(Vec::new());
+    let order: Vec<usize> = (0..deals.len()).collect();
+    for batch in order.chunks(BATCH) {
+        let parts: Vec<Result<Vec<u8>, Diagnostic>> = batch
+            .par_iter()
+            .map(|&i| {
+                let (markup, files) = memo_part(deals, i, created, first_pages[i], total)?;
+                let (pdf, pages) = pdf::typeset_part(&markup, &files, &options(i))?;
+                if pages != counts[i] + 1 {
+                    return Err(changed(format!("the memo of {}", deals[i].source_name)));
+                }
+                Ok(pdf)
+            })
+            .collect();
+        for (&i, part) in batch.iter().zip(parts) {
+            joiner.add(&part?, counts[i])?;
+        }
+    }
+    let cover = cover_markup(view, deals, &first_pages, total - front)?;
+    let pack_options = pdf::TypesetOptions {
+        created,
+        ident: ident.to_string(),
+    };
+    let (cover, pages) = pdf::typeset_part(&cover, &[], &pack_options)?;
+    if pages != total {
+        return Err(changed("the cover".to_string()));
+    }
+    joiner.finish(&cover, front)
 }
 
 /// The CSV files of the `i`-th deal as its memo names and attaches them: a name an
@@ -322,7 +439,7 @@ pub fn build(
         )));
     }
     let names: Vec<String> = skipped.iter().map(|(n, _)| n.clone()).collect();
-    let (markup, files) = pack_markup(title, created, &deals, &names).map_err(Failure::internal)?;
+    let mut view = cover_view(title, created, &deals, &names);
     let ident = sha256_hex(
         deals
             .iter()
@@ -331,8 +448,7 @@ pub fn build(
             .join(" ")
             .as_bytes(),
     );
-    let pdf = pdf::typeset(&markup, &files, &pdf::TypesetOptions { created, ident })
-        .map_err(Failure::internal)?;
+    let pdf = typeset_pack(&mut view, &deals, created, &ident).map_err(Failure::internal)?;
     Ok(Pack {
         pdf,
         deals: deals.len(),
