@@ -256,9 +256,83 @@ fn memo_part(
     Ok((markup, files))
 }
 
-/// Memos typeset at a time between two joins: enough to keep both cores busy, few
-/// enough that memory follows a handful of memos.
-const BATCH: usize = 8;
+/// The stack of each typesetting thread: typst recurses deeply on nested markup.
+const TYPESET_STACK: usize = 64 * 1024 * 1024;
+
+/// Runs `typeset(i)` for every `i` below `count` on `threads` threads, taking the
+/// indices in order, and hands each result to `take` in index order as soon as it and
+/// every result before it are in. At most a few results wait at any time (the channel
+/// holds two per thread, and a thread takes the next index only after handing its last
+/// result over), so memory follows the number of threads, not `count`. Stops at the
+/// first error, from either side.
+fn in_order<T: Send>(
+    count: usize,
+    threads: usize,
+    typeset: &(dyn Fn(usize) -> Result<T, Diagnostic> + Sync),
+    take: &mut dyn FnMut(usize, T) -> Result<(), Diagnostic>,
+) -> Result<(), Diagnostic> {
+    use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
+    let next = AtomicUsize::new(0);
+    let stop = AtomicBool::new(false);
+    let threads = threads.clamp(1, count.max(1));
+    let (sender, receiver) = std::sync::mpsc::sync_channel(2 * threads);
+    std::thread::scope(|scope| {
+        for _ in 0..threads {
+            let sender = sender.clone();
+            let (next, stop) = (&next, &stop);
+            let spawned = std::thread::Builder::new()
+                .name("typeset".to_string())
+                .stack_size(TYPESET_STACK)
+                .spawn_scoped(scope, move || {
+                    while !stop.load(Ordering::Relaxed) {
+                        let i = next.fetch_add(1, Ordering::Relaxed);
+                        if i >= count {
+                            break;
+                        }
+                        let result = typeset(i);
+                        let failed = result.is_err();
+                        if sender.send((i, result)).is_err() || failed {
+                            break;
+                        }
+                    }
+                });
+            if let Err(e) = spawned {
+                stop.store(true, Ordering::Relaxed);
+                return Err(Diagnostic::error(
+                    "typeset",
+                    format!("cannot start a typesetting thread: {e}"),
+                ));
+            }
+        }
+        drop(sender);
+        let mut waiting = std::collections::BTreeMap::new();
+        let mut wanted = 0;
+        let mut outcome = Ok(());
+        for (i, result) in receiver.iter() {
+            waiting.insert(i, result);
+            while let Some(result) = waiting.remove(&wanted) {
+                outcome = result.and_then(|r| take(wanted, r));
+                wanted += 1;
+                if outcome.is_err() {
+                    break;
+                }
+            }
+            if outcome.is_err() {
+                stop.store(true, Ordering::Relaxed);
+                break;
+            }
+        }
+        // The threads stop at their next index; what they still send is dropped.
+        drop(receiver);
+        if outcome.is_ok() && wanted < count {
+            outcome = Err(Diagnostic::error(
+                "typeset",
+                "a typesetting thread stopped without an answer",
+            ));
+        }
+        outcome
+    })
+}
 
 /// Typesets the pack: see the module comment. `ident` identifies the whole pack.
 fn typeset_pack(
@@ -273,13 +347,19 @@ fn typeset_pack(
     };
     // First pass: the pages of each memo. The first page numbered 2 shows the header
     // as it will in the pack, and the count has as many digits as a pack's could.
-    let counts: Vec<usize> = (0..deals.len())
-        .into_par_iter()
-        .map(|i| {
+    let mut counts: Vec<usize> = Vec::with_capacity(deals.len());
+    in_order(
+        deals.len(),
+        rayon::current_num_threads(),
+        &|i| {
             let (markup, files) = memo_part(deals, i, created, 2, 99_999)?;
             Ok(pdf::page_count(&markup, &files, &options(i))?.saturating_sub(1))
-        })
-        .collect::<Result<_, Diagnostic>>()?;
+        },
+        &mut |_, pages| {
+            counts.push(pages);
+            Ok(())
+        },
+    )?;
     let placeholder = vec![99_999; deals.len()];
     let cover = cover_markup(view, deals, &placeholder, 0)?;
     let front = pdf::page_count(&cover, &[], &options(usize::MAX - 1))?;
@@ -297,23 +377,20 @@ fn typeset_pack(
         )
     };
     let mut joiner = crate::join::Joiner::new(Vec::new());
-    let order: Vec<usize> = (0..deals.len()).collect();
-    for batch in order.chunks(BATCH) {
-        let parts: Vec<Result<Vec<u8>, Diagnostic>> = batch
-            .par_iter()
-            .map(|&i| {
-                let (markup, files) = memo_part(deals, i, created, first_pages[i], total)?;
-                let (pdf, pages) = pdf::typeset_part(&markup, &files, &options(i))?;
-                if pages != counts[i] + 1 {
-                    return Err(changed(format!("the memo of {}", deals[i].source_name)));
-                }
-                Ok(pdf)
-            })
-            .collect();
-        for (&i, part) in batch.iter().zip(parts) {
-            joiner.add(&part?, counts[i])?;
-        }
-    }
+    // The memos typeset on every core but one's share: the join runs beside them.
+    in_order(
+        deals.len(),
+        rayon::current_num_threads(),
+        &|i| {
+            let (markup, files) = memo_part(deals, i, created, first_pages[i], total)?;
+            let (pdf, pages) = pdf::typeset_part(&markup, &files, &options(i))?;
+            if pages != counts[i] + 1 {
+                return Err(changed(format!("the memo of {}", deals[i].source_name)));
+            }
+            Ok(pdf)
+        },
+        &mut |i, pdf: Vec<u8>| joiner.add(&pdf, counts[i]),
+    )?;
     let cover = cover_markup(view, deals, &first_pages, total - front)?;
     let pack_options = pdf::TypesetOptions {
         created,
@@ -455,4 +532,55 @@ pub fn build(
         skipped,
         inputs: deals.iter().flat_map(|d| d.loaded.files()).collect(),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::time::Duration;
+
+    /// Results arrive out of order from the threads and are handed over in order; the
+    /// first error, of a typesetting or of the taker, ends the run and is returned.
+    #[test]
+    fn results_are_taken_in_order_until_the_first_error() {
+        let mut seen = Vec::new();
+        in_order(
+            50,
+            3,
+            &|i| {
+                std::thread::sleep(Duration::from_micros((i as u64 * 7) % 5 * 200));
+                Ok(i * 2)
+            },
+            &mut |i, v| {
+                assert_eq!(v, i * 2);
+                seen.push(i);
+                Ok(())
+            },
+        )
+        .expect("no error");
+        assert_eq!(seen, (0..50).collect::<Vec<_>>());
+        let failing = |i: usize| {
+            if i == 17 {
+                Err(Diagnostic::error("typeset", "memo 17 failed"))
+            } else {
+                Ok(i)
+            }
+        };
+        let mut taken = 0;
+        let err = in_order(50, 2, &failing, &mut |_, _| {
+            taken += 1;
+            Ok(())
+        })
+        .expect_err("memo 17");
+        assert_eq!((err.message.as_str(), taken), ("memo 17 failed", 17));
+        let err = in_order(10, 2, &Ok, &mut |i, _| {
+            if i == 3 {
+                Err(Diagnostic::error("typeset", "disk full"))
+            } else {
+                Ok(())
+            }
+        })
+        .expect_err("disk full");
+        assert_eq!(err.message, "disk full");
+    }
 }
