@@ -11,11 +11,11 @@
 //! and date are the pack's. Only the front part's metadata and output intent are
 //! copied, so the file holds one of each, as PDF/A requires.
 //!
-//! A part may carry pages that are not kept: the front part typesets a blank page in
-//! place of every page of the parts after it, so that its links to those pages come
-//! out as links to page objects; here each such page object is replaced by the kept
-//! page of the same number. A memo ends with one blank page that only carries the
-//! pack's page count (see `pack`); it is dropped.
+//! A part may carry pages that are not kept: the front part typesets one blank page
+//! for each part after it, so that its links to those parts come out as links to page
+//! objects; here each such page object is replaced by the first page of its part. A
+//! memo ends with one blank page that only carries the pack's page count (see `pack`);
+//! it is dropped.
 //!
 //! Parts are typeset without a structure tree (untagged, as PDF/A-3b allows), since the
 //! tree of each part would have to be merged as well.
@@ -48,6 +48,10 @@ fn failed(why: impl std::fmt::Display) -> Diagnostic {
     )
 }
 
+fn cannot_write(e: std::io::Error) -> Diagnostic {
+    Diagnostic::error("write", format!("cannot write the joined PDF: {e}"))
+}
+
 /// What one part gave, besides the objects already written.
 #[derive(Default)]
 struct Copied {
@@ -75,6 +79,8 @@ pub(crate) struct Joiner<W: Write> {
     /// Byte offset of each object by its new number (index 0 is the free head).
     offsets: Vec<u64>,
     header: Option<Vec<u8>>,
+    /// Where each part added starts among the pages added.
+    starts: Vec<usize>,
     pages_root: u32,
     outline_root: u32,
     body: Copied,
@@ -88,6 +94,7 @@ impl<W: Write> Joiner<W> {
             written: 0,
             offsets: vec![0, 0, 0],
             header: None,
+            starts: Vec::new(),
             pages_root: 1,
             outline_root: 2,
             body: Copied::default(),
@@ -95,7 +102,7 @@ impl<W: Write> Joiner<W> {
     }
 
     fn put(&mut self, bytes: &[u8]) -> Result<(), Diagnostic> {
-        self.out.write_all(bytes).map_err(failed)?;
+        self.out.write_all(bytes).map_err(cannot_write)?;
         self.written += bytes.len() as u64;
         Ok(())
     }
@@ -142,6 +149,10 @@ impl<W: Write> Joiner<W> {
     pub(crate) fn add(&mut self, pdf: &[u8], kept: usize) -> Result<(), Diagnostic> {
         self.start(pdf)?;
         let copied = self.copy(pdf, kept, &HashMap::new(), false)?;
+        if copied.pages.is_empty() {
+            return Err(failed("a part has no pages"));
+        }
+        self.starts.push(self.body.pages.len());
         self.body.pages.extend(copied.pages);
         self.body.outline.extend(copied.outline);
         self.body.attachments.extend(copied.attachments);
@@ -150,23 +161,24 @@ impl<W: Write> Joiner<W> {
     }
 
     /// Adds the front part (its first `kept` pages go before every page added so far;
-    /// page `kept + n` of it stands for the n-th page added so far), writes what the
-    /// parts share and the cross-reference table, and returns the output.
+    /// page `kept + n` of it stands for the first page of the n-th part added so far),
+    /// writes what the parts share and the cross-reference table, and returns the
+    /// output.
     pub(crate) fn finish(mut self, front: &[u8], kept: usize) -> Result<W, Diagnostic> {
         self.start(front)?;
         let doc = load(front)?;
         let front_pages: Vec<ObjectId> = doc.get_pages().into_values().collect();
-        if front_pages.len() != kept + self.body.pages.len() {
+        if front_pages.len() != kept + self.starts.len() {
             return Err(failed(format!(
                 "the front part has {} pages where {} were expected",
                 front_pages.len(),
-                kept + self.body.pages.len()
+                kept + self.starts.len()
             )));
         }
         let stand_ins: HashMap<ObjectId, u32> = front_pages[kept..]
             .iter()
             .copied()
-            .zip(self.body.pages.iter().copied())
+            .zip(self.starts.iter().map(|&k| self.body.pages[k]))
             .collect();
         drop(doc);
         let front = self.copy(front, kept, &stand_ins, true)?;
@@ -269,7 +281,7 @@ impl<W: Write> Joiner<W> {
         Writer::write_object(&mut end, &Object::Dictionary(trailer)).map_err(failed)?;
         end.extend_from_slice(format!("\nstartxref\n{xref_at}\n%%EOF\n").as_bytes());
         self.put(&end)?;
-        self.out.flush().map_err(failed)?;
+        self.out.flush().map_err(cannot_write)?;
         Ok(self.out)
     }
 

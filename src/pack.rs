@@ -7,7 +7,9 @@
 //! memory follows a few memos and not the whole pack. Page numbers run across the pack:
 //! a first pass counts each memo's pages (typesetting without making the PDF), then
 //! each memo is typeset with its first page number and the pack's page count, and the
-//! cover last, with the contents' page numbers and links.
+//! cover last, with the contents' page numbers and links. Only the deals as read and
+//! their summary rows are kept between the passes; each memo's analysis and charts are
+//! made again when it is typeset.
 
 use crate::diag::{Diagnostic, Failure, FailureClass};
 use crate::engine::{self, Analysis};
@@ -25,15 +27,15 @@ use std::path::PathBuf;
 pub(crate) const PACK_TEMPLATE: (&str, &str) =
     ("pack.typ.j2", include_str!("../templates/pack.typ.j2"));
 
-/// One deal ready to be typeset into the pack.
+/// One deal ready to be typeset into the pack. Its analysis and charts are made again
+/// for each typesetting (they are quick to make beside the typesetting, and a pack of a
+/// thousand deals need not hold a thousand analyses and their charts).
 #[derive(Debug, Clone)]
 pub(crate) struct PackedDeal {
     /// The deal as loaded.
     pub loaded: LoadedDeal,
-    /// Its analysis.
-    pub analysis: Analysis,
-    /// Its charts, in the analysis' order.
-    pub charts: Vec<chart::ScenarioCharts>,
+    /// Its row of the cover's summary.
+    row: RowView,
     /// The deal file's name as the pack shows and attaches it.
     pub source_name: String,
 }
@@ -49,19 +51,24 @@ struct PackView {
     version: String,
     /// The contents: each deal with the number of its memo's first page.
     contents: Vec<ContentsLine>,
-    /// Blank pages after the contents, one for each page of the memos, so that the
-    /// contents' links reach them (`join` puts the memos' pages in their place).
+    /// Blank pages after the contents, one for each memo, so that the contents' links
+    /// reach them (`join` points them at the memos' first pages); none when 0.
     stand_ins: usize,
+    /// The pack's page count, which the last stand-in page sets the page counter to.
+    total: usize,
 }
 
 #[derive(Debug, Serialize)]
 struct ContentsLine {
     number: usize,
     deal: String,
+    /// The number printed: the memo's first page.
     page: usize,
+    /// The page the line links to: the memo's stand-in page in the cover.
+    link: usize,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Clone, Serialize)]
 struct RowView {
     number: usize,
     deal: String,
@@ -77,16 +84,14 @@ struct RowView {
     cautions: Vec<String>,
 }
 
-#[derive(Debug, Serialize)]
+#[derive(Debug, Clone, Serialize)]
 struct ScenarioLine {
     label: String,
     npv: String,
     rule: String,
 }
 
-fn summary_row(number: usize, d: &PackedDeal) -> RowView {
-    let deal = &d.loaded.deal;
-    let a = &d.analysis;
+fn summary_row(number: usize, deal: &crate::model::Deal, a: &Analysis) -> RowView {
     let scale = present::summary::Scale::of(a);
     let base = a.scenarios.first();
     let periodic_start = match deal.clock {
@@ -170,22 +175,29 @@ fn cover_view(
         rows: deals
             .iter()
             .enumerate()
-            .map(|(i, d)| summary_row(i + 1, d))
+            .map(|(i, d)| RowView {
+                number: i + 1,
+                ..d.row.clone()
+            })
             .collect(),
         version: crate::release::version(),
         contents: Vec::new(),
         stand_ins: 0,
+        total: 0,
     }
 }
 
 /// The cover's markup (cover, summary and contents) with each memo's first page
-/// number (`first_pages`) and `stand_ins` blank pages after it. No file system access.
+/// number (`first_pages`); with `stand_ins`, the cover is `front` pages long and is
+/// followed by one blank page per memo, the last of which sets the page counter to
+/// `total`. No file system access.
 fn cover_markup(
     view: &mut PackView,
     deals: &[PackedDeal],
     first_pages: &[usize],
-    stand_ins: usize,
+    stand_ins: Option<(usize, usize)>,
 ) -> Result<String, Diagnostic> {
+    let (front, total) = stand_ins.unwrap_or((0, 0));
     view.contents = deals
         .iter()
         .zip(first_pages)
@@ -194,9 +206,11 @@ fn cover_markup(
             number: i + 1,
             deal: d.loaded.deal.name.clone(),
             page,
+            link: front + i + 1,
         })
         .collect();
-    view.stand_ins = stand_ins;
+    view.stand_ins = if stand_ins.is_some() { deals.len() } else { 0 };
+    view.total = total;
     report::render_template(PACK_TEMPLATE.0, PACK_TEMPLATE.1, view)
 }
 
@@ -212,6 +226,8 @@ fn memo_part(
     total: usize,
 ) -> Result<(String, Files), Diagnostic> {
     let d = &deals[i];
+    let analysis = engine::analyse(&d.loaded.deal);
+    let charts = chart::render_all(&analysis)?;
     // Two deal files of one name (from different folders) must still be told apart in
     // the attachment list.
     let name = if deals[..i]
@@ -227,15 +243,14 @@ fn memo_part(
         source_sha256: sha256_hex(&d.loaded.source),
         companions: pack_companions(deals, i),
         created,
-        charts: d.charts.clone(),
+        charts: charts.clone(),
         templates: BTreeMap::new(),
         changes: None,
         filed_version: None,
     };
     let p = prefix(i);
-    let body = report::render_body(&d.analysis, &d.loaded.deal, &ctx, &p)?;
-    let mut files: Files = d
-        .charts
+    let body = report::render_body(&analysis, &d.loaded.deal, &ctx, &p)?;
+    let mut files: Files = charts
         .iter()
         .enumerate()
         .flat_map(|(k, c)| c.files(k))
@@ -335,12 +350,13 @@ fn in_order<T: Send>(
 }
 
 /// Typesets the pack: see the module comment. `ident` identifies the whole pack.
-fn typeset_pack(
+fn typeset_pack<W: std::io::Write>(
     view: &mut PackView,
     deals: &[PackedDeal],
     created: NaiveDateTime,
     ident: &str,
-) -> Result<Vec<u8>, Diagnostic> {
+    out: W,
+) -> Result<W, Diagnostic> {
     let options = |i: usize| pdf::TypesetOptions {
         created,
         ident: format!("{ident}/{}", i + 1),
@@ -361,7 +377,7 @@ fn typeset_pack(
         },
     )?;
     let placeholder = vec![99_999; deals.len()];
-    let cover = cover_markup(view, deals, &placeholder, 0)?;
+    let cover = cover_markup(view, deals, &placeholder, None)?;
     let front = pdf::page_count(&cover, &[], &options(usize::MAX - 1))?;
     let mut first_pages = Vec::with_capacity(deals.len());
     let mut next = front + 1;
@@ -376,7 +392,7 @@ fn typeset_pack(
             format!("{what} changed its number of pages between two typesettings"),
         )
     };
-    let mut joiner = crate::join::Joiner::new(Vec::new());
+    let mut joiner = crate::join::Joiner::new(out);
     // The memos typeset on every core but one's share: the join runs beside them.
     in_order(
         deals.len(),
@@ -391,13 +407,13 @@ fn typeset_pack(
         },
         &mut |i, pdf: Vec<u8>| joiner.add(&pdf, counts[i]),
     )?;
-    let cover = cover_markup(view, deals, &first_pages, total - front)?;
+    let cover = cover_markup(view, deals, &first_pages, Some((front, total)))?;
     let pack_options = pdf::TypesetOptions {
         created,
         ident: ident.to_string(),
     };
     let (cover, pages) = pdf::typeset_part(&cover, &[], &pack_options)?;
-    if pages != total {
+    if pages != front + deals.len() {
         return Err(changed("the cover".to_string()));
     }
     joiner.finish(&cover, front)
@@ -435,40 +451,32 @@ fn prefix(i: usize) -> String {
     format!("/deals/{}", i + 1)
 }
 
-fn analyse(loaded: LoadedDeal, source_name: String) -> Result<PackedDeal, Diagnostic> {
+fn analyse(loaded: LoadedDeal, source_name: String) -> PackedDeal {
     let analysis = engine::analyse(&loaded.deal);
-    let charts = chart::render_all(&analysis)?;
-    Ok(PackedDeal {
+    // Numbered once the invalid deals are left out.
+    let row = summary_row(0, &loaded.deal, &analysis);
+    PackedDeal {
         loaded,
-        analysis,
-        charts,
+        row,
         source_name,
-    })
+    }
 }
 
-/// A typeset pack.
-#[derive(Debug, Clone)]
+/// The deals of a pack, read and checked, ready to be typeset.
+#[derive(Debug)]
 pub struct Pack {
-    /// The PDF/A-3b bytes.
-    pub pdf: Vec<u8>,
-    /// How many deals it holds.
-    pub deals: usize,
+    deals: Vec<PackedDeal>,
     /// The deal files left out because they are invalid, each with why.
     pub skipped: Vec<(String, Failure)>,
     /// Every file read for the packed deals (deal files and their CSV files).
     pub inputs: Vec<PathBuf>,
 }
 
-/// Loads, analyses and charts every deal (in parallel), then typesets them as one
-/// pack. Invalid deal files are left out when `skip_invalid` holds; otherwise any
-/// invalid file fails the pack, with every diagnostic of every invalid file.
-pub fn build(
-    paths: &[PathBuf],
-    title: &str,
-    created: NaiveDateTime,
-    skip_invalid: bool,
-) -> Result<Pack, Failure> {
-    type Loaded = Result<Result<PackedDeal, Diagnostic>, Failure>;
+/// Loads and analyses every deal (in parallel). Invalid deal files are left out when
+/// `skip_invalid` holds; otherwise any invalid file fails the pack, with every
+/// diagnostic of every invalid file.
+pub fn prepare(paths: &[PathBuf], skip_invalid: bool) -> Result<Pack, Failure> {
+    type Loaded = Result<PackedDeal, Failure>;
     let results: Vec<(PathBuf, Loaded)> = paths
         .par_iter()
         .map(|path| {
@@ -483,8 +491,7 @@ pub fn build(
     let mut skipped = Vec::new();
     for (path, result) in results {
         match result {
-            Ok(Ok(d)) => deals.push(d),
-            Ok(Err(d)) => return Err(Failure::internal(d)),
+            Ok(d) => deals.push(d),
             Err(failure) => skipped.push((path.display().to_string(), failure)),
         }
     }
@@ -515,23 +522,50 @@ pub fn build(
             "nothing written: no valid deal file to pack",
         )));
     }
-    let names: Vec<String> = skipped.iter().map(|(n, _)| n.clone()).collect();
-    let mut view = cover_view(title, created, &deals, &names);
-    let ident = sha256_hex(
-        deals
-            .iter()
-            .map(|d| sha256_hex(&d.loaded.source))
-            .collect::<Vec<_>>()
-            .join(" ")
-            .as_bytes(),
-    );
-    let pdf = typeset_pack(&mut view, &deals, created, &ident).map_err(Failure::internal)?;
+    let inputs = deals.iter().flat_map(|d| d.loaded.files()).collect();
     Ok(Pack {
-        pdf,
-        deals: deals.len(),
+        deals,
         skipped,
-        inputs: deals.iter().flat_map(|d| d.loaded.files()).collect(),
+        inputs,
     })
+}
+
+impl Pack {
+    /// How many deals the pack holds.
+    pub fn deals(&self) -> usize {
+        self.deals.len()
+    }
+
+    /// Typesets the pack and writes the PDF/A-3b file to `out` as it is made (see the
+    /// module comment); gives `out` back.
+    pub fn write<W: std::io::Write>(
+        &self,
+        title: &str,
+        created: NaiveDateTime,
+        out: W,
+    ) -> Result<W, Failure> {
+        let names: Vec<String> = self.skipped.iter().map(|(n, _)| n.clone()).collect();
+        let mut view = cover_view(title, created, &self.deals, &names);
+        let ident = sha256_hex(
+            self.deals
+                .iter()
+                .map(|d| sha256_hex(&d.loaded.source))
+                .collect::<Vec<_>>()
+                .join(" ")
+                .as_bytes(),
+        );
+        typeset_pack(&mut view, &self.deals, created, &ident, out).map_err(Failure::internal)
+    }
+}
+
+/// [`prepare`] and [`Pack::write`] into memory: the PDF's bytes.
+pub fn build(
+    paths: &[PathBuf],
+    title: &str,
+    created: NaiveDateTime,
+    skip_invalid: bool,
+) -> Result<Vec<u8>, Failure> {
+    prepare(paths, skip_invalid)?.write(title, created, Vec::new())
 }
 
 #[cfg(test)]
