@@ -160,28 +160,45 @@ impl<W: Write> Joiner<W> {
         Ok(())
     }
 
-    /// Adds the front part (its first `kept` pages go before every page added so far;
-    /// page `kept + n` of it stands for the first page of the n-th part added so far),
-    /// writes what the parts share and the cross-reference table, and returns the
-    /// output.
-    pub(crate) fn finish(mut self, front: &[u8], kept: usize) -> Result<W, Diagnostic> {
-        self.start(front)?;
-        let doc = load(front)?;
-        let front_pages: Vec<ObjectId> = doc.get_pages().into_values().collect();
-        if front_pages.len() != kept + self.starts.len() {
-            return Err(failed(format!(
-                "the front part has {} pages where {} were expected",
-                front_pages.len(),
-                kept + self.starts.len()
-            )));
+    /// Adds the front parts (each `(pdf, kept, parts)`: its first `kept` pages go
+    /// before every page added so far, and its pages after those stand, in order, for
+    /// the first pages of the parts numbered `parts`, counted from 0 in the order they
+    /// were added; the first front part gives the file its metadata), writes what the
+    /// parts share and the cross-reference table, and returns the output.
+    pub(crate) fn finish(
+        mut self,
+        fronts: &[(Vec<u8>, usize, std::ops::Range<usize>)],
+    ) -> Result<W, Diagnostic> {
+        let mut front = Copied::default();
+        for (k, (pdf, kept, parts)) in fronts.iter().enumerate() {
+            self.start(pdf)?;
+            let doc = load(pdf)?;
+            let pages: Vec<ObjectId> = doc.get_pages().into_values().collect();
+            let starts = self.starts.get(parts.clone()).unwrap_or_default();
+            if pages.len() < kept + parts.len() || starts.len() != parts.len() {
+                return Err(failed(format!(
+                    "a front part has {} pages where {} were expected",
+                    pages.len(),
+                    kept + parts.len()
+                )));
+            }
+            let stand_ins: HashMap<ObjectId, u32> = pages[*kept..kept + parts.len()]
+                .iter()
+                .copied()
+                .zip(starts.iter().map(|&s| self.body.pages[s]))
+                .collect();
+            drop(doc);
+            let copied = self.copy(pdf, *kept, &stand_ins, k == 0)?;
+            front.pages.extend(copied.pages);
+            front.outline.extend(copied.outline);
+            front.attachments.extend(copied.attachments);
+            front.af.extend(copied.af);
+            if k == 0 {
+                front.catalog = copied.catalog;
+                front.info = copied.info;
+                front.id = copied.id;
+            }
         }
-        let stand_ins: HashMap<ObjectId, u32> = front_pages[kept..]
-            .iter()
-            .copied()
-            .zip(self.starts.iter().map(|&k| self.body.pages[k]))
-            .collect();
-        drop(doc);
-        let front = self.copy(front, kept, &stand_ins, true)?;
 
         // The page tree: one node over every page.
         let pages: Vec<u32> = front

@@ -40,22 +40,61 @@ pub(crate) struct PackedDeal {
     pub source_name: String,
 }
 
+/// One piece of the cover (see `templates/pack.typ.j2`).
 #[derive(Debug, Serialize)]
-struct PackView {
-    title: String,
+struct PackView<'a> {
+    title: &'a str,
     date: String,
     created: report::CreatedView,
     deal_count: usize,
-    skipped: Vec<String>,
-    rows: Vec<RowView>,
+    skipped: &'a [String],
     version: String,
-    /// The contents: each deal with the number of its memo's first page.
-    contents: Vec<ContentsLine>,
-    /// Blank pages after the contents, one for each memo, so that the contents' links
-    /// reach them (`join` points them at the memos' first pages); none when 0.
-    stand_ins: usize,
-    /// The pack's page count, which the last stand-in page sets the page counter to.
+    /// The number of the piece's first page in the pack.
+    first_page: usize,
+    /// The pack's page count.
     total: usize,
+    /// The piece that opens the pack: the title, the left-out files and the summary's
+    /// heading.
+    first: bool,
+    /// The summary's rows in this piece, a table of at most [`SUMMARY_ROWS`] at a time.
+    groups: Vec<&'a [RowView]>,
+    /// The piece that ends the summary: its notes.
+    notes: bool,
+    /// The piece that opens the contents: its heading.
+    contents_heading: bool,
+    /// The contents' lines in this piece, each followed by a blank stand-in page that
+    /// the join points at the memo's first page.
+    contents: Vec<ContentsLine>,
+}
+
+/// What one piece of the cover holds.
+#[derive(Debug, Clone)]
+enum Piece {
+    /// The summary's rows of these deals (and the title when it starts at 0).
+    Summary(std::ops::Range<usize>),
+    /// The contents' lines of these deals.
+    Contents(std::ops::Range<usize>),
+}
+
+/// The most deals in one piece of the cover: the cover is typeset in pieces so that a
+/// pack of a thousand deals never holds the layout of its whole summary at once.
+const COVER_DEALS: usize = 100;
+
+/// The most deals in one table of the summary (the table's header repeats).
+const SUMMARY_ROWS: usize = 20;
+
+/// The pieces of the cover of a pack of `deals` deals, in order.
+fn cover_pieces(deals: usize) -> Vec<Piece> {
+    let ranges: Vec<std::ops::Range<usize>> = (0..deals.max(1))
+        .step_by(COVER_DEALS)
+        .map(|start| start..(start + COVER_DEALS).min(deals))
+        .collect();
+    ranges
+        .iter()
+        .cloned()
+        .map(Piece::Summary)
+        .chain(ranges.iter().cloned().map(Piece::Contents))
+        .collect()
 }
 
 #[derive(Debug, Serialize)]
@@ -159,59 +198,75 @@ fn summary_row(number: usize, deal: &crate::model::Deal, a: &Analysis) -> RowVie
 /// Files the typesetter can read, as (virtual path, bytes).
 pub type Files = Vec<(String, Vec<u8>)>;
 
-/// The cover's view; its contents are filled in by [`cover_markup`].
-fn cover_view(
-    title: &str,
-    created: NaiveDateTime,
-    deals: &[PackedDeal],
-    skipped: &[String],
-) -> PackView {
-    PackView {
-        title: title.to_string(),
-        date: present::date_long(created.date()),
-        created: report::CreatedView::of(created),
-        deal_count: deals.len(),
-        skipped: skipped.to_vec(),
-        rows: deals
-            .iter()
-            .enumerate()
-            .map(|(i, d)| RowView {
-                number: i + 1,
-                ..d.row.clone()
-            })
-            .collect(),
-        version: crate::release::version(),
-        contents: Vec::new(),
-        stand_ins: 0,
-        total: 0,
-    }
-}
-
-/// The cover's markup (cover, summary and contents) with each memo's first page
-/// number (`first_pages`); with `stand_ins`, the cover is `front` pages long and is
-/// followed by one blank page per memo, the last of which sets the page counter to
+/// The markup of one piece of the cover: its pages numbered from `first_page`, each
+/// memo's first page number from `first_pages` (the contents' line of memo `i` links
+/// to page `kept + 1 + (i - start)` of the piece, its stand-in, where `kept` is the
+/// number of the piece's own pages), then one page that sets the page counter to
 /// `total`. No file system access.
 fn cover_markup(
-    view: &mut PackView,
-    deals: &[PackedDeal],
+    cover: &Cover<'_>,
+    piece: &Piece,
+    first_page: usize,
+    total: usize,
     first_pages: &[usize],
-    stand_ins: Option<(usize, usize)>,
+    kept: usize,
 ) -> Result<String, Diagnostic> {
-    let (front, total) = stand_ins.unwrap_or((0, 0));
-    view.contents = deals
-        .iter()
-        .zip(first_pages)
-        .enumerate()
-        .map(|(i, (d, &page))| ContentsLine {
-            number: i + 1,
-            deal: d.loaded.deal.name.clone(),
-            page,
-            link: front + i + 1,
-        })
-        .collect();
-    view.stand_ins = if stand_ins.is_some() { deals.len() } else { 0 };
-    view.total = total;
-    report::render_template(PACK_TEMPLATE.0, PACK_TEMPLATE.1, view)
+    let deals = cover.deals;
+    let mut view = PackView {
+        title: cover.title,
+        date: present::date_long(cover.created.date()),
+        created: report::CreatedView::of(cover.created),
+        deal_count: deals.len(),
+        skipped: cover.skipped,
+        version: crate::release::version(),
+        first_page,
+        total,
+        first: false,
+        groups: Vec::new(),
+        notes: false,
+        contents_heading: false,
+        contents: Vec::new(),
+    };
+    match piece {
+        Piece::Summary(range) => {
+            view.first = range.start == 0;
+            view.notes = range.end == deals.len();
+            view.groups = cover.rows[range.clone()].chunks(SUMMARY_ROWS).collect();
+        }
+        Piece::Contents(range) => {
+            view.contents_heading = range.start == 0;
+            view.contents = range
+                .clone()
+                .map(|i| ContentsLine {
+                    number: i + 1,
+                    deal: deals[i].loaded.deal.name.clone(),
+                    page: first_pages[i],
+                    link: kept + 1 + (i - range.start),
+                })
+                .collect();
+        }
+    }
+    report::render_template(PACK_TEMPLATE.0, PACK_TEMPLATE.1, &view)
+}
+
+/// What every piece of the cover draws on.
+struct Cover<'a> {
+    title: &'a str,
+    created: NaiveDateTime,
+    deals: &'a [PackedDeal],
+    skipped: &'a [String],
+    /// The summary's rows, numbered.
+    rows: Vec<RowView>,
+}
+
+impl Piece {
+    /// The memos whose stand-in pages the piece carries.
+    fn stand_ins(&self) -> std::ops::Range<usize> {
+        match self {
+            Piece::Summary(_) => 0..0,
+            Piece::Contents(range) => range.clone(),
+        }
+    }
 }
 
 /// The markup of the `i`-th deal's memo as a part of the pack, with the files it reads:
@@ -351,22 +406,22 @@ fn in_order<T: Send>(
 
 /// Typesets the pack: see the module comment. `ident` identifies the whole pack.
 fn typeset_pack<W: std::io::Write>(
-    view: &mut PackView,
-    deals: &[PackedDeal],
-    created: NaiveDateTime,
+    cover: &Cover<'_>,
     ident: &str,
     out: W,
 ) -> Result<W, Diagnostic> {
+    let (deals, created) = (cover.deals, cover.created);
     let options = |i: usize| pdf::TypesetOptions {
         created,
         ident: format!("{ident}/{}", i + 1),
     };
+    let threads = rayon::current_num_threads();
     // First pass: the pages of each memo. The first page numbered 2 shows the header
     // as it will in the pack, and the count has as many digits as a pack's could.
     let mut counts: Vec<usize> = Vec::with_capacity(deals.len());
     in_order(
         deals.len(),
-        rayon::current_num_threads(),
+        threads,
         &|i| {
             let (markup, files) = memo_part(deals, i, created, 2, 99_999)?;
             Ok(pdf::page_count(&markup, &files, &options(i))?.saturating_sub(1))
@@ -376,11 +431,30 @@ fn typeset_pack<W: std::io::Write>(
             Ok(())
         },
     )?;
+    // And of each piece of the cover: all but its stand-ins and last page.
+    let pieces = cover_pieces(deals.len());
     let placeholder = vec![99_999; deals.len()];
-    let cover = cover_markup(view, deals, &placeholder, None)?;
-    let front = pdf::page_count(&cover, &[], &options(usize::MAX - 1))?;
+    let mut kept: Vec<usize> = Vec::with_capacity(pieces.len());
+    in_order(
+        pieces.len(),
+        threads,
+        &|k| {
+            let markup = cover_markup(cover, &pieces[k], 1, 99_999, &placeholder, 1)?;
+            let pages = pdf::page_count(&markup, &[], &options(usize::MAX - 1 - k))?;
+            Ok(pages.saturating_sub(pieces[k].stand_ins().len() + 1))
+        },
+        &mut |_, pages| {
+            kept.push(pages);
+            Ok(())
+        },
+    )?;
+    let mut next = 1;
+    let mut piece_pages = Vec::with_capacity(pieces.len());
+    for pages in &kept {
+        piece_pages.push(next);
+        next += pages;
+    }
     let mut first_pages = Vec::with_capacity(deals.len());
-    let mut next = front + 1;
     for count in &counts {
         first_pages.push(next);
         next += count;
@@ -392,11 +466,39 @@ fn typeset_pack<W: std::io::Write>(
             format!("{what} changed its number of pages between two typesettings"),
         )
     };
+    // The cover's pieces, kept (they are small) until the memos are joined.
+    let mut fronts = Vec::with_capacity(pieces.len());
+    in_order(
+        pieces.len(),
+        threads,
+        &|k| {
+            let piece = &pieces[k];
+            let markup = cover_markup(cover, piece, piece_pages[k], total, &first_pages, kept[k])?;
+            // The first piece's metadata is the pack's: its identifier is the pack's.
+            let options = pdf::TypesetOptions {
+                created,
+                ident: if k == 0 {
+                    ident.to_string()
+                } else {
+                    format!("{ident}/cover/{k}")
+                },
+            };
+            let (pdf, pages) = pdf::typeset_part(&markup, &[], &options)?;
+            if pages != kept[k] + piece.stand_ins().len() + 1 {
+                return Err(changed("the cover".to_string()));
+            }
+            Ok(pdf)
+        },
+        &mut |k, pdf| {
+            fronts.push((pdf, kept[k], pieces[k].stand_ins()));
+            Ok(())
+        },
+    )?;
     let mut joiner = crate::join::Joiner::new(out);
-    // The memos typeset on every core but one's share: the join runs beside them.
+    // The memos typeset on every core; the join runs beside them.
     in_order(
         deals.len(),
-        rayon::current_num_threads(),
+        threads,
         &|i| {
             let (markup, files) = memo_part(deals, i, created, first_pages[i], total)?;
             let (pdf, pages) = pdf::typeset_part(&markup, &files, &options(i))?;
@@ -407,16 +509,7 @@ fn typeset_pack<W: std::io::Write>(
         },
         &mut |i, pdf: Vec<u8>| joiner.add(&pdf, counts[i]),
     )?;
-    let cover = cover_markup(view, deals, &first_pages, Some((front, total)))?;
-    let pack_options = pdf::TypesetOptions {
-        created,
-        ident: ident.to_string(),
-    };
-    let (cover, pages) = pdf::typeset_part(&cover, &[], &pack_options)?;
-    if pages != front + deals.len() {
-        return Err(changed("the cover".to_string()));
-    }
-    joiner.finish(&cover, front)
+    joiner.finish(&fronts)
 }
 
 /// The CSV files of the `i`-th deal as its memo names and attaches them: a name an
@@ -545,7 +638,21 @@ impl Pack {
         out: W,
     ) -> Result<W, Failure> {
         let names: Vec<String> = self.skipped.iter().map(|(n, _)| n.clone()).collect();
-        let mut view = cover_view(title, created, &self.deals, &names);
+        let cover = Cover {
+            title,
+            created,
+            deals: &self.deals,
+            skipped: &names,
+            rows: self
+                .deals
+                .iter()
+                .enumerate()
+                .map(|(i, d)| RowView {
+                    number: i + 1,
+                    ..d.row.clone()
+                })
+                .collect(),
+        };
         let ident = sha256_hex(
             self.deals
                 .iter()
@@ -554,7 +661,7 @@ impl Pack {
                 .join(" ")
                 .as_bytes(),
         );
-        typeset_pack(&mut view, &self.deals, created, &ident, out).map_err(Failure::internal)
+        typeset_pack(&cover, &ident, out).map_err(Failure::internal)
     }
 }
 

@@ -161,6 +161,15 @@ fn a_joined_pack_reads_as_one_document() {
     let contents = (1..starts[0])
         .find(|&p| pdf.page_text(p).contains("Contents"))
         .expect("a contents page");
+    let lines = pdf.page_text(contents);
+    for (k, (name, start)) in names.iter().zip(&starts).enumerate() {
+        let line = format!("{}. {name}", k + 1);
+        assert!(
+            lines.contains(&line),
+            "{line:?} not in the contents: {lines}"
+        );
+        assert!(lines.contains(&format!(" {start}")), "{start}: {lines}");
+    }
     // Typst writes one annotation per piece of a link's line (name, dots, number).
     let mut links = pdf.links(contents);
     links.dedup();
