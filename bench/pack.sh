@@ -4,13 +4,46 @@
 # (wall clock and peak resident memory). See bench/README.md.
 #
 #     bench/pack.sh [CANDOR] [N] [RUNS]     defaults: target/release/candor 100 3
+#
+# With DISTINCT=1 the copies differ: copy k of a deal has its hurdle rate moved up by
+# k hundredths of a percentage point, so that no two memos are alike (every figure at
+# the hurdle changes); the folder is then bench/out/distinct-N.
 set -eu
 here=$(cd "$(dirname "$0")" && pwd)
 root=$(dirname "$here")
 candor=${1:-$root/target/release/candor}
 n=${2:-100}
 runs=${3:-3}
+if [ "${DISTINCT:-}" = 1 ]; then
+    dir=$here/out/distinct-$n
+    if [ ! -f "$dir/.complete" ]; then
+        rm -rf "$dir"
+        mkdir -p "$dir"
+        python3 - "$root/example-deals" "$dir" "$n" <<'PY'
+import glob, os, re, shutil, sys
+src_dir, out, n = sys.argv[1], sys.argv[2], int(sys.argv[3])
+for csv in glob.glob(os.path.join(src_dir, "*.csv")):
+    shutil.copy(csv, out)
+deals = sorted(glob.glob(os.path.join(src_dir, "*.yaml")))
+for i in range(n):
+    path = deals[i % len(deals)]
+    k = i // len(deals) + 1
+    def moved(m):
+        if m.group(3):
+            return f"{m.group(1)}{float(m.group(2)) + 0.01 * k:.2f}%{m.group(4)}"
+        return f"{m.group(1)}{float(m.group(2)) + 0.0001 * k:.4f}{m.group(4)}"
+    with open(path, encoding="utf-8") as f:
+        text, count = re.subn(r'^(hurdle_rate: "?)([0-9.]+)(%?)("?)', moved, f.read(), count=1, flags=re.M)
+    if count != 1:
+        sys.exit(f"{path}: no top-level hurdle_rate line")
+    with open(os.path.join(out, f"{i:04d}-{os.path.basename(path)}"), "w", encoding="utf-8") as f:
+        f.write(text)
+PY
+        touch "$dir/.complete"
+    fi
+else
 dir=$here/out/deals-$n
+fi
 if [ ! -f "$dir/.complete" ]; then
     rm -rf "$dir"
     mkdir -p "$dir"
