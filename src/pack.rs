@@ -5,7 +5,8 @@
 //! The deals are loaded, analysed and charted in parallel. The memos are then typeset
 //! one at a time on each core and joined into one PDF as they come (`join`), so that
 //! memory follows a few memos and not the whole pack. Page numbers run across the pack:
-//! a first pass counts each memo's pages (typesetting without making the PDF), then
+//! a first pass counts each memo's pages (typesetting without making the PDF, its charts
+//! left blank at their size), then
 //! each memo is typeset with its first page number and the pack's page count, and the
 //! cover last, with the contents' page numbers and links. Only the deals as read and
 //! their summary rows are kept between the passes; each memo's analysis and charts are
@@ -424,6 +425,13 @@ fn typeset_pack<W: std::io::Write>(
         threads,
         &|i| {
             let (markup, files) = memo_part(deals, i, created, 2, 99_999)?;
+            let files: Files = files
+                .into_iter()
+                .map(|(name, bytes)| {
+                    let bytes = blank_chart(&name, &bytes).unwrap_or(bytes);
+                    (name, bytes)
+                })
+                .collect();
             Ok(pdf::page_count(&markup, &files, &options(i))?.saturating_sub(1))
         },
         &mut |_, pages| {
@@ -510,6 +518,22 @@ fn typeset_pack<W: std::io::Write>(
         &mut |i, pdf: Vec<u8>| joiner.add(&pdf, counts[i]),
     )?;
     joiner.finish(&fronts)
+}
+
+/// For the counting pass: a chart (an SVG file of candor's charts, whose root element
+/// gives its width, height and view box) as an empty picture of the same size, which
+/// takes the same room on the page and is laid out without drawing the chart. `None`
+/// for any other file, which is given as it is.
+fn blank_chart(name: &str, bytes: &[u8]) -> Option<Vec<u8>> {
+    if !name.ends_with(".svg") || !bytes.starts_with(b"<svg ") {
+        return None;
+    }
+    let end = bytes.iter().position(|&b| b == b'>')?;
+    let root = &bytes[..=end];
+    if root.ends_with(b"/>") {
+        return None;
+    }
+    Some([root, b"</svg>".as_slice()].concat())
 }
 
 /// The CSV files of the `i`-th deal as its memo names and attaches them: a name an
@@ -679,6 +703,40 @@ pub fn build(
 mod tests {
     use super::*;
     use std::time::Duration;
+
+    /// A blank chart takes the room of the chart it stands for: the same charts laid out
+    /// one after another, enough to fill several pages, break at the same places.
+    #[test]
+    fn a_blank_chart_takes_the_room_of_the_chart() {
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("example-deals")
+            .join("marlow-fen-solar.yaml");
+        let loaded = load_deal(&path).expect("example deal");
+        let charts = chart::render_all(&engine::analyse(&loaded.deal)).expect("charts");
+        let files: Files = charts
+            .iter()
+            .enumerate()
+            .flat_map(|(k, c)| c.files(k))
+            .collect();
+        assert!(files.len() >= 4, "{} charts", files.len());
+        let blank: Files = files
+            .iter()
+            .map(|(n, b)| (n.clone(), blank_chart(n, b).expect("a chart")))
+            .collect();
+        assert!(blank.iter().zip(&files).all(|(b, f)| b.1.len() < f.1.len()));
+        let mut markup = String::from("#set page(width: 12cm, height: 16cm)\n");
+        for (k, (name, _)) in files.iter().enumerate() {
+            markup.push_str(&format!("#image(\"{name}\", width: {}%)\n", 60 + 7 * k));
+        }
+        let options = pdf::TypesetOptions {
+            created: NaiveDateTime::default(),
+            ident: "charts".to_string(),
+        };
+        let pages = pdf::page_count(&markup, &files, &options).expect("charts");
+        assert!(pages > 2, "{pages} pages");
+        assert_eq!(pdf::page_count(&markup, &blank, &options), Ok(pages));
+        assert_eq!(blank_chart("a.csv", b"<svg >"), None);
+    }
 
     /// Results arrive out of order from the threads and are handed over in order; the
     /// first error, of a typesetting or of the taker, ends the run and is returned.
