@@ -16,7 +16,7 @@
 //! | markup | [`report`] | [`report::render`] | Typst markup |
 //! | typesetting | [`pdf`], [`worker`] | [`pdf::typeset`], [`worker::typeset_within`] | PDF/A-3b bytes with the deal file attached; a house style's typesetting in a child process within a budget of time and memory |
 //! | files | [`files`] | [`files::load::load_deal`], [`files::output::write_output`] | a deal read from disk; output written atomically |
-//! | building | [`memo`], [`pack`] | [`memo::build_memo`], [`pack::build`] | a memo, a pack of memos |
+//! | building | [`memo`], [`pack`] | [`memo::build_memo`], [`pack::prepare`], [`pack::Pack::write`] | a memo, a pack of memos |
 //! | archive | [`archive`] | [`archive::file_memo`], [`archive::verify`] | filed versions, and their verification |
 //! | commands | [`cli`], [`commands`] | [`cli::run`] | arguments parsed, the library called, the outcome printed, an exit code |
 //!
@@ -34,6 +34,7 @@ pub mod engine;
 pub mod files;
 
 pub mod input;
+pub(crate) mod join;
 pub mod limits;
 pub mod memo;
 pub mod model;

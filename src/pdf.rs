@@ -1,15 +1,27 @@
-//! Typst markup to an archival PDF (PDF/A-3b) with typst-as-lib.
+//! Typst markup to an archival PDF (PDF/A-3b).
 //!
 //! Only the fonts bundled in the binary (and a house style's own font files) are used,
 //! never the machine's, and the creation date is fixed by the caller, so the same
 //! markup and files give the same bytes on any machine. Typst's errors come back as candor diagnostics with the code `typeset`.
+//!
+//! The typesetter sees the world through [`MemoWorld`]: the markup, the files given
+//! with it, and the fonts. The bundled fonts and typst's standard library are built once
+//! per process ([`BUNDLED`], [`LIBRARY`]) and shared by every typeset, so a watch that
+//! rebuilds, or a pack of many memos, parses the fonts once. Typst memoises its work
+//! (the comemo cache); after each typeset the results not used by the last
+//! two typesets are dropped ([`CACHE_GENERATIONS`]), so a rebuild of a memo that changed a
+//! little reuses the layout of what did not change, and memory stays bounded.
 
 use crate::diag::Diagnostic;
 use chrono::{Datelike, NaiveDate, NaiveDateTime, Timelike};
-use typst::diag::SourceDiagnostic;
-use typst::foundations::{Datetime, Smart};
-use typst_as_lib::typst_kit_options::TypstKitFontOptions;
-use typst_as_lib::{TypstAsLibError, TypstEngine};
+use std::collections::HashMap;
+use std::sync::LazyLock;
+use typst::diag::{FileError, FileResult, SourceDiagnostic};
+use typst::foundations::{Bytes, Datetime, Smart};
+use typst::syntax::{FileId, RootedPath, Source, VirtualPath, VirtualRoot};
+use typst::text::{Font, FontBook};
+use typst::utils::LazyHash;
+use typst::{Library, LibraryExt, World};
 use typst_layout::PagedDocument;
 use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
@@ -67,24 +79,107 @@ pub fn creation_time(
 /// (before 1970) are refused as well: the convention counts seconds since 1970.
 pub(crate) const MAX_SOURCE_DATE_EPOCH: i64 = 253_402_300_799;
 
+/// Fonts with the book typst picks them from, in the order typst numbers them.
+struct FontSet {
+    book: LazyHash<FontBook>,
+    fonts: Vec<Font>,
+}
+
+impl FontSet {
+    fn new(fonts: Vec<Font>) -> Self {
+        let mut book = FontBook::new();
+        for font in &fonts {
+            book.push(font.info().clone());
+        }
+        FontSet {
+            book: LazyHash::new(book),
+            fonts,
+        }
+    }
+}
+
 /// The fonts candor typesets with: the ones typst bundles (Libertinus Serif, New
-/// Computer Modern, New Computer Modern Math, DejaVu Sans Mono), embedded in the binary.
-/// Between them they cover Latin, Greek and Cyrillic.
-fn coverages() -> &'static [typst::text::Coverage] {
-    static COVERAGES: std::sync::OnceLock<Vec<typst::text::Coverage>> = std::sync::OnceLock::new();
-    COVERAGES.get_or_init(|| {
+/// Computer Modern, New Computer Modern Math, DejaVu Sans Mono), embedded in the binary
+/// and parsed once per process. Between them they cover Latin, Greek and Cyrillic.
+static BUNDLED: LazyLock<FontSet> = LazyLock::new(|| {
+    FontSet::new(
         typst_assets::fonts()
-            .flat_map(typst::text::FontInfo::iter)
-            .map(|info| info.coverage)
-            .collect()
-    })
+            .flat_map(|data| Font::iter(Bytes::new(data)))
+            .collect(),
+    )
+});
+
+/// Typst's standard library, built once per process.
+static LIBRARY: LazyLock<LazyHash<Library>> =
+    LazyLock::new(|| LazyHash::new(Library::builder().build()));
+
+/// The age at which a memoised result of typst is dropped, counted in typesets that
+/// did not use it (see the module comment): a result survives one typeset unused, so
+/// a rebuild in `memo --watch` finds the layout of the build before it.
+pub(crate) const CACHE_GENERATIONS: usize = 2;
+
+/// What the typesetter can see: the markup, the files given with it (by virtual path)
+/// and the fonts. Nothing on the machine.
+struct MemoWorld<'a> {
+    main: Source,
+    files: HashMap<FileId, Bytes>,
+    fonts: &'a FontSet,
+    today: Option<Datetime>,
+}
+
+fn file_id(path: &str) -> Option<FileId> {
+    VirtualPath::new(path)
+        .ok()
+        .map(|v| RootedPath::new(VirtualRoot::Project, v).intern())
+}
+
+impl World for MemoWorld<'_> {
+    fn library(&self) -> &LazyHash<Library> {
+        &LIBRARY
+    }
+
+    fn book(&self) -> &LazyHash<FontBook> {
+        &self.fonts.book
+    }
+
+    fn main(&self) -> FileId {
+        self.main.id()
+    }
+
+    fn source(&self, id: FileId) -> FileResult<Source> {
+        if id == self.main.id() {
+            Ok(self.main.clone())
+        } else {
+            Err(FileError::NotFound(id.vpath().get_without_slash().into()))
+        }
+    }
+
+    fn file(&self, id: FileId) -> FileResult<Bytes> {
+        self.files
+            .get(&id)
+            .cloned()
+            .ok_or_else(|| FileError::NotFound(id.vpath().get_without_slash().into()))
+    }
+
+    fn font(&self, index: usize) -> Option<Font> {
+        self.fonts.fonts.get(index).cloned()
+    }
+
+    /// The creation date, never the clock: the same inputs give the same memo.
+    fn today(&self, _offset: Option<typst::foundations::Duration>) -> Option<Datetime> {
+        self.today
+    }
 }
 
 /// True when the memo can show `c`: some bundled font has a glyph for it (typst falls
 /// back from the style's font to any other that has one), or it is a control character,
 /// which the markup drops or turns into a space.
 pub(crate) fn can_show(c: char) -> bool {
-    c.is_control() || coverages().iter().any(|cov| cov.contains(u32::from(c)))
+    c.is_control()
+        || BUNDLED
+            .fonts
+            .iter()
+            .any(|font| font.info().coverage.contains(u32::from(c)))
 }
 
 /// The characters of `text` the memo cannot show with the bundled fonts, with their
@@ -193,6 +288,56 @@ pub(crate) fn typeset_with_fonts(
     fonts: &HouseFonts,
     options: &TypesetOptions,
 ) -> Result<Vec<u8>, Diagnostic> {
+    typeset_as(markup, files, fonts, options, Some(true)).map(|(pdf, _)| pdf)
+}
+
+/// The number of pages `markup` typesets to (with the bundled fonts), without making
+/// the PDF.
+pub(crate) fn page_count(
+    markup: &str,
+    files: &[(String, Vec<u8>)],
+    options: &TypesetOptions,
+) -> Result<usize, Diagnostic> {
+    typeset_as(markup, files, &HouseFonts::default(), options, None).map(|(_, pages)| pages)
+}
+
+/// [`typeset`] for one part of a joined PDF (see `join`): untagged, so that no
+/// structure tree has to be merged; also gives the number of pages.
+pub(crate) fn typeset_part(
+    markup: &str,
+    files: &[(String, Vec<u8>)],
+    options: &TypesetOptions,
+) -> Result<(Vec<u8>, usize), Diagnostic> {
+    typeset_as(markup, files, &HouseFonts::default(), options, Some(false))
+}
+
+/// Typesets, then makes the PDF (tagged or not) when `pdf` says so, and gives the PDF
+/// (empty when not made) and the number of pages. Drops typst's memoised results that
+/// the last typesets did not use, whatever the outcome.
+fn typeset_as(
+    markup: &str,
+    files: &[(String, Vec<u8>)],
+    fonts: &HouseFonts,
+    options: &TypesetOptions,
+    pdf: Option<bool>,
+) -> Result<(Vec<u8>, usize), Diagnostic> {
+    let result = compile(markup, files, fonts, options).and_then(|document| {
+        let bytes = match pdf {
+            Some(tagged) => export(&document, options, tagged)?,
+            None => Vec::new(),
+        };
+        Ok((bytes, document.pages().len()))
+    });
+    comemo::evict(CACHE_GENERATIONS);
+    result
+}
+
+fn compile(
+    markup: &str,
+    files: &[(String, Vec<u8>)],
+    fonts: &HouseFonts,
+    options: &TypesetOptions,
+) -> Result<PagedDocument, Diagnostic> {
     for (name, _) in files {
         if typst::syntax::VirtualPath::new(name).is_err() {
             return Err(Diagnostic::error(
@@ -201,17 +346,47 @@ pub(crate) fn typeset_with_fonts(
             ));
         }
     }
-    let engine = TypstEngine::builder()
-        .main_file((MAIN_FILE, markup.to_string()))
-        .fonts(fonts.files.iter().map(|(_, bytes)| bytes.as_slice()))
-        .search_fonts_with(
-            TypstKitFontOptions::default()
-                .include_system_fonts(false)
-                .include_embedded_fonts(true),
-        )
-        .with_static_file_resolver(files.iter().map(|(n, b)| (n.as_str(), b.as_slice())))
-        .build();
-    let document: PagedDocument = engine.compile().output.map_err(from_typst_error)?;
+    let house;
+    let fonts: &FontSet = if fonts.is_empty() {
+        &BUNDLED
+    } else {
+        // A house style's faces come first, as typst numbers them, then the bundled ones.
+        house = FontSet::new(
+            fonts
+                .files
+                .iter()
+                .flat_map(|(_, bytes)| Font::iter(Bytes::new(bytes.clone())))
+                .chain(BUNDLED.fonts.iter().cloned())
+                .collect(),
+        );
+        &house
+    };
+    let main = file_id(MAIN_FILE).ok_or_else(|| {
+        Diagnostic::error("typeset", format!("`{MAIN_FILE}` is not a virtual path"))
+    })?;
+    let world = MemoWorld {
+        main: Source::new(main, markup.to_string()),
+        files: files
+            .iter()
+            .filter_map(|(n, b)| Some((file_id(n)?, Bytes::new(b.clone()))))
+            .collect(),
+        fonts,
+        today: Datetime::from_ymd(
+            options.created.year(),
+            u8::try_from(options.created.month()).unwrap_or(1),
+            u8::try_from(options.created.day()).unwrap_or(1),
+        ),
+    };
+    typst::compile::<PagedDocument>(&world)
+        .output
+        .map_err(|diags| from_diagnostics(&diags))
+}
+
+fn export(
+    document: &PagedDocument,
+    options: &TypesetOptions,
+    tagged: bool,
+) -> Result<Vec<u8>, Diagnostic> {
     let standards = PdfStandards::new(&[PdfStandard::A_3b]).map_err(|e| {
         Diagnostic::error(
             "typeset",
@@ -232,24 +407,10 @@ pub(crate) fn typeset_with_fonts(
         creator: Smart::Custom(Some(format!("candor {}", crate::release::version()))),
         timestamp: Some(Timestamp::new_utc(timestamp)),
         standards,
+        tagged,
         ..PdfOptions::default()
     };
-    typst_pdf::pdf(&document, &pdf_options).map_err(|diags| from_diagnostics(&diags))
-}
-
-fn from_typst_error(err: TypstAsLibError) -> Diagnostic {
-    match err {
-        TypstAsLibError::TypstSource(diags) => from_diagnostics(&diags),
-        TypstAsLibError::HintedString(h) => {
-            let mut d =
-                Diagnostic::error("typeset", format!("typesetting failed: {}", h.message()));
-            if let Some(hint) = h.hints().first() {
-                d = d.with_hint(hint.to_string());
-            }
-            d
-        }
-        other => Diagnostic::error("typeset", format!("typesetting failed: {other}")),
-    }
+    typst_pdf::pdf(document, &pdf_options).map_err(|diags| from_diagnostics(&diags))
 }
 
 fn from_diagnostics(diags: &[SourceDiagnostic]) -> Diagnostic {

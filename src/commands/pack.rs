@@ -28,22 +28,26 @@ fn make(args: &PackArgs) -> Result<(), Failure> {
     }
     let epoch = std::env::var("SOURCE_DATE_EPOCH").ok();
     let created = crate::archive::filing_time(epoch.as_deref()).map_err(Failure::invalid)?;
-    let pack = crate::pack::build(&args.files, &args.title, created, args.skip_invalid)?;
+    let pack = crate::pack::prepare(&args.files, args.skip_invalid)?;
     for (_, failure) in &pack.skipped {
         eprintln!("{}\n", failure.render());
     }
     // The CSV files are known only now that the deals are read.
     output::refuse_inputs(&args.output, "pack", "-o FILE.pdf", &pack.inputs)?;
-    output::write_output(
-        &args.output,
-        &pack.pdf,
-        "pack",
-        "-o FILE.pdf",
-        &mut output::Disk,
-    )?;
+    // Written as the memos are joined, through a temporary file renamed at the end.
+    output::write_output_with(&args.output, "pack", "-o FILE.pdf", &mut |file| {
+        let out = std::io::BufWriter::with_capacity(1 << 20, file);
+        let mut out = pack.write(&args.title, created, out)?;
+        std::io::Write::flush(&mut out).map_err(|e| {
+            Failure::internal(crate::diag::Diagnostic::error(
+                "write",
+                format!("cannot write the pack: {}", output::cause(&e)),
+            ))
+        })
+    })?;
     for (name, _) in &pack.skipped {
         eprintln!("skipped {name}");
     }
-    eprintln!("wrote {} ({} deals)", args.output.display(), pack.deals);
+    eprintln!("wrote {} ({} deals)", args.output.display(), pack.deals());
     Ok(())
 }

@@ -12,7 +12,7 @@
 
 use crate::diag::{Diagnostic, Failure, FailureClass};
 use std::fs::File;
-use std::io::{self, ErrorKind, Write as _};
+use std::io::{self, ErrorKind, Write};
 use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::{Mutex, MutexGuard, Once};
@@ -293,6 +293,15 @@ pub(crate) fn write_atomically_with(
     bytes: &[u8],
     sink: &mut dyn Sink,
 ) -> io::Result<()> {
+    write_atomically_by(path, &mut |file| sink.put(file, bytes))
+}
+
+/// [`write_atomically_with`] with the temporary file filled by `fill`, which must
+/// write everything and make it durable.
+fn write_atomically_by(
+    path: &Path,
+    fill: &mut dyn FnMut(&mut File) -> io::Result<()>,
+) -> io::Result<()> {
     let folder = folder_of(path);
     let mut tmp = tempfile::Builder::new()
         .prefix(&temp_prefix())
@@ -303,7 +312,7 @@ pub(crate) fn write_atomically_with(
     // when this process ends, however it ends).
     tmp.as_file().lock()?;
     let pending = Unfinished::register(tmp.path(), UnfinishedKind::File, path);
-    let written = sink.put(tmp.as_file_mut(), bytes).and_then(|()| {
+    let written = fill(tmp.as_file_mut()).and_then(|()| {
         // A temporary file is private (0600); the output is an ordinary document.
         #[cfg(unix)]
         {
@@ -339,26 +348,86 @@ pub(crate) fn write_output(
 ) -> Result<(), Failure> {
     // Checked again at the last moment: a device or link may have appeared meanwhile.
     refuse_inputs(path, what, option, &[])?;
-    write_atomically_with(path, bytes, sink).map_err(|e| {
-        let class = if e.kind() == ErrorKind::NotFound {
-            FailureClass::Invalid
-        } else {
-            FailureClass::Internal
-        };
-        Failure::many(
-            vec![Diagnostic::error(
-                "write",
-                format!(
-                    "cannot write the {what}: {}; nothing was written, and a file already at \
-                     this path is unchanged",
-                    cause(&e)
-                ),
-            )
-            .in_file(path.display().to_string())
-            .with_hint(hint_for(&e, option))],
-            class,
+    write_atomically_with(path, bytes, sink).map_err(|e| write_failure(path, what, option, &e))
+}
+
+/// [`write_output`] with the file's bytes written by `write` as they are made (a pack,
+/// joined memo by memo), into the temporary file that becomes `path` once `write` has
+/// finished. When `write` fails, nothing is left behind, and the failure is the one
+/// [`write_output`] gives when the file itself could not be written (a full disk),
+/// else `write`'s own.
+pub(crate) fn write_output_with(
+    path: &Path,
+    what: &str,
+    option: &str,
+    write: &mut dyn FnMut(&mut dyn Write) -> Result<(), Failure>,
+) -> Result<(), Failure> {
+    refuse_inputs(path, what, option, &[])?;
+    let mut failed = None;
+    let written = write_atomically_by(path, &mut |file| {
+        let mut recording = Recording { file, error: None };
+        let made = write(&mut recording);
+        if let Some(e) = recording.error {
+            return Err(e);
+        }
+        match made {
+            Ok(()) => file.sync_all(),
+            Err(f) => {
+                failed = Some(f);
+                Err(io::Error::other("stopped"))
+            }
+        }
+    });
+    if let Some(f) = failed {
+        return Err(f);
+    }
+    written.map_err(|e| write_failure(path, what, option, &e))
+}
+
+/// A file that keeps the first error writing to it, for the message.
+struct Recording<'a> {
+    file: &'a mut File,
+    error: Option<io::Error>,
+}
+
+impl Write for Recording<'_> {
+    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
+        self.file.write(buf).inspect_err(|e| self.keep(e))
+    }
+
+    fn flush(&mut self) -> io::Result<()> {
+        self.file.flush().inspect_err(|e| self.keep(e))
+    }
+}
+
+impl Recording<'_> {
+    fn keep(&mut self, e: &io::Error) {
+        if self.error.is_none() {
+            self.error = Some(io::Error::new(e.kind(), e.to_string()));
+        }
+    }
+}
+
+/// The failure to write `path`: what happened, the file and what to do.
+fn write_failure(path: &Path, what: &str, option: &str, e: &io::Error) -> Failure {
+    let class = if e.kind() == ErrorKind::NotFound {
+        FailureClass::Invalid
+    } else {
+        FailureClass::Internal
+    };
+    Failure::many(
+        vec![Diagnostic::error(
+            "write",
+            format!(
+                "cannot write the {what}: {}; nothing was written, and a file already at \
+                 this path is unchanged",
+                cause(e)
+            ),
         )
-    })
+        .in_file(path.display().to_string())
+        .with_hint(hint_for(e, option))],
+        class,
+    )
 }
 
 /// True when process `pid` is known to have ended: Linux `/proc` shows no such

@@ -78,7 +78,7 @@ const LAYERS: &[&[&str]] = &[
     &["engine", "screen"],
     &["present", "chart", "diff"],
     &["report"],
-    &["pdf", "worker"],
+    &["pdf", "join", "worker"],
     &["files"],
     &["memo", "pack"],
     &["archive", "schema"],

@@ -14,6 +14,21 @@ fn text(pdf: &Path) -> String {
     Pdf::open(pdf).text()
 }
 
+/// Packs the example deal files named into `out` with the title given; panics when
+/// candor fails.
+fn pack_examples(deals: &[&str], out: &Path, title: &str) {
+    let files: Vec<PathBuf> = deals.iter().map(|f| example(f)).collect();
+    let mut args: Vec<&str> = vec!["pack"];
+    args.extend(files.iter().map(|f| s(f)));
+    args.extend(["-o", s(out), "--title", title]);
+    let run = candor(&args);
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+}
+
 const DEALS: [(&str, &str); 3] = [
     ("brannock-mill-hydro.yaml", "Brannock Mill hydro scheme"),
     ("corrie-vale-quarry.yaml", "Corrie Vale quarry"),
@@ -26,20 +41,8 @@ const DEALS: [(&str, &str); 3] = [
 fn three_deals_make_one_pack() {
     let dir = tempfile::tempdir().expect("tempdir");
     let out = dir.path().join("pack.pdf");
-    let files: Vec<String> = DEALS
-        .iter()
-        .map(|(f, _)| example(f).to_string_lossy().to_string())
-        .collect();
-    let mut args: Vec<&str> = vec!["pack"];
-    args.extend(files.iter().map(String::as_str));
-    let out_s = out.to_string_lossy().to_string();
-    args.extend(["-o", &out_s, "--title", "December committee"]);
-    let run = candor(&args);
-    assert!(
-        run.status.success(),
-        "{}",
-        String::from_utf8_lossy(&run.stderr)
-    );
+    let deals: Vec<&str> = DEALS.iter().map(|(f, _)| *f).collect();
+    pack_examples(&deals, &out, "December committee");
     let t = text(&out);
     assert!(t.contains("December committee"));
     assert!(t.contains("Summary of the deals"));
@@ -105,6 +108,79 @@ fn three_deals_make_one_pack() {
         );
     }
     assert_eq!(attached.len(), DEALS.len() + 1);
+}
+
+/// The memos are typeset one by one and joined: the joined file still reads as one
+/// document, with page numbers running from the cover to the last memo ("page N of
+/// TOTAL" on every page), one bookmark per deal at its memo's first page, the contents
+/// linking to those pages, and one output intent and one metadata stream for the
+/// whole file (PDF/A-3b, ISO 19005-3: one of each in the catalog), every attachment in
+/// the catalog's AF array with its relationship.
+#[test]
+fn a_joined_pack_reads_as_one_document() {
+    let dir = tempfile::tempdir().expect("tempdir");
+    let out = dir.path().join("pack.pdf");
+    // A deal twice: the same memo must still get its own pages and bookmark.
+    let deals: Vec<&str> = DEALS.iter().map(|(f, _)| *f).chain([DEALS[0].0]).collect();
+    pack_examples(&deals, &out, "Joined");
+    let pdf = Pdf::open(&out);
+    pdf.check_structure();
+    let total = pdf.pages();
+    for p in 1..=total {
+        let words = pdf.page_text(p);
+        assert!(
+            words.contains(&format!("page {p} of {total}")),
+            "page {p} does not say so: {words}"
+        );
+    }
+    // Where each memo starts, from its own first page.
+    let starts: Vec<usize> = (1..=total)
+        .filter(|&p| pdf.page_text(p).contains("INVESTMENT COMMITTEE MEMO"))
+        .collect();
+    assert_eq!(starts.len(), 4, "{starts:?}");
+    let names: Vec<&str> = DEALS.iter().map(|(_, n)| *n).chain([DEALS[0].1]).collect();
+    for (&start, name) in starts.iter().zip(&names) {
+        assert!(
+            pdf.page_text(start).contains(name),
+            "{name} at page {start}"
+        );
+    }
+    let deal_marks: Vec<(String, Option<usize>)> = pdf
+        .outline()
+        .into_iter()
+        .filter(|(title, _)| names.contains(&title.as_str()))
+        .collect();
+    assert_eq!(
+        deal_marks,
+        names
+            .iter()
+            .zip(&starts)
+            .map(|(n, &p)| (n.to_string(), Some(p)))
+            .collect::<Vec<_>>()
+    );
+    let contents = (1..starts[0])
+        .find(|&p| pdf.page_text(p).contains("Contents"))
+        .expect("a contents page");
+    let lines = pdf.page_text(contents);
+    for (k, (name, start)) in names.iter().zip(&starts).enumerate() {
+        let line = format!("{}. {name}", k + 1);
+        assert!(
+            lines.contains(&line),
+            "{line:?} not in the contents: {lines}"
+        );
+        assert!(lines.contains(&format!(" {start}")), "{start}: {lines}");
+    }
+    // Typst writes one annotation per piece of a link's line (name, dots, number).
+    let mut links = pdf.links(contents);
+    links.dedup();
+    assert_eq!(links, starts.iter().map(|&p| Some(p)).collect::<Vec<_>>());
+    assert_eq!(pdf.catalog_array("OutputIntents").0, 1);
+    let (af, related) = pdf.catalog_array("AF");
+    assert_eq!(af, pdf.attachments().len());
+    assert!(related, "an attachment without AFRelationship");
+    let xmp = pdf.xmp();
+    assert!(xmp.contains("Joined"), "{xmp}");
+    assert!(xmp.contains("pdfaid:part") && xmp.contains('3'), "{xmp}");
 }
 
 fn broken_copy(dir: &Path) -> PathBuf {

@@ -277,14 +277,100 @@ impl Pdf {
         String::from_utf8(bytes).expect("XMP is UTF-8")
     }
 
+    /// The page number (from 1) of a destination: an explicit destination array
+    /// `[page /XYZ ...]` (PDF 32000-1, 12.3.2.2), given directly or by reference.
+    fn destination_page(&self, dest: &Object) -> Option<usize> {
+        let (_, dest) = self.doc.dereference(dest).ok()?;
+        let page = dest.as_array().ok()?.first()?.as_reference().ok()?;
+        self.doc
+            .get_pages()
+            .into_iter()
+            .find(|(_, id)| *id == page)
+            .map(|(n, _)| n as usize)
+    }
+
+    /// The catalog's dictionary `key` (`Outlines`, `Names`), directly or by reference.
+    fn catalog_dict(&self, key: &[u8]) -> Option<&Dictionary> {
+        let catalog = self.doc.catalog().expect("catalog");
+        catalog
+            .get_deref(key, &self.doc)
+            .and_then(Object::as_dict)
+            .ok()
+    }
+
+    /// The top-level entries of the document outline (bookmarks): title and the page
+    /// each goes to, in order.
+    pub fn outline(&self) -> Vec<(String, Option<usize>)> {
+        let Some(root) = self.catalog_dict(b"Outlines") else {
+            return Vec::new();
+        };
+        let mut out = Vec::new();
+        let mut next = root.get(b"First").ok().cloned();
+        while let Some(item) = next {
+            let (_, item) = self.doc.dereference(&item).expect("outline entry");
+            let item = item.as_dict().expect("outline entry dictionary");
+            let title = item
+                .get(b"Title")
+                .map(|t| lopdf::decode_text_string(t).expect("title"))
+                .unwrap_or_default();
+            let page = item
+                .get(b"Dest")
+                .ok()
+                .and_then(|d| self.destination_page(d));
+            out.push((title, page));
+            assert!(out.len() < 100_000, "the outline does not end");
+            next = item.get(b"Next").ok().cloned();
+        }
+        out
+    }
+
+    /// The pages the link annotations of page `number` go to, in order.
+    pub fn links(&self, number: usize) -> Vec<Option<usize>> {
+        let pages = self.doc.get_pages();
+        let page = self
+            .doc
+            .get_dictionary(pages[&(number as u32)])
+            .expect("page");
+        let Ok(annots) = page
+            .get_deref(b"Annots", &self.doc)
+            .and_then(Object::as_array)
+        else {
+            return Vec::new();
+        };
+        annots
+            .iter()
+            .filter_map(|a| self.doc.dereference(a).ok())
+            .filter_map(|(_, a)| a.as_dict().ok())
+            .filter(|a| a.get(b"Subtype").and_then(Object::as_name).ok() == Some(b"Link"))
+            .map(|a| a.get(b"Dest").ok().and_then(|d| self.destination_page(d)))
+            .collect()
+    }
+
+    /// How many entries the catalog's array `key` has (`OutputIntents`, `AF`), and for
+    /// `AF` whether each file specification names its relationship to the document
+    /// (`/AFRelationship`, PDF/A-3, ISO 19005-3 6.8).
+    pub fn catalog_array(&self, key: &str) -> (usize, bool) {
+        let catalog = self.doc.catalog().expect("catalog");
+        let Ok(items) = catalog
+            .get_deref(key.as_bytes(), &self.doc)
+            .and_then(Object::as_array)
+        else {
+            return (0, false);
+        };
+        let related = items.iter().all(|i| {
+            self.doc
+                .dereference(i)
+                .ok()
+                .and_then(|(_, d)| d.as_dict().ok())
+                .is_some_and(|d| d.get(b"AFRelationship").is_ok())
+        });
+        (items.len(), related)
+    }
+
     /// The embedded files of the catalog's `/EmbeddedFiles` name tree, in tree order:
     /// (file name, bytes).
     pub fn attachments(&self) -> Vec<(String, Vec<u8>)> {
-        let catalog = self.doc.catalog().expect("catalog");
-        let Ok(names) = catalog
-            .get_deref(b"Names", &self.doc)
-            .and_then(Object::as_dict)
-        else {
+        let Some(names) = self.catalog_dict(b"Names") else {
             return Vec::new();
         };
         let Ok(tree) = names
